@@ -1,0 +1,120 @@
+//! Findings: what the assessment reports, located on the path.
+
+use serde::Serialize;
+
+/// The kind of a finding. The names are fixed: scripts match on them.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Kind {
+    Input,
+    Unreachable,
+    JointJump,
+    JointLimit,
+    NearJointLimit,
+    Singularity,
+    ToolAngularSpeed,
+    JointSpeed,
+}
+
+impl Kind {
+    /// The fixed name, as in JSON.
+    pub fn name(self) -> &'static str {
+        match self {
+            Kind::Input => "input",
+            Kind::Unreachable => "unreachable",
+            Kind::JointJump => "joint_jump",
+            Kind::JointLimit => "joint_limit",
+            Kind::NearJointLimit => "near_joint_limit",
+            Kind::Singularity => "singularity",
+            Kind::ToolAngularSpeed => "tool_angular_speed",
+            Kind::JointSpeed => "joint_speed",
+        }
+    }
+
+    /// Severity of every finding of this kind.
+    pub fn severity(self) -> Severity {
+        match self {
+            Kind::Input | Kind::NearJointLimit | Kind::Singularity => Severity::Warning,
+            _ => Severity::Error,
+        }
+    }
+}
+
+/// How bad a finding is: errors fail the check (exit 1), warnings do not.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Severity {
+    Warning,
+    Error,
+}
+
+/// What physical quantity a finding's value measures; the report converts SI values to the
+/// display unit of the quantity (deg, mm, deg/s, mm/s) once, at the edge.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Quantity {
+    /// rad → deg
+    Angle,
+    /// m → mm
+    Length,
+    /// rad/s → deg/s
+    AngularSpeed,
+    /// m/s → mm/s
+    Speed,
+    /// dimensionless
+    Number,
+}
+
+impl Quantity {
+    /// Display unit name, as in the JSON `unit` field.
+    pub fn unit(self) -> &'static str {
+        match self {
+            Quantity::Angle => "deg",
+            Quantity::Length => "mm",
+            Quantity::AngularSpeed => "deg/s",
+            Quantity::Speed => "mm/s",
+            Quantity::Number => "none",
+        }
+    }
+
+    /// Convert an SI value to the display unit.
+    pub fn display(self, si: f64) -> f64 {
+        match self {
+            Quantity::Angle | Quantity::AngularSpeed => si.to_degrees(),
+            Quantity::Length | Quantity::Speed => si * 1e3,
+            Quantity::Number => si,
+        }
+    }
+}
+
+/// A located finding. Values are SI; see [`Quantity`].
+#[derive(Debug, Clone)]
+pub struct Finding {
+    pub kind: Kind,
+    /// Segment index (0-based), `None` for input findings not tied to a segment.
+    pub segment: Option<usize>,
+    /// Names of the waypoints the segment runs between.
+    pub from: Option<String>,
+    pub to: Option<String>,
+    /// First and last sample index of the run.
+    pub samples: Option<[usize; 2]>,
+    /// Path distance (m) and time (s) at the first and last sample.
+    pub s: Option<[f64; 2]>,
+    pub t: Option<[f64; 2]>,
+    /// Joint name, for joint findings.
+    pub joint: Option<String>,
+    /// The worst value over the run, and the limit it is compared with.
+    pub value: Option<f64>,
+    pub limit: Option<f64>,
+    pub quantity: Quantity,
+    /// Sample index where the worst value occurs.
+    pub worst_sample: Option<usize>,
+    /// What happened and what to try.
+    pub message: String,
+}
+
+impl Finding {
+    pub fn severity(&self) -> Severity {
+        self.kind.severity()
+    }
+}

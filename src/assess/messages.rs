@@ -1,0 +1,218 @@
+//! Turning runs into findings with messages that say what happened and what to try.
+
+use super::{Finding, Kind, Quantity, Run};
+use crate::job::Job;
+use crate::plan::Plan;
+use crate::robot::{JointKind, Robot, SingularityClass};
+
+fn quantity_of(run: &Run, robot: &Robot) -> Quantity {
+    let prismatic = run
+        .joint
+        .map(|j| robot.joints()[j].kind == JointKind::Prismatic)
+        .unwrap_or(false);
+    match run.kind {
+        Kind::Unreachable => Quantity::Length,
+        Kind::JointLimit | Kind::NearJointLimit if prismatic => Quantity::Length,
+        Kind::JointLimit | Kind::NearJointLimit => Quantity::Angle,
+        Kind::JointJump => Quantity::Angle,
+        Kind::Singularity => Quantity::Number,
+        Kind::ToolAngularSpeed => Quantity::AngularSpeed,
+        Kind::JointSpeed if prismatic => Quantity::Speed,
+        Kind::JointSpeed => Quantity::AngularSpeed,
+        Kind::Input => Quantity::Number,
+    }
+}
+
+/// A value with its display unit, e.g. `372.0°` or `12.5 mm`.
+fn show(q: Quantity, si: f64) -> String {
+    let v = q.display(si);
+    match q {
+        Quantity::Angle => format!("{v:.1}°"),
+        Quantity::Length => format!("{v:.2} mm"),
+        Quantity::AngularSpeed => format!("{v:.1} deg/s"),
+        Quantity::Speed => format!("{v:.1} mm/s"),
+        Quantity::Number => format!("{v:.4}"),
+    }
+}
+
+fn range_text(robot: &Robot, k: usize) -> String {
+    let j = &robot.joints()[k];
+    let q = if j.kind == JointKind::Prismatic {
+        Quantity::Length
+    } else {
+        Quantity::Angle
+    };
+    format!("{} … {}", show(q, j.lower), show(q, j.upper))
+}
+
+fn wp_name(job: &Job, i: usize) -> String {
+    job.waypoints
+        .get(i)
+        .map(|w| w.name.clone())
+        .unwrap_or_default()
+}
+
+/// Build the finding for a closed run.
+pub(super) fn finding(robot: &Robot, job: &Job, plan: &Plan, run: &Run) -> Finding {
+    let q = quantity_of(run, robot);
+    let seg = &plan.segments.get(run.segment);
+    let from = wp_name(job, run.segment);
+    let to = wp_name(job, run.segment + 1);
+    let joint_name = run.joint.map(|k| robot.joints()[k].name.clone());
+    let jn = joint_name.clone().unwrap_or_default();
+    let where_ = if plan.segments.is_empty() {
+        format!("at {from}")
+    } else {
+        format!("between {from} and {to}")
+    };
+    let message = match run.kind {
+        Kind::Unreachable => format!(
+            "the arm cannot reach the path {where_} within its joint limits (closest approach {} and {:.2}° off): \
+             move the work frame or the part closer to the robot, or check this waypoint and the tool offset",
+            show(Quantity::Length, run.value),
+            run.orientation_error.to_degrees()
+        ),
+        Kind::JointLimit => format!(
+            "following the path continuously, {jn} would need {} but its range is {}: \
+             start in another arm configuration or winding (start_joints), or turn the tool about its axis if the process allows",
+            show(q, run.value),
+            range_text(robot, run.joint.unwrap_or(0))
+        ),
+        Kind::NearJointLimit => {
+            let margin = (run.value - run.limit).abs();
+            format!(
+                "{jn} comes within {} of its limit {} ({}): little room to touch up points on the cell; \
+                 consider another configuration or moving the part",
+                show(q, margin),
+                show(q, run.limit),
+                show(q, run.value)
+            )
+        }
+        Kind::JointJump => {
+            let deltas: Vec<String> = robot
+                .joints()
+                .iter()
+                .zip(run.delta.iter())
+                .filter(|(_, d)| d.abs() > 1e-3)
+                .map(|(j, d)| {
+                    let qq = if j.kind == JointKind::Prismatic {
+                        Quantity::Length
+                    } else {
+                        Quantity::Angle
+                    };
+                    format!("{} {:+.1}{}", j.name, qq.display(*d), if qq == Quantity::Angle { "°" } else { " mm" })
+                })
+                .collect();
+            format!(
+                "the joint path jumps {where_} ({}): the arm would have to change configuration mid-path, \
+                 which a linear move cannot do; start in a configuration that runs the whole path, \
+                 or split the path with a joint move at this point",
+                deltas.join(", ")
+            )
+        }
+        Kind::Singularity => {
+            let class = match run.class {
+                Some(SingularityClass::Wrist) => {
+                    "a wrist singularity (axes 4 and 6 nearly aligned): tilt the tool a few degrees so the wrist stays bent, or shift the path sideways"
+                }
+                Some(SingularityClass::Elbow) => {
+                    "an elbow singularity (arm nearly stretched or folded): move the path closer to the robot or away from the edge of its reach"
+                }
+                Some(SingularityClass::Shoulder) => {
+                    "a shoulder singularity (wrist centre near axis 1): move the path away from the robot's first axis"
+                }
+                None => "a singularity: move the path or change the tool orientation so the arm keeps away from it",
+            };
+            format!(
+                "the arm passes near {class}; measure {} below the threshold {} — joint speeds rise sharply here",
+                show(Quantity::Number, run.value),
+                show(Quantity::Number, run.limit)
+            )
+        }
+        Kind::ToolAngularSpeed => {
+            let factor = run.limit / run.value;
+            let speed = seg.map(|s| s.speed).unwrap_or(job.speed);
+            format!(
+                "the tool turns at {} (limit {}): run this segment at {} or slower ({:.0} % of the programmed speed), \
+                 or spread the reorientation over a longer stretch",
+                show(q, run.value),
+                show(q, run.limit),
+                show(Quantity::Speed, speed * factor),
+                factor * 100.0
+            )
+        }
+        Kind::JointSpeed => {
+            let factor = 1.0 / run.value.max(f64::MIN_POSITIVE) * run.limit;
+            let speed = seg.map(|s| s.speed).unwrap_or(job.speed);
+            format!(
+                "{jn} would move at {} ({:.2}× its allowed {}): slow this segment to {} or less (speed factor {:.2}), \
+                 or avoid the pose that makes {jn} fast (often a nearby singularity)",
+                show(q, run.value),
+                run.value / run.limit,
+                show(q, run.limit),
+                show(Quantity::Speed, speed * factor),
+                factor
+            )
+        }
+        Kind::Input => String::new(),
+    };
+    Finding {
+        kind: run.kind,
+        segment: Some(run.segment),
+        from: Some(from),
+        to: Some(to),
+        samples: Some([run.first, run.last]),
+        s: Some(run.s),
+        t: Some(run.t),
+        joint: joint_name,
+        value: Some(run.value),
+        limit: Some(run.limit),
+        quantity: q,
+        worst_sample: Some(run.worst_sample),
+        message,
+    }
+}
+
+/// Input findings: the job's warnings and half-turn orientation changes in the plan.
+pub(super) fn input_findings(job: &Job, plan: &Plan) -> Vec<Finding> {
+    let mut out = Vec::new();
+    let make = |segment: Option<usize>, message: String| Finding {
+        kind: Kind::Input,
+        segment,
+        from: segment.map(|s| wp_name(job, s)),
+        to: segment.map(|s| wp_name(job, s + 1)),
+        samples: None,
+        s: None,
+        t: None,
+        joint: None,
+        value: None,
+        limit: None,
+        quantity: Quantity::Number,
+        worst_sample: None,
+        message,
+    };
+    for w in &job.warnings {
+        let segment = w.waypoint.map(|i| i.saturating_sub(1));
+        out.push(make(segment, format!("{}: {}", w.location, w.message)));
+    }
+    for seg in &plan.segments {
+        if seg.geodesic.is_near_half_turn() {
+            let axis = seg
+                .geodesic
+                .axis()
+                .map(|a| format!("[{:.3}, {:.3}, {:.3}]", a.x, a.y, a.z))
+                .unwrap_or_default();
+            out.push(make(
+                Some(seg.index),
+                format!(
+                    "the tool turns by a half turn (180°) from {} to {}: no rotation is the unique shortest; \
+                     armpath turns about the axis {axis} of the start orientation (the one whose largest component is positive); \
+                     add a waypoint in between to choose the direction",
+                    wp_name(job, seg.index),
+                    wp_name(job, seg.index + 1)
+                ),
+            ));
+        }
+    }
+    out
+}

@@ -1,0 +1,339 @@
+//! Assessment: turns solved samples into located findings.
+//!
+//! Every per-sample check raises a flag for a (kind, joint) pair; consecutive flagged samples
+//! of one pair within one segment merge into one run, and each run becomes one finding that
+//! carries its extent (samples, path distance, time), its worst value and a message saying
+//! what to try. The assessor sees one sample at a time and keeps only the open runs.
+
+mod finding;
+mod messages;
+
+pub use finding::{Finding, Kind, Quantity, Severity};
+
+use crate::job::{Job, Motion};
+use crate::plan::Plan;
+use crate::robot::{Robot, SingularityClass, MAX_DOF};
+use crate::solve::{Reach, SampleRecord, SampleSink};
+
+/// Singularity-measure threshold below which a `singularity` warning is raised. On the demo
+/// arm 0.01 corresponds to the wrist within about 3.5° of alignment (axes 4 and 6), where
+/// joints 4 and 6 turn about 16 times faster than the tool.
+pub const DEFAULT_SINGULARITY_THRESHOLD: f64 = 0.01;
+
+/// Speeds within this relative tolerance of their limit count as at the limit, not above:
+/// a segment timed exactly at a limit must not be flagged through rounding.
+const SPEED_TOLERANCE: f64 = 1e-9;
+
+/// Thresholds of the assessment, SI.
+#[derive(Debug, Clone, Copy)]
+pub struct Thresholds {
+    /// Singularity measure below which a warning is raised.
+    pub singularity: f64,
+    /// IK position tolerance (m), reported as the limit of `unreachable` findings.
+    pub position_tolerance: f64,
+}
+
+impl Default for Thresholds {
+    fn default() -> Self {
+        Thresholds {
+            singularity: DEFAULT_SINGULARITY_THRESHOLD,
+            position_tolerance: crate::ik::IkOptions::default().position_tolerance,
+        }
+    }
+}
+
+/// Extremes over the whole path, for the summary.
+#[derive(Debug, Clone, Copy)]
+pub struct Extremes {
+    /// Smallest singularity measure over reached samples, and where.
+    pub min_singularity: f64,
+    pub min_singularity_sample: Option<usize>,
+    pub min_singularity_class: Option<SingularityClass>,
+    /// Path distance (m) of that sample.
+    pub min_singularity_s: Option<f64>,
+    /// Largest tool angular speed on linear segments (rad/s), and where.
+    pub max_tool_angular_speed: f64,
+    pub max_tool_angular_speed_sample: Option<usize>,
+    /// Largest joint speed over its allowed speed (velocity × scale), which joint, where.
+    pub max_joint_speed_ratio: f64,
+    pub max_joint_speed_joint: Option<usize>,
+    pub max_joint_speed_sample: Option<usize>,
+    /// Smallest margin to a joint limit over its half range (1 at mid-range, < 0 outside).
+    pub min_limit_margin_ratio: f64,
+    pub min_limit_margin_joint: Option<usize>,
+}
+
+impl Default for Extremes {
+    fn default() -> Self {
+        Extremes {
+            min_singularity: f64::INFINITY,
+            min_singularity_sample: None,
+            min_singularity_class: None,
+            min_singularity_s: None,
+            max_tool_angular_speed: 0.0,
+            max_tool_angular_speed_sample: None,
+            max_joint_speed_ratio: 0.0,
+            max_joint_speed_joint: None,
+            max_joint_speed_sample: None,
+            min_limit_margin_ratio: f64::INFINITY,
+            min_limit_margin_joint: None,
+        }
+    }
+}
+
+/// An open run of flagged samples.
+#[derive(Debug, Clone, Copy)]
+pub(crate) struct Run {
+    pub kind: Kind,
+    pub joint: Option<usize>,
+    pub segment: usize,
+    pub first: usize,
+    pub last: usize,
+    pub s: [f64; 2],
+    pub t: [f64; 2],
+    /// Worst value for ordering (larger = worse) and the value/limit to report.
+    pub badness: f64,
+    pub value: f64,
+    pub limit: f64,
+    pub worst_sample: usize,
+    /// Extra facts for the message.
+    pub class: Option<SingularityClass>,
+    pub delta: [f64; MAX_DOF],
+    pub orientation_error: f64,
+    pub seen: bool,
+}
+
+/// One flag raised by a sample.
+struct Flag {
+    kind: Kind,
+    joint: Option<usize>,
+    badness: f64,
+    value: f64,
+    limit: f64,
+    class: Option<SingularityClass>,
+    delta: [f64; MAX_DOF],
+    orientation_error: f64,
+}
+
+impl Flag {
+    fn new(kind: Kind, joint: Option<usize>, badness: f64, value: f64, limit: f64) -> Self {
+        Flag {
+            kind,
+            joint,
+            badness,
+            value,
+            limit,
+            class: None,
+            delta: [0.0; MAX_DOF],
+            orientation_error: 0.0,
+        }
+    }
+}
+
+/// The assessor: a [`SampleSink`] that collects findings and extremes.
+pub struct Assessor<'a> {
+    job: &'a Job,
+    plan: &'a Plan,
+    thresholds: Thresholds,
+    open: Vec<Run>,
+    findings: Vec<Finding>,
+    extremes: Extremes,
+    segment: usize,
+}
+
+impl<'a> Assessor<'a> {
+    pub fn new(job: &'a Job, plan: &'a Plan, thresholds: Thresholds) -> Self {
+        Assessor {
+            job,
+            plan,
+            thresholds,
+            open: Vec::with_capacity(4 * MAX_DOF),
+            findings: Vec::new(),
+            extremes: Extremes::default(),
+            segment: 0,
+        }
+    }
+
+    fn raise(&mut self, rec: &SampleRecord, f: Flag) {
+        if let Some(run) = self
+            .open
+            .iter_mut()
+            .find(|r| r.kind == f.kind && r.joint == f.joint)
+        {
+            run.last = rec.index;
+            run.s[1] = rec.s;
+            run.t[1] = rec.t;
+            run.seen = true;
+            if f.badness > run.badness {
+                run.badness = f.badness;
+                run.value = f.value;
+                run.limit = f.limit;
+                run.worst_sample = rec.index;
+                run.class = f.class.or(run.class);
+                run.delta = f.delta;
+                run.orientation_error = f.orientation_error;
+            }
+            return;
+        }
+        self.open.push(Run {
+            kind: f.kind,
+            joint: f.joint,
+            segment: rec.segment,
+            first: rec.index,
+            last: rec.index,
+            s: [rec.s, rec.s],
+            t: [rec.t, rec.t],
+            badness: f.badness,
+            value: f.value,
+            limit: f.limit,
+            worst_sample: rec.index,
+            class: f.class,
+            delta: f.delta,
+            orientation_error: f.orientation_error,
+            seen: true,
+        });
+    }
+
+    fn close_unseen(&mut self, robot: &Robot) {
+        let mut i = 0;
+        while i < self.open.len() {
+            if self.open[i].seen {
+                self.open[i].seen = false;
+                i += 1;
+            } else {
+                let run = self.open.swap_remove(i);
+                self.close(robot, run);
+            }
+        }
+    }
+
+    fn close(&mut self, robot: &Robot, run: Run) {
+        let finding = messages::finding(robot, self.job, self.plan, &run);
+        self.findings.push(finding);
+    }
+
+    /// Close every open run and return the findings in path order (input findings about the
+    /// file first), with the extremes.
+    pub fn finish(mut self, robot: &Robot) -> (Vec<Finding>, Extremes) {
+        for run in std::mem::take(&mut self.open) {
+            self.close(robot, run);
+        }
+        let mut findings = messages::input_findings(self.job, self.plan);
+        findings.append(&mut self.findings);
+        findings.sort_by(|a, b| {
+            let key = |f: &Finding| (f.samples.map(|s| s[0]), f.kind, f.joint.clone());
+            key(a).cmp(&key(b))
+        });
+        (findings, self.extremes)
+    }
+}
+
+impl SampleSink for Assessor<'_> {
+    fn sample(&mut self, robot: &Robot, rec: &SampleRecord) {
+        if rec.segment != self.segment {
+            // Runs never cross a segment boundary: each finding names one segment.
+            for run in std::mem::take(&mut self.open) {
+                self.close(robot, run);
+            }
+            self.segment = rec.segment;
+        }
+        if rec.reach == Reach::Unreachable {
+            let mut f = Flag::new(
+                Kind::Unreachable,
+                None,
+                rec.position_error + rec.orientation_error * robot.reach(),
+                rec.position_error,
+                self.thresholds.position_tolerance,
+            );
+            f.orientation_error = rec.orientation_error;
+            self.raise(rec, f);
+            self.close_unseen(robot);
+            return;
+        }
+        let limits = &self.job.limits;
+        for (k, j) in robot.joints().iter().enumerate() {
+            let q = rec.joints[k];
+            let half = 0.5 * (j.upper - j.lower);
+            if half.is_finite() && half > 0.0 {
+                let ratio = j.margin(q) / half;
+                if ratio < self.extremes.min_limit_margin_ratio {
+                    self.extremes.min_limit_margin_ratio = ratio;
+                    self.extremes.min_limit_margin_joint = Some(k);
+                }
+            }
+            let bound = if q - j.lower < j.upper - q {
+                j.lower
+            } else {
+                j.upper
+            };
+            if !j.contains(q) {
+                self.raise(
+                    rec,
+                    Flag::new(Kind::JointLimit, Some(k), (q - bound).abs(), q, bound),
+                );
+            } else {
+                let near = if j.kind.is_prismatic() {
+                    limits.near_limit_margin_length
+                } else {
+                    limits.near_limit_margin_angle
+                };
+                if j.margin(q) < near {
+                    self.raise(
+                        rec,
+                        Flag::new(Kind::NearJointLimit, Some(k), -j.margin(q), q, bound),
+                    );
+                }
+            }
+        }
+        if let Some(jump) = rec.jump {
+            let biggest = jump.delta[..robot.dof()]
+                .iter()
+                .fold(0.0f64, |m, d| m.max(d.abs()));
+            let mut f = Flag::new(Kind::JointJump, None, biggest, biggest, 0.0);
+            f.delta = jump.delta;
+            self.raise(rec, f);
+        }
+        if rec.singularity < self.extremes.min_singularity {
+            self.extremes.min_singularity = rec.singularity;
+            self.extremes.min_singularity_sample = Some(rec.index);
+            self.extremes.min_singularity_class = rec.singularity_class;
+            self.extremes.min_singularity_s = Some(rec.s);
+        }
+        if rec.singularity < self.thresholds.singularity {
+            let mut f = Flag::new(
+                Kind::Singularity,
+                None,
+                -rec.singularity,
+                rec.singularity,
+                self.thresholds.singularity,
+            );
+            f.class = rec.singularity_class;
+            self.raise(rec, f);
+        }
+        if rec.motion == Motion::Linear {
+            let w = rec.tool_angular_speed;
+            if w > self.extremes.max_tool_angular_speed {
+                self.extremes.max_tool_angular_speed = w;
+                self.extremes.max_tool_angular_speed_sample = Some(rec.index);
+            }
+            let lim = limits.tool_angular_speed;
+            if w > lim * (1.0 + SPEED_TOLERANCE) {
+                self.raise(rec, Flag::new(Kind::ToolAngularSpeed, None, w / lim, w, lim));
+            }
+        }
+        for (k, j) in robot.joints().iter().enumerate() {
+            let allowed = j.velocity * limits.joint_speed_scale;
+            let v = rec.joint_speed[k].abs();
+            let ratio = v / allowed;
+            if ratio > self.extremes.max_joint_speed_ratio {
+                self.extremes.max_joint_speed_ratio = ratio;
+                self.extremes.max_joint_speed_joint = Some(k);
+                self.extremes.max_joint_speed_sample = Some(rec.index);
+            }
+            if ratio > 1.0 + SPEED_TOLERANCE {
+                self.raise(rec, Flag::new(Kind::JointSpeed, Some(k), ratio, v, allowed));
+            }
+        }
+        self.close_unseen(robot);
+    }
+}

@@ -1,0 +1,164 @@
+//! The validated job: everything `check` needs besides the robot, in SI units and nalgebra
+//! types. Built once from a path file (YAML or CSV) plus command-line overrides; nothing
+//! downstream re-validates or sees mm, degrees or file syntax.
+
+use nalgebra::Isometry3;
+use std::path::PathBuf;
+
+mod csv_file;
+mod units;
+mod yaml;
+
+pub use units::Units;
+pub use yaml::{load, Overrides};
+
+/// How the TCP moves from the previous waypoint to this one.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Motion {
+    /// Straight line in position, geodesic in orientation (the default).
+    Linear,
+    /// Joint-space interpolation to the IK solution nearest the previous joints.
+    Joint,
+}
+
+/// One programmed pose.
+#[derive(Debug, Clone)]
+pub struct Waypoint {
+    /// Name from the file, or `wp<index>` (1-based) when none was given.
+    pub name: String,
+    /// Pose of the TCP in the work frame.
+    pub work_T_tcp: Isometry3<f64>,
+    /// Motion of the segment that ends at this waypoint (ignored on the first waypoint).
+    pub motion: Motion,
+    /// TCP speed (m/s) of the segment ending here; `None` = the job's speed.
+    pub speed: Option<f64>,
+    /// The segment ending here is a process segment (constant speed required).
+    pub process: bool,
+    /// Where the waypoint came from, for messages: `waypoints[3]` or `seam.csv line 5`.
+    pub origin: String,
+}
+
+/// The tool mounted on the tip link.
+#[derive(Debug, Clone)]
+pub struct Tool {
+    /// Pose of the TCP in the tip-link frame.
+    pub tip_T_tcp: Isometry3<f64>,
+    /// The process does not care about rotation about the tool z axis.
+    pub free_spin: bool,
+    /// Allowed spin about tool z (rad), `[min, max]`.
+    pub spin_range: (f64, f64),
+    /// Largest allowed rate of spin change (rad/s), `None` = unlimited.
+    pub spin_rate: Option<f64>,
+}
+
+/// Limits the assessment applies.
+#[derive(Debug, Clone, Copy)]
+pub struct Limits {
+    /// Largest tool angular speed (rad/s).
+    pub tool_angular_speed: f64,
+    /// Fraction of each URDF joint velocity limit that may be used (0, 1].
+    pub joint_speed_scale: f64,
+    /// Margin to a revolute joint's limit that raises `near_joint_limit` (rad).
+    pub near_limit_margin_angle: f64,
+    /// Margin to a prismatic joint's limit that raises `near_joint_limit` (m).
+    pub near_limit_margin_length: f64,
+}
+
+/// Sampling density along the path.
+#[derive(Debug, Clone, Copy)]
+pub struct Sampling {
+    /// Largest TCP distance between consecutive samples (m).
+    pub step: f64,
+    /// Largest orientation change between consecutive samples (rad).
+    pub angle_step: f64,
+}
+
+/// Requested arm configuration for the first pose (analytic solvers), each `None` = free.
+#[derive(Debug, Clone, Copy, Default, PartialEq, Eq)]
+pub struct ConfigRequest {
+    /// `Some(true)` = shoulder front, `Some(false)` = back.
+    pub shoulder_front: Option<bool>,
+    /// `Some(true)` = elbow up, `Some(false)` = down.
+    pub elbow_up: Option<bool>,
+    /// `Some(true)` = wrist flip, `Some(false)` = noflip.
+    pub wrist_flip: Option<bool>,
+}
+
+/// Joint values given by the user, kept in file units until the robot says which joints are
+/// prismatic (see [`StartJoints::to_si`]).
+#[derive(Debug, Clone)]
+pub struct StartJoints {
+    pub values: Vec<f64>,
+    /// Multiply a revolute value by this to get rad.
+    pub angle_to_rad: f64,
+    /// Multiply a prismatic value by this to get m.
+    pub length_to_m: f64,
+    /// Field name for messages (`start_joints`).
+    pub origin: String,
+}
+
+impl StartJoints {
+    /// Values in SI given each joint's kind (`true` = prismatic). Errors (as a message) when the
+    /// count differs from the robot's DOF.
+    pub fn to_si(&self, prismatic: &[bool]) -> Result<Vec<f64>, String> {
+        if self.values.len() != prismatic.len() {
+            return Err(format!(
+                "has {} values but the robot has {} joints: give one value per joint",
+                self.values.len(),
+                prismatic.len()
+            ));
+        }
+        Ok(self
+            .values
+            .iter()
+            .zip(prismatic)
+            .map(|(v, &p)| {
+                if p {
+                    v * self.length_to_m
+                } else {
+                    v * self.angle_to_rad
+                }
+            })
+            .collect())
+    }
+}
+
+/// A problem in the input that armpath could work around (reported as an `input` finding).
+#[derive(Debug, Clone, PartialEq)]
+pub struct InputWarning {
+    /// Field path or `file line N`.
+    pub location: String,
+    /// What was done, and what to change to silence it.
+    pub message: String,
+    /// Index of the waypoint concerned, if any.
+    pub waypoint: Option<usize>,
+}
+
+/// A validated job.
+#[derive(Debug, Clone)]
+pub struct Job {
+    /// The path file (YAML or CSV) the job was read from.
+    pub source: PathBuf,
+    /// URDF of the robot: the `--robot` override, else the file's `robot:` resolved against the
+    /// path file's folder.
+    pub robot: PathBuf,
+    /// Tip link of the chain, if chosen.
+    pub tip: Option<String>,
+    pub tool: Tool,
+    /// Pose of the work frame in the robot base frame; waypoints are given in the work frame.
+    pub base_T_work: Isometry3<f64>,
+    pub start_joints: Option<StartJoints>,
+    pub config: ConfigRequest,
+    /// Programmed TCP speed (m/s), > 0.
+    pub speed: f64,
+    /// Programmed reorientation speed (rad/s), > 0, if set.
+    pub orientation_speed: Option<f64>,
+    pub limits: Limits,
+    pub sampling: Sampling,
+    /// The units the file was written in (for echoing values back to the user).
+    pub units: Units,
+    /// At least one waypoint.
+    pub waypoints: Vec<Waypoint>,
+    pub warnings: Vec<InputWarning>,
+}

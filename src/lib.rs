@@ -1,0 +1,25 @@
+//! armpath: checks offline-programmed tool paths for serial robot arms.
+//!
+//! Data flows one way: a robot (URDF → flat chain) and a job (path file → validated SI
+//! settings and waypoints) go into a plan (samples along the path), the plan is solved
+//! (joints per sample), the solution is assessed (located findings) and reported.
+//!
+//! Frames are named in identifiers: `base_T_tcp` is the pose of the TCP in the base frame,
+//! composable left to right (`base_T_tcp = base_T_tip * tip_T_tcp`). The capital `T` carries
+//! that meaning, hence the crate-wide allowance of non-snake-case names.
+#![allow(non_snake_case)]
+
+pub mod assess;
+pub mod check;
+pub mod error;
+pub mod ik;
+pub mod job;
+pub mod output;
+pub mod rng;
+pub mod plan;
+pub mod report;
+pub mod robot;
+pub mod rotation;
+pub mod solve;
+
+pub use error::{Error, Result};

@@ -1,0 +1,412 @@
+//! The `armpath` command: parses flags, builds the job, runs the library, writes the outputs
+//! and picks the exit code (0 pass or warnings, 1 error findings, 2 bad input or usage).
+
+use armpath::check::{check, CheckOptions};
+use armpath::error::{Error, Result};
+use armpath::ik::{IkOptions, NumericIk};
+use armpath::job::{self, Overrides};
+use armpath::output;
+use armpath::report::kinematics::{IkReport, IkSolutionReport, PoseReport, RobotInfo};
+use armpath::report::{render_text, JointsCsv, Style};
+use armpath::robot::{load_urdf, Robot};
+use armpath::solve::SampleSink;
+use clap::{Args, Parser, Subcommand};
+use nalgebra::{Isometry3, Translation3, Vector3};
+use std::io::IsTerminal;
+use std::path::{Path, PathBuf};
+use std::process::ExitCode;
+
+/// Checks offline-programmed tool paths for industrial robot arms: reach, joint limits,
+/// configuration jumps, singularities, tool angular speed and joint speeds.
+#[derive(Parser, Debug)]
+#[command(name = "armpath", version, about, long_about = None)]
+struct Cli {
+    #[command(subcommand)]
+    command: Command,
+}
+
+#[derive(Subcommand, Debug)]
+enum Command {
+    /// Check a tool path (YAML path file, or CSV waypoints with --robot and --speed).
+    Check(CheckArgs),
+    /// Show a robot: joints, ranges, speeds, reach and wrist type.
+    Robot(RobotArgs),
+    /// Forward kinematics: the TCP pose for given joints.
+    Fk(FkArgs),
+    /// Inverse kinematics: joints for a TCP pose.
+    Ik(IkArgs),
+}
+
+#[derive(Args, Debug)]
+struct RobotSel {
+    /// The robot's URDF file.
+    robot: PathBuf,
+    /// Tip link of the chain (default: the only leaf link).
+    #[arg(long, value_name = "LINK")]
+    tip: Option<String>,
+    /// Tool: TCP in the tip-link frame as "x,y,z,roll,pitch,yaw" (mm, deg).
+    #[arg(long, value_name = "X,Y,Z,R,P,Y")]
+    tool: Option<String>,
+}
+
+#[derive(Args, Debug)]
+struct RobotArgs {
+    /// The robot's URDF file.
+    robot: PathBuf,
+    /// Tip link of the chain (default: the only leaf link).
+    #[arg(long, value_name = "LINK")]
+    tip: Option<String>,
+    /// Also write the result as JSON to FILE ('-' for standard output).
+    #[arg(long, value_name = "FILE")]
+    json: Option<PathBuf>,
+}
+
+#[derive(Args, Debug)]
+struct FkArgs {
+    #[command(flatten)]
+    sel: RobotSel,
+    /// Joint values "j1,j2,..." in degrees (mm for prismatic joints).
+    #[arg(long, value_name = "LIST", allow_hyphen_values = true)]
+    joints: String,
+    /// Joint values are in radians (m for prismatic joints).
+    #[arg(long)]
+    rad: bool,
+    /// Also write the result as JSON to FILE ('-' for standard output).
+    #[arg(long, value_name = "FILE")]
+    json: Option<PathBuf>,
+}
+
+#[derive(Args, Debug)]
+struct IkArgs {
+    #[command(flatten)]
+    sel: RobotSel,
+    /// Target TCP pose "x,y,z,qw,qx,qy,qz" (mm; unit quaternion w first) in the base frame.
+    #[arg(long, value_name = "LIST", allow_hyphen_values = true)]
+    pose: String,
+    /// Seed joints "j1,j2,..." (degrees; mm for prismatic); default: a search from many seeds.
+    #[arg(long, value_name = "LIST", allow_hyphen_values = true)]
+    seed: Option<String>,
+    /// Seed joints are in radians (m for prismatic joints).
+    #[arg(long)]
+    rad: bool,
+    /// Also write the result as JSON to FILE ('-' for standard output).
+    #[arg(long, value_name = "FILE")]
+    json: Option<PathBuf>,
+}
+
+#[derive(Args, Debug)]
+struct CheckArgs {
+    /// The path file (.yaml/.yml) or CSV waypoint file (.csv).
+    path: PathBuf,
+    /// Robot URDF (replaces the path file's `robot:`).
+    #[arg(long, value_name = "URDF")]
+    robot: Option<PathBuf>,
+    /// Tip link (replaces `tip:`).
+    #[arg(long, value_name = "LINK")]
+    tip: Option<String>,
+    /// TCP speed, length unit per second (replaces `speed:`).
+    #[arg(long, value_name = "V")]
+    speed: Option<f64>,
+    /// Programmed reorientation speed, angle unit per second.
+    #[arg(long, value_name = "W")]
+    orientation_speed: Option<f64>,
+    /// Tool "x,y,z,roll,pitch,yaw" in the tip-link frame (replaces `tool:` pose).
+    #[arg(long, value_name = "X,Y,Z,R,P,Y", allow_hyphen_values = true)]
+    tool: Option<String>,
+    /// Work frame "x,y,z,roll,pitch,yaw" in the robot base frame (replaces `work_frame:`).
+    #[arg(long, value_name = "X,Y,Z,R,P,Y", allow_hyphen_values = true)]
+    work_frame: Option<String>,
+    /// Joints at the first waypoint "j1,j2,..." (angle unit; length unit for prismatic).
+    #[arg(long, value_name = "LIST", allow_hyphen_values = true)]
+    start_joints: Option<String>,
+    /// Largest tool angular speed, angle unit per second.
+    #[arg(long, value_name = "W")]
+    tool_angular_speed: Option<f64>,
+    /// Fraction of each joint's URDF velocity that may be used, in (0, 1].
+    #[arg(long, value_name = "F")]
+    joint_speed_scale: Option<f64>,
+    /// Largest TCP step between samples, length unit.
+    #[arg(long, value_name = "D")]
+    step: Option<f64>,
+    /// Largest orientation step between samples, angle unit.
+    #[arg(long, value_name = "A")]
+    angle_step: Option<f64>,
+    /// Length unit of the values given on the command line (and of a CSV file): mm or m.
+    #[arg(long, value_name = "UNIT")]
+    length_unit: Option<String>,
+    /// Angle unit of the values given on the command line (and of a CSV file): deg or rad.
+    #[arg(long, value_name = "UNIT")]
+    angle_unit: Option<String>,
+    /// Singularity measure below which a warning is raised (dimensionless, default 0.01).
+    #[arg(long, value_name = "X")]
+    singularity_threshold: Option<f64>,
+    /// Refuse paths that would need more samples than N (default 100000000).
+    #[arg(long, value_name = "N")]
+    max_samples: Option<u64>,
+    /// Write the report as JSON to FILE ('-' for standard output, replacing the text report).
+    #[arg(long, value_name = "FILE")]
+    json: Option<PathBuf>,
+    /// Write the joint trajectory as CSV to FILE.
+    #[arg(long, value_name = "FILE")]
+    joints: Option<PathBuf>,
+    /// Print no text report (the exit code and any files still tell the result).
+    #[arg(long, short)]
+    quiet: bool,
+}
+
+fn main() -> ExitCode {
+    let cli = match Cli::try_parse() {
+        Ok(c) => c,
+        Err(e) => {
+            let _ = e.print();
+            return ExitCode::from(if e.use_stderr() { 2 } else { 0 });
+        }
+    };
+    let result = match cli.command {
+        Command::Check(a) => run_check(a),
+        Command::Robot(a) => run_robot(a),
+        Command::Fk(a) => run_fk(a),
+        Command::Ik(a) => run_ik(a),
+    };
+    match result {
+        Ok(code) => ExitCode::from(code),
+        Err(e) => {
+            eprintln!("armpath: error: {e}");
+            ExitCode::from(2)
+        }
+    }
+}
+
+/// Parse "a,b,c" into numbers; `option` names the flag in messages.
+fn numbers(option: &str, text: &str, count: Option<usize>) -> Result<Vec<f64>> {
+    let values: Vec<f64> = text
+        .split(',')
+        .map(|s| s.trim())
+        .filter(|s| !s.is_empty())
+        .enumerate()
+        .map(|(i, s)| {
+            s.parse::<f64>()
+                .ok()
+                .filter(|v| v.is_finite())
+                .ok_or_else(|| {
+                    Error::usage(
+                        option,
+                        format!("value {} ('{s}') is not a finite number", i + 1),
+                    )
+                })
+        })
+        .collect::<Result<_>>()?;
+    if let Some(n) = count {
+        if values.len() != n {
+            return Err(Error::usage(
+                option,
+                format!(
+                    "expects {n} comma-separated numbers, got {}",
+                    values.len()
+                ),
+            ));
+        }
+    }
+    Ok(values)
+}
+
+fn six(option: &str, text: &Option<String>) -> Result<Option<[f64; 6]>> {
+    text.as_ref()
+        .map(|t| {
+            let v = numbers(option, t, Some(6))?;
+            Ok([v[0], v[1], v[2], v[3], v[4], v[5]])
+        })
+        .transpose()
+}
+
+/// Load the robot and mount the `--tool` (mm, deg).
+fn load_robot(sel: &RobotSel) -> Result<Robot> {
+    let mut robot = load_urdf(&sel.robot, sel.tip.as_deref())?;
+    if let Some(t) = six("--tool", &sel.tool)? {
+        robot.set_tool(Isometry3::from_parts(
+            Translation3::new(t[0] * 1e-3, t[1] * 1e-3, t[2] * 1e-3),
+            armpath::rotation::from_rpy(
+                t[3].to_radians(),
+                t[4].to_radians(),
+                t[5].to_radians(),
+            ),
+        ));
+    }
+    Ok(robot)
+}
+
+/// Joint values from the command line into SI, checking the count.
+fn joints_si(robot: &Robot, option: &str, text: &str, rad: bool) -> Result<Vec<f64>> {
+    let v = numbers(option, text, Some(robot.dof()))?;
+    Ok(robot
+        .joints()
+        .iter()
+        .zip(v)
+        .map(|(j, x)| match (rad, j.kind.is_prismatic()) {
+            (true, _) => x,
+            (false, true) => x * 1e-3,
+            (false, false) => x.to_radians(),
+        })
+        .collect())
+}
+
+fn write_json<T: serde::Serialize>(path: &Path, value: &T) -> Result<()> {
+    let mut text = serde_json::to_string_pretty(value).map_err(|e| {
+        Error::usage("--json", format!("could not serialise the report: {e}"))
+    })?;
+    text.push('\n');
+    output::write_all(path, text.as_bytes())
+}
+
+fn is_stdout(p: &Option<PathBuf>) -> bool {
+    p.as_ref().is_some_and(|p| p.as_os_str() == "-")
+}
+
+fn run_robot(a: RobotArgs) -> Result<u8> {
+    let robot = load_urdf(&a.robot, a.tip.as_deref())?;
+    let info = RobotInfo::new(&robot);
+    if !is_stdout(&a.json) {
+        print!("{}", info.render_text());
+    }
+    if let Some(p) = &a.json {
+        write_json(p, &info)?;
+    }
+    Ok(0)
+}
+
+fn run_fk(a: FkArgs) -> Result<u8> {
+    let robot = load_robot(&a.sel)?;
+    let q = joints_si(&robot, "--joints", &a.joints, a.rad)?;
+    let outside: Vec<&str> = robot
+        .joints()
+        .iter()
+        .zip(&q)
+        .filter(|(j, v)| !j.contains(**v))
+        .map(|(j, _)| j.name.as_str())
+        .collect();
+    let pose = PoseReport::new(&robot.chain().fk(&q));
+    if !is_stdout(&a.json) {
+        print!("{}", pose.render_text());
+        if !outside.is_empty() {
+            println!(
+                "  note  outside the joint range: {} (the pose is computed anyway)",
+                outside.join(", ")
+            );
+        }
+    }
+    if let Some(p) = &a.json {
+        write_json(p, &pose)?;
+    }
+    Ok(0)
+}
+
+fn run_ik(a: IkArgs) -> Result<u8> {
+    let robot = load_robot(&a.sel)?;
+    let p = numbers("--pose", &a.pose, Some(7))?;
+    let (rot, norm) = armpath::rotation::quat_from_wxyz([p[3], p[4], p[5], p[6]]).ok_or_else(
+        || Error::usage("--pose", "the quaternion has zero length: give qw,qx,qy,qz of a rotation"),
+    )?;
+    if (norm - 1.0).abs() > 1e-6 {
+        eprintln!("armpath: note: --pose quaternion had length {norm:.6}; normalised");
+    }
+    let target = Isometry3::from_parts(
+        Translation3::from(Vector3::new(p[0], p[1], p[2]) * 1e-3),
+        rot,
+    );
+    let ik = NumericIk::new(&robot, IkOptions::default());
+    let n = robot.dof();
+    let mut q = vec![0.0; n];
+    let outcome = match &a.seed {
+        Some(s) => {
+            let seed = joints_si(&robot, "--seed", s, a.rad)?;
+            ik.solve(&target, &seed, &mut q)
+        }
+        None => {
+            let mid: Vec<f64> = robot
+                .joints()
+                .iter()
+                .map(|j| {
+                    if j.lower.is_finite() {
+                        0.5 * (j.lower + j.upper)
+                    } else {
+                        0.0
+                    }
+                })
+                .collect();
+            ik.solve_with_restarts(&target, &mid, armpath::solve::RESTARTS, &mut q)
+        }
+    };
+    let report = IkReport {
+        solutions: if outcome.converged {
+            vec![IkSolutionReport::new(&robot, &q, &target)]
+        } else {
+            Vec::new()
+        },
+        solver: "numeric",
+    };
+    if !is_stdout(&a.json) {
+        print!("{}", report.render_text(&robot));
+    }
+    if let Some(p) = &a.json {
+        write_json(p, &report)?;
+    }
+    Ok(if outcome.converged { 0 } else { 1 })
+}
+
+fn run_check(a: CheckArgs) -> Result<u8> {
+    let overrides = Overrides {
+        robot: a.robot.clone(),
+        tip: a.tip.clone(),
+        units_length: a.length_unit.clone(),
+        units_angle: a.angle_unit.clone(),
+        speed: a.speed,
+        orientation_speed: a.orientation_speed,
+        tool: six("--tool", &a.tool)?,
+        work_frame: six("--work-frame", &a.work_frame)?,
+        start_joints: a
+            .start_joints
+            .as_ref()
+            .map(|s| numbers("--start-joints", s, None))
+            .transpose()?,
+        tool_angular_speed: a.tool_angular_speed,
+        joint_speed_scale: a.joint_speed_scale,
+        step: a.step,
+        angle_step: a.angle_step,
+    };
+    let job = job::load(&a.path, &overrides)?;
+    let robot = load_urdf(&job.robot, job.tip.as_deref())?;
+    let mut options = CheckOptions::default();
+    if let Some(t) = a.singularity_threshold {
+        if !(t.is_finite() && t > 0.0 && t < 1.0) {
+            return Err(Error::usage(
+                "--singularity-threshold",
+                format!("{t} is not in (0, 1): the measure runs from 0 (singular) to 1"),
+            ));
+        }
+        options.thresholds.singularity = t;
+    }
+    if let Some(n) = a.max_samples {
+        options.max_samples = n;
+    }
+    // Open outputs before the walk so that a bad output path fails early.
+    let mut csv = a.joints.as_deref().map(JointsCsv::create).transpose()?;
+    let report = {
+        let mut sinks: Vec<&mut dyn SampleSink> = Vec::new();
+        if let Some(c) = csv.as_mut() {
+            sinks.push(c);
+        }
+        check(&job, &robot, &options, &mut sinks)?
+    };
+    if let Some(c) = csv.take() {
+        c.finish()?;
+    }
+    if let Some(p) = &a.json {
+        write_json(p, &report)?;
+    }
+    if !a.quiet && !is_stdout(&a.json) {
+        let stdout = std::io::stdout();
+        let color = stdout.is_terminal() && std::env::var_os("NO_COLOR").is_none();
+        print!("{}", render_text(&report, Style { color }));
+    }
+    Ok(report.exit_code() as u8)
+}

@@ -1,0 +1,199 @@
+//! Reports of the small commands: `robot`, `fk`, `ik`.
+
+use super::{joint_display, RobotReport};
+use crate::robot::{spherical_wrist, Robot};
+use crate::rotation;
+use nalgebra::Isometry3;
+use serde::Serialize;
+use std::fmt::Write;
+
+/// `armpath robot`: the robot and its geometric facts.
+#[derive(Debug, Clone, Serialize)]
+pub struct RobotInfo {
+    #[serde(flatten)]
+    pub robot: RobotReport,
+    /// Wrist centre at the zero configuration (mm, base frame), when spherical.
+    pub wrist_centre_mm: Option<[f64; 3]>,
+    /// Why the wrist is not spherical.
+    pub wrist_note: Option<String>,
+    /// Closed-form solver family, when the arm belongs to one (filled by the caller).
+    pub analytic: Option<serde_json::Value>,
+}
+
+impl RobotInfo {
+    pub fn new(robot: &Robot) -> Self {
+        let w = spherical_wrist(robot);
+        RobotInfo {
+            robot: RobotReport::new(robot),
+            wrist_centre_mm: w.centre_at_zero.map(|c| [c[0] * 1e3, c[1] * 1e3, c[2] * 1e3]),
+            wrist_note: w.reason,
+            analytic: None,
+        }
+    }
+
+    pub fn render_text(&self) -> String {
+        let r = &self.robot;
+        let mut o = String::new();
+        let _ = writeln!(o, "{} · {}", r.name, r.urdf);
+        let _ = writeln!(
+            o,
+            "  chain    {} → {} · {} joints · reach ≈ {:.0} mm (sampled, from joint 1's origin)",
+            r.root_link, r.tip_link, r.dof, r.reach_mm
+        );
+        match (&self.wrist_centre_mm, &self.wrist_note) {
+            (Some(c), _) => {
+                let _ = writeln!(
+                    o,
+                    "  wrist    spherical, centre at zero pose ({:.1}, {:.1}, {:.1}) mm",
+                    c[0], c[1], c[2]
+                );
+            }
+            (None, Some(n)) => {
+                let _ = writeln!(o, "  wrist    not spherical: {n}");
+            }
+            _ => {}
+        }
+        if let Some(a) = &self.analytic {
+            let _ = writeln!(o, "  closed-form IK  {a}");
+        }
+        let _ = writeln!(o);
+        let _ = writeln!(
+            o,
+            "  {:<12} {:<11} {:>22} {:>14}",
+            "joint", "kind", "range", "max speed"
+        );
+        for j in &r.joints {
+            let range = match (j.lower, j.upper) {
+                (Some(a), Some(b)) => format!("{a:.1} … {b:.1} {}", j.unit),
+                _ => "unlimited".into(),
+            };
+            let kind = format!("{:?}", j.kind).to_lowercase();
+            let _ = writeln!(
+                o,
+                "  {:<12} {:<11} {:>22} {:>9.1} {}/s",
+                j.name, kind, range, j.velocity, j.unit
+            );
+        }
+        o
+    }
+}
+
+/// A TCP pose for display: mm, quaternion (w ≥ 0) and rpy in degrees.
+#[derive(Debug, Clone, Serialize)]
+pub struct PoseReport {
+    pub xyz_mm: [f64; 3],
+    pub quat_wxyz: [f64; 4],
+    pub rpy_deg: [f64; 3],
+}
+
+impl PoseReport {
+    pub fn new(pose: &Isometry3<f64>) -> Self {
+        let t = pose.translation.vector * 1e3;
+        let (r, p, y) = rotation::to_rpy(&pose.rotation);
+        PoseReport {
+            xyz_mm: [t.x, t.y, t.z],
+            quat_wxyz: rotation::quat_to_wxyz(&pose.rotation),
+            rpy_deg: [r.to_degrees(), p.to_degrees(), y.to_degrees()],
+        }
+    }
+
+    pub fn render_text(&self) -> String {
+        let [x, y, z] = self.xyz_mm;
+        let [w, qx, qy, qz] = self.quat_wxyz;
+        let [r, p, yaw] = self.rpy_deg;
+        format!(
+            "  xyz   {x:.3}, {y:.3}, {z:.3} mm\n  quat  {w:.9}, {qx:.9}, {qy:.9}, {qz:.9} (w, x, y, z)\n  rpy   {r:.4}, {p:.4}, {yaw:.4} deg (fixed axes X, Y, Z)\n"
+        )
+    }
+}
+
+/// One IK solution for display.
+#[derive(Debug, Clone, Serialize)]
+pub struct IkSolutionReport {
+    /// Joints in deg (mm for prismatic joints).
+    pub joints_deg: Vec<f64>,
+    pub residual_mm: f64,
+    pub residual_deg: f64,
+    /// Arm configuration label (closed-form solver only).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub config: Option<String>,
+    /// Joint windings (multiples of 360° added to the base solution), closed-form only.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub winding: Option<Vec<i32>>,
+    /// Special-pose flags (closed-form only).
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub flags: Vec<String>,
+}
+
+impl IkSolutionReport {
+    /// A solution `q` (SI) with its residual against `target` computed by FK.
+    pub fn new(robot: &Robot, q: &[f64], target: &Isometry3<f64>) -> Self {
+        let pose = robot.chain().fk(q);
+        IkSolutionReport {
+            joints_deg: robot
+                .joints()
+                .iter()
+                .zip(q)
+                .map(|(j, v)| joint_display(j.kind, *v))
+                .collect(),
+            residual_mm: (pose.translation.vector - target.translation.vector).norm() * 1e3,
+            residual_deg: rotation::angle_between(&pose.rotation, &target.rotation).to_degrees(),
+            config: None,
+            winding: None,
+            flags: Vec::new(),
+        }
+    }
+}
+
+/// `armpath ik`: the solutions found.
+#[derive(Debug, Clone, Serialize)]
+pub struct IkReport {
+    pub solutions: Vec<IkSolutionReport>,
+    /// `numeric` or `closed_form`.
+    pub solver: &'static str,
+}
+
+impl IkReport {
+    pub fn render_text(&self, robot: &Robot) -> String {
+        let mut o = String::new();
+        if self.solutions.is_empty() {
+            let _ = writeln!(
+                o,
+                "no solution within tolerance and joint limits: the pose is out of reach, or try --seed near the expected joints"
+            );
+            return o;
+        }
+        let names: Vec<String> = robot.joints().iter().map(|j| j.name.clone()).collect();
+        let _ = writeln!(
+            o,
+            "{} solution{} ({} solver)",
+            self.solutions.len(),
+            if self.solutions.len() == 1 { "" } else { "s" },
+            self.solver
+        );
+        let _ = write!(o, "  {:>4}", "#");
+        for n in &names {
+            let _ = write!(o, " {n:>9}");
+        }
+        let _ = writeln!(o, "  {:>11}  {:>11}  config", "residual mm", "residual °");
+        for (i, s) in self.solutions.iter().enumerate() {
+            let _ = write!(o, "  {:>4}", i + 1);
+            for v in &s.joints_deg {
+                let _ = write!(o, " {v:>9.3}");
+            }
+            let _ = writeln!(
+                o,
+                "  {:>11.2e}  {:>11.2e}  {}{}",
+                s.residual_mm,
+                s.residual_deg,
+                s.config.clone().unwrap_or_default(),
+                if s.flags.is_empty() {
+                    String::new()
+                } else {
+                    format!(" [{}]", s.flags.join(", "))
+                }
+            );
+        }
+        o
+    }
+}

@@ -1,0 +1,194 @@
+//! The flat kinematic chain: what the per-sample loop runs on.
+//!
+//! A chain is a list of movable joints, each with the fixed transform from the previous
+//! joint's frame (fixed joints already folded in) and a unit axis in its own frame. It owns
+//! its data, holds no locks and allocates nothing per call: forward kinematics and the
+//! Jacobian write into caller-provided, stack-sized storage.
+
+use nalgebra::{Isometry3, Matrix6, SMatrix, Translation3, Unit, UnitQuaternion, Vector3};
+
+/// Largest number of movable joints a chain may have: a 7-axis arm on a linear track fits.
+/// Fixed so that a Jacobian lives on the stack.
+pub const MAX_DOF: usize = 8;
+
+/// Geometric Jacobian at the TCP in the base frame: rows 0..3 map joint rates to the TCP's
+/// linear velocity (m/s), rows 3..6 to its angular velocity (rad/s). Only the first
+/// `dof` columns are meaningful; the rest stay zero.
+pub type Jacobian = SMatrix<f64, 6, MAX_DOF>;
+
+/// How a joint moves.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum JointKind {
+    /// Rotation about the axis within position limits (rad).
+    Revolute,
+    /// Rotation about the axis without position limits.
+    Continuous,
+    /// Translation along the axis within position limits (m).
+    Prismatic,
+}
+
+impl JointKind {
+    /// True for prismatic joints (values in m, not rad).
+    pub fn is_prismatic(self) -> bool {
+        self == JointKind::Prismatic
+    }
+}
+
+/// One movable joint of the flat chain.
+#[derive(Debug, Clone, Copy)]
+pub struct ChainJoint {
+    /// Pose of this joint's frame (at zero position) in the previous joint's frame (or the
+    /// base frame for the first joint), fixed joints in between folded in.
+    pub parent_T_joint: Isometry3<f64>,
+    /// Unit axis of motion in this joint's frame.
+    pub axis: Unit<Vector3<f64>>,
+    pub kind: JointKind,
+}
+
+impl ChainJoint {
+    /// Motion of the joint at position `q` (rad or m), in its own frame.
+    #[inline]
+    fn motion(&self, q: f64) -> Isometry3<f64> {
+        if self.kind.is_prismatic() {
+            Isometry3::from_parts(
+                Translation3::from(self.axis.into_inner() * q),
+                UnitQuaternion::identity(),
+            )
+        } else {
+            Isometry3::from_parts(
+                Translation3::identity(),
+                UnitQuaternion::from_axis_angle(&self.axis, q),
+            )
+        }
+    }
+}
+
+/// A serial chain from the base (root link) to the TCP.
+#[derive(Debug, Clone)]
+pub struct Chain {
+    joints: Vec<ChainJoint>,
+    /// Pose of the tip link in the last joint's frame (fixed joints folded in).
+    last_T_tip: Isometry3<f64>,
+    /// Pose of the TCP in the tip link frame (the tool).
+    tip_T_tcp: Isometry3<f64>,
+    /// `last_T_tip * tip_T_tcp`, kept to save one product per call.
+    last_T_tcp: Isometry3<f64>,
+}
+
+impl Chain {
+    /// A chain from its joints and the fixed transform from the last joint to the tip link.
+    /// The tool is the identity until [`Chain::set_tool`]. Panics never; callers check
+    /// `joints.len() <= MAX_DOF` (the loader does and reports an error).
+    pub fn new(joints: Vec<ChainJoint>, last_T_tip: Isometry3<f64>) -> Self {
+        debug_assert!(joints.len() <= MAX_DOF);
+        Chain {
+            joints,
+            last_T_tip,
+            tip_T_tcp: Isometry3::identity(),
+            last_T_tcp: last_T_tip,
+        }
+    }
+
+    /// Number of movable joints.
+    #[inline]
+    pub fn dof(&self) -> usize {
+        self.joints.len()
+    }
+
+    /// The joints, base to tip.
+    pub fn joints(&self) -> &[ChainJoint] {
+        &self.joints
+    }
+
+    /// Mount a tool: `tip_T_tcp` is the TCP pose in the tip-link frame.
+    pub fn set_tool(&mut self, tip_T_tcp: Isometry3<f64>) {
+        self.tip_T_tcp = tip_T_tcp;
+        self.last_T_tcp = self.last_T_tip * tip_T_tcp;
+    }
+
+    /// The mounted tool, TCP pose in the tip-link frame.
+    pub fn tool(&self) -> Isometry3<f64> {
+        self.tip_T_tcp
+    }
+
+    /// Pose of the TCP in the base frame at joint positions `q` (rad / m, `q.len() == dof`).
+    #[inline]
+    pub fn fk(&self, q: &[f64]) -> Isometry3<f64> {
+        let mut base_T_link = Isometry3::identity();
+        for (joint, &qi) in self.joints.iter().zip(q) {
+            base_T_link = base_T_link * joint.parent_T_joint * joint.motion(qi);
+        }
+        base_T_link * self.last_T_tcp
+    }
+
+    /// Pose of the tip link (without the tool) in the base frame.
+    pub fn fk_tip(&self, q: &[f64]) -> Isometry3<f64> {
+        self.fk(q) * self.tip_T_tcp.inverse()
+    }
+
+    /// Each joint's frame in the base frame at `q`, written to `out[..dof]` (before the joint's
+    /// own motion, so the axis of joint i in the base frame is `out[i].rotation * axis_i`).
+    pub fn joint_frames(&self, q: &[f64], out: &mut [Isometry3<f64>]) {
+        let mut base_T_link = Isometry3::identity();
+        for ((joint, &qi), slot) in self.joints.iter().zip(q).zip(out.iter_mut()) {
+            let base_T_joint = base_T_link * joint.parent_T_joint;
+            *slot = base_T_joint;
+            base_T_link = base_T_joint * joint.motion(qi);
+        }
+    }
+
+    /// TCP pose in the base frame and the geometric Jacobian at the TCP (see [`Jacobian`]).
+    /// Columns beyond `dof` are left untouched.
+    #[inline]
+    pub fn fk_jacobian(&self, q: &[f64], jac: &mut Jacobian) -> Isometry3<f64> {
+        // First pass: axis and origin of every joint in the base frame.
+        let mut axes = [Vector3::zeros(); MAX_DOF];
+        let mut origins = [Vector3::zeros(); MAX_DOF];
+        let mut base_T_link = Isometry3::identity();
+        for (i, (joint, &qi)) in self.joints.iter().zip(q).enumerate() {
+            let base_T_joint = base_T_link * joint.parent_T_joint;
+            axes[i] = base_T_joint.rotation * joint.axis.into_inner();
+            origins[i] = base_T_joint.translation.vector;
+            base_T_link = base_T_joint * joint.motion(qi);
+        }
+        let base_T_tcp = base_T_link * self.last_T_tcp;
+        let p_tcp = base_T_tcp.translation.vector;
+        // Second pass: columns z × (p_tcp − p_i), z for revolute; z, 0 for prismatic.
+        for (i, joint) in self.joints.iter().enumerate() {
+            let z = axes[i];
+            let (lin, ang) = if joint.kind.is_prismatic() {
+                (z, Vector3::zeros())
+            } else {
+                (z.cross(&(p_tcp - origins[i])), z)
+            };
+            jac.fixed_slice_mut::<3, 1>(0, i).copy_from(&lin);
+            jac.fixed_slice_mut::<3, 1>(3, i).copy_from(&ang);
+        }
+        base_T_tcp
+    }
+}
+
+/// `J·Jᵀ` (6×6) of the first `dof` columns, with the linear rows divided by `length_scale` (m)
+/// so that all entries are dimensionless. The building block of manipulability, the
+/// singularity measure and damped least squares.
+#[inline]
+pub fn scaled_jjt(jac: &Jacobian, dof: usize, length_scale: f64) -> Matrix6<f64> {
+    let mut m = Matrix6::zeros();
+    let inv = 1.0 / length_scale;
+    for i in 0..dof {
+        let c = jac.column(i);
+        let col = nalgebra::Vector6::new(c[0] * inv, c[1] * inv, c[2] * inv, c[3], c[4], c[5]);
+        m += col * col.transpose();
+    }
+    m
+}
+
+/// Yoshikawa's manipulability `w = sqrt(det(J_t J_tᵀ))` where `J_t` holds the task-space rows
+/// `rows` (0..3 linear, 3..6 angular) of the first `dof` columns. With all six rows of a 6-axis
+/// arm this is |det J|. Units mix m and rad, so compare poses of one arm, not arms. Zero at a
+/// singularity; for fewer joints than task rows it is zero everywhere (not a useful measure).
+pub fn manipulability(jac: &Jacobian, dof: usize, rows: &[usize]) -> f64 {
+    let jt = nalgebra::DMatrix::from_fn(rows.len(), dof, |r, c| jac[(rows[r], c)]);
+    (&jt * jt.transpose()).determinant().max(0.0).sqrt()
+}

@@ -1,0 +1,161 @@
+//! Robots: URDF loading, the flat chain, joint limits and geometric facts about the arm.
+
+mod chain;
+mod load;
+mod singularity;
+mod wrist;
+
+pub use chain::{manipulability, scaled_jjt, Chain, ChainJoint, Jacobian, JointKind, MAX_DOF};
+pub use load::{from_urdf_str, load_urdf};
+pub use singularity::{SingularityClass, SingularityModel};
+pub use wrist::{spherical_wrist, WristCheck};
+
+use nalgebra::Isometry3;
+use std::path::PathBuf;
+
+/// Name, kind, range and speed limit of one movable joint (SI: rad or m, rad/s or m/s).
+#[derive(Debug, Clone, serde::Serialize)]
+pub struct JointInfo {
+    pub name: String,
+    pub kind: JointKind,
+    /// Lower position limit; −∞ for continuous joints.
+    pub lower: f64,
+    /// Upper position limit; +∞ for continuous joints.
+    pub upper: f64,
+    /// Velocity limit (rad/s or m/s), > 0.
+    pub velocity: f64,
+}
+
+impl JointInfo {
+    /// True when `q` lies inside the range (a tolerance of 1e-12 absorbs rounding at a limit
+    /// reached exactly).
+    #[inline]
+    pub fn contains(&self, q: f64) -> bool {
+        q >= self.lower - 1e-12 && q <= self.upper + 1e-12
+    }
+
+    /// Distance from `q` to the nearer limit (negative outside the range, +∞ for continuous).
+    #[inline]
+    pub fn margin(&self, q: f64) -> f64 {
+        (q - self.lower).min(self.upper - q)
+    }
+}
+
+/// A loaded robot arm: the chain from the root link to the tip link and its joints.
+#[derive(Debug, Clone)]
+pub struct Robot {
+    name: String,
+    source: PathBuf,
+    root_link: String,
+    tip_link: String,
+    joints: Vec<JointInfo>,
+    chain: Chain,
+    reach: f64,
+}
+
+impl Robot {
+    pub(crate) fn from_parts(
+        name: String,
+        source: PathBuf,
+        root_link: String,
+        tip_link: String,
+        joints: Vec<JointInfo>,
+        chain: Chain,
+    ) -> Self {
+        let mut robot = Robot {
+            name,
+            source,
+            root_link,
+            tip_link,
+            joints,
+            chain,
+            reach: 0.0,
+        };
+        robot.reach = robot.estimate_reach();
+        robot
+    }
+
+    /// The URDF `<robot name>`.
+    pub fn name(&self) -> &str {
+        &self.name
+    }
+    /// The URDF file it came from.
+    pub fn source(&self) -> &std::path::Path {
+        &self.source
+    }
+    pub fn root_link(&self) -> &str {
+        &self.root_link
+    }
+    pub fn tip_link(&self) -> &str {
+        &self.tip_link
+    }
+    /// Movable joints, base to tip.
+    pub fn joints(&self) -> &[JointInfo] {
+        &self.joints
+    }
+    pub fn dof(&self) -> usize {
+        self.joints.len()
+    }
+    pub fn chain(&self) -> &Chain {
+        &self.chain
+    }
+    /// Mount a tool: TCP pose in the tip-link frame.
+    pub fn set_tool(&mut self, tip_T_tcp: Isometry3<f64>) {
+        self.chain.set_tool(tip_T_tcp);
+    }
+
+    /// Which joints are prismatic, in chain order.
+    pub fn prismatic_mask(&self) -> Vec<bool> {
+        self.joints.iter().map(|j| j.kind.is_prismatic()).collect()
+    }
+
+    /// True when every value of `q` is inside its joint's range.
+    pub fn within_limits(&self, q: &[f64]) -> bool {
+        self.joints.iter().zip(q).all(|(j, &v)| j.contains(v))
+    }
+
+    /// Estimated reach (m): the largest distance from the first joint's origin to the tip link
+    /// over 4,096 in-range configurations drawn with a fixed seed. A sampled estimate, a little
+    /// below the true maximum; used to scale lengths (singularity measure, IK weights) and
+    /// for `armpath robot`.
+    pub fn reach(&self) -> f64 {
+        self.reach
+    }
+
+    fn estimate_reach(&self) -> f64 {
+        let mut rng = crate::rng::SplitMix64::new(0x5eed_a7a7);
+        let mut q = vec![0.0; self.dof()];
+        let mut frames = vec![Isometry3::identity(); self.dof()];
+        let mut best: f64 = 0.0;
+        let chain_no_tool = {
+            let mut c = self.chain.clone();
+            c.set_tool(Isometry3::identity());
+            c
+        };
+        for k in 0..4096 {
+            if k == 0 {
+                q.iter_mut().for_each(|v| *v = 0.0);
+            } else {
+                self.random_config(&mut rng, &mut q);
+            }
+            chain_no_tool.joint_frames(&q, &mut frames);
+            let origin = frames[0].translation.vector;
+            let tip = chain_no_tool.fk(&q).translation.vector;
+            best = best.max((tip - origin).norm());
+        }
+        // A robot whose links all have zero length would give 0; keep a positive scale so
+        // that dividing by the reach is always defined (1 mm, far below any real arm).
+        best.max(1e-3)
+    }
+
+    /// Draw a configuration uniformly within the joint ranges (continuous joints: ±π;
+    /// ranges wider than ±2π are drawn within ±2π, enough for every winding of interest).
+    pub fn random_config(&self, rng: &mut crate::rng::SplitMix64, q: &mut [f64]) {
+        use std::f64::consts::PI;
+        for (j, v) in self.joints.iter().zip(q.iter_mut()) {
+            let lo = j.lower.max(-2.0 * PI);
+            let hi = j.upper.min(2.0 * PI);
+            *v = lo + (hi - lo) * rng.next_f64();
+        }
+    }
+}
