@@ -200,10 +200,7 @@ fn numbers(option: &str, text: &str, count: Option<usize>) -> Result<Vec<f64>> {
         if values.len() != n {
             return Err(Error::usage(
                 option,
-                format!(
-                    "expects {n} comma-separated numbers, got {}",
-                    values.len()
-                ),
+                format!("expects {n} comma-separated numbers, got {}", values.len()),
             ));
         }
     }
@@ -225,11 +222,7 @@ fn load_robot(sel: &RobotSel) -> Result<Robot> {
     if let Some(t) = six("--tool", &sel.tool)? {
         robot.set_tool(Isometry3::from_parts(
             Translation3::new(t[0] * 1e-3, t[1] * 1e-3, t[2] * 1e-3),
-            armpath::rotation::from_rpy(
-                t[3].to_radians(),
-                t[4].to_radians(),
-                t[5].to_radians(),
-            ),
+            armpath::rotation::from_rpy(t[3].to_radians(), t[4].to_radians(), t[5].to_radians()),
         ));
     }
     Ok(robot)
@@ -251,9 +244,8 @@ fn joints_si(robot: &Robot, option: &str, text: &str, rad: bool) -> Result<Vec<f
 }
 
 fn write_json<T: serde::Serialize>(path: &Path, value: &T) -> Result<()> {
-    let mut text = serde_json::to_string_pretty(value).map_err(|e| {
-        Error::usage("--json", format!("could not serialise the report: {e}"))
-    })?;
+    let mut text = serde_json::to_string_pretty(value)
+        .map_err(|e| Error::usage("--json", format!("could not serialise the report: {e}")))?;
     text.push('\n');
     output::write_all(path, text.as_bytes())
 }
@@ -303,9 +295,13 @@ fn run_fk(a: FkArgs) -> Result<u8> {
 fn run_ik(a: IkArgs) -> Result<u8> {
     let robot = load_robot(&a.sel)?;
     let p = numbers("--pose", &a.pose, Some(7))?;
-    let (rot, norm) = armpath::rotation::quat_from_wxyz([p[3], p[4], p[5], p[6]]).ok_or_else(
-        || Error::usage("--pose", "the quaternion has zero length: give qw,qx,qy,qz of a rotation"),
-    )?;
+    let (rot, norm) =
+        armpath::rotation::quat_from_wxyz([p[3], p[4], p[5], p[6]]).ok_or_else(|| {
+            Error::usage(
+                "--pose",
+                "the quaternion has zero length: give qw,qx,qy,qz of a rotation",
+            )
+        })?;
     if (norm - 1.0).abs() > 1e-6 {
         eprintln!("armpath: note: --pose quaternion had length {norm:.6}; normalised");
     }

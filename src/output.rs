@@ -91,9 +91,7 @@ impl OutputFile {
             Some(Target::Stdout(mut s)) => s.flush().map_err(io_err),
             Some(Target::Direct(mut f)) => f.flush().map_err(io_err),
             Some(Target::Temp { file, temp }) => {
-                let file = file
-                    .into_inner()
-                    .map_err(|e| io_err(e.into_error()))?;
+                let file = file.into_inner().map_err(|e| io_err(e.into_error()))?;
                 file.sync_all().map_err(io_err)?;
                 drop(file);
                 std::fs::rename(&temp, &self.path).map_err(|e| {

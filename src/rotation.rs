@@ -226,7 +226,11 @@ mod tests {
         let g2 = Geodesic::new(&a, &neg_b);
         assert_relative_eq!(g1.angle(), PI / 6.0, epsilon = 1e-13);
         assert_relative_eq!(g2.angle(), PI / 6.0, epsilon = 1e-13);
-        assert_relative_eq!(angle_between(&g1.at(0.4), &g2.at(0.4)), 0.0, epsilon = 1e-13);
+        assert_relative_eq!(
+            angle_between(&g1.at(0.4), &g2.at(0.4)),
+            0.0,
+            epsilon = 1e-13
+        );
     }
 
     #[test]

@@ -173,11 +173,9 @@ pub fn choose_start(
         }
         let out = ik.solve(target, &seed[..n], &mut q[..n]);
         if out.converged
-            && !found.iter().any(|f| {
-                f.iter()
-                    .zip(&q[..n])
-                    .all(|(a, b)| (a - b).abs() < 1e-4)
-            })
+            && !found
+                .iter()
+                .any(|f| f.iter().zip(&q[..n]).all(|(a, b)| (a - b).abs() < 1e-4))
         {
             found.push(q[..n].to_vec());
         }
@@ -440,8 +438,8 @@ impl<'a> Walker<'a> {
                 jump = self.find_jump(prev, &a.target, &a.q);
             }
             if both_reached && jump.is_none() && a.dt > 0.0 {
-                for k in 0..n {
-                    joint_speed[k] = (a.q[k] - prev.joints[k]) / a.dt;
+                for ((v, q), q_prev) in joint_speed.iter_mut().zip(&a.q).zip(&prev.joints).take(n) {
+                    *v = (q - q_prev) / a.dt;
                 }
             }
         }
@@ -502,9 +500,7 @@ impl<'a> Walker<'a> {
                 qm[k] = 0.5 * (qa[k] + qb[k]);
             }
             let cart_mid = Isometry3::from_parts(
-                nalgebra::Translation3::from(
-                    (pa.translation.vector + pb.translation.vector) * 0.5,
-                ),
+                nalgebra::Translation3::from((pa.translation.vector + pb.translation.vector) * 0.5),
                 rotation::Geodesic::new(&pa.rotation, &pb.rotation).at(0.5),
             );
             let joint_mid = self.robot.chain().fk(&qm[..n]);

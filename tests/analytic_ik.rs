@@ -55,7 +55,10 @@ fn dist_mod_2pi(a: &[f64], b: &[f64]) -> f64 {
 }
 
 fn max_abs_diff(a: &[f64], b: &[f64]) -> f64 {
-    a.iter().zip(b).map(|(x, y)| (x - y).abs()).fold(0.0, f64::max)
+    a.iter()
+        .zip(b)
+        .map(|(x, y)| (x - y).abs())
+        .fold(0.0, f64::max)
 }
 
 /// Axis lines of the chain at `q`: points and unit directions in the base frame.
@@ -168,7 +171,10 @@ fn rejects_tilted_elbow_axis_naming_the_angle() {
     // source: common practice (the family needs axes 2 and 3 parallel; the tilt is the angle)
     let text = arm6_text().replace(
         "<origin xyz=\"0 0 0.6\" rpy=\"0 0 0\"/>",
-        &format!("<origin xyz=\"0 0 0.6\" rpy=\"{} 0 0\"/>", 12f64.to_radians()),
+        &format!(
+            "<origin xyz=\"0 0 0.6\" rpy=\"{} 0 0\"/>",
+            12f64.to_radians()
+        ),
     );
     let robot = from_urdf_str(&text, Path::new("tilted.urdf"), None).unwrap();
     let err = OrthoParallel::from_robot(&robot).unwrap_err();
@@ -218,14 +224,18 @@ fn every_solution_reproduces_the_pose_on_100k_poses() {
     let robot = arm6();
     let solver = OrthoParallel::from_robot(&robot).unwrap();
     let (p, r, t) = round_trip(&robot, &solver, 100_000, 11);
-    println!("no tool: max position error {p:.2e} m, orientation {r:.2e} rad, true joints {t:.2e} rad");
+    println!(
+        "no tool: max position error {p:.2e} m, orientation {r:.2e} rad, true joints {t:.2e} rad"
+    );
     assert!(p <= 1e-9 && r <= 1e-9 && t <= 1e-7);
 
     let mut with_tool = arm6();
     with_tool.set_tool(tool());
     let solver = OrthoParallel::from_robot(&with_tool).unwrap();
     let (p, r, t) = round_trip(&with_tool, &solver, 100_000, 12);
-    println!("tool: max position error {p:.2e} m, orientation {r:.2e} rad, true joints {t:.2e} rad");
+    println!(
+        "tool: max position error {p:.2e} m, orientation {r:.2e} rad, true joints {t:.2e} rad"
+    );
     assert!(p <= 1e-9 && r <= 1e-9 && t <= 1e-7);
 
     // set_tool on a solver built without one is the same as building it with the tool.
@@ -282,8 +292,13 @@ fn in_limit_windings_are_all_there_and_nothing_else() {
         }
         total += sols.len();
     }
-    println!("3000 poses: {total} in-limit solutions, {with_two_j4} raw solutions with two j4 windings");
-    assert!(with_two_j4 > 0, "the sample never exercised the double j4 winding");
+    println!(
+        "3000 poses: {total} in-limit solutions, {with_two_j4} raw solutions with two j4 windings"
+    );
+    assert!(
+        with_two_j4 > 0,
+        "the sample never exercised the double j4 winding"
+    );
 }
 
 #[test]
@@ -302,7 +317,8 @@ fn solution_set_equals_what_the_numerical_solver_finds() {
     let params = solver.parameters();
     let ik = NumericIk::new(&robot, IkOptions::default());
     let psi = params.a2.atan2(params.c3);
-    let canonical = |q: &[f64; 6], i: usize| params.axis_signs[i] as f64 * q[i] + params.joint_offsets[i];
+    let canonical =
+        |q: &[f64; 6], i: usize| params.axis_signs[i] as f64 * q[i] + params.joint_offsets[i];
     let mut rng = SplitMix64::new(2024);
     let mut seed_rng = SplitMix64::new(7);
     let mut q = [0.0; 6];
@@ -430,10 +446,7 @@ fn detection_survives_a_rebased_urdf_and_a_flipped_axis() {
         None,
     )
     .unwrap();
-    let mount = Isometry3::from_parts(
-        Translation3::new(0.4, -1.2, 0.75),
-        from_rpy(0.3, -2.5, 1.1),
-    );
+    let mount = Isometry3::from_parts(Translation3::new(0.4, -1.2, 0.75), from_rpy(0.3, -2.5, 1.1));
     for (name, robot, signs) in [
         ("rebased", rebased_robot, [1, 1, 1, 1, 1, 1]),
         ("j2 flipped", flipped_robot, [1, -1, 1, 1, 1, 1]),
@@ -442,10 +455,15 @@ fn detection_survives_a_rebased_urdf_and_a_flipped_axis() {
         let solver = OrthoParallel::from_robot(&robot).unwrap_or_else(|e| panic!("{name}: {e}"));
         let p = solver.parameters();
         let got = [p.a1, p.a2, p.b, p.c1, p.c2, p.c3, p.c4];
-        let want = [plain.a1, plain.a2, plain.b, plain.c1, plain.c2, plain.c3, plain.c4];
+        let want = [
+            plain.a1, plain.a2, plain.b, plain.c1, plain.c2, plain.c3, plain.c4,
+        ];
         assert!(max_abs_diff(&got, &want) < 1e-9, "{name}: {p:?}");
         assert_eq!(p.axis_signs, signs, "{name}");
-        assert!(max_abs_diff(&p.joint_offsets, &plain.joint_offsets) < 1e-9, "{name}");
+        assert!(
+            max_abs_diff(&p.joint_offsets, &plain.joint_offsets) < 1e-9,
+            "{name}"
+        );
         if name != "j2 flipped" {
             // The canonical frame sits where arm6's base frame sits after the mount.
             let o = Vector3::from(p.canonical_origin_in_base);

@@ -29,7 +29,10 @@ fn round_trip_from_perturbed_seed() {
         for _ in 0..total {
             robot.random_config(&mut rng_cfg, &mut q_true);
             let target = robot.chain().fk(&q_true);
-            let seed: Vec<f64> = q_true.iter().map(|v| v + rng.gen_range(-0.2..=0.2)).collect();
+            let seed: Vec<f64> = q_true
+                .iter()
+                .map(|v| v + rng.gen_range(-0.2..=0.2))
+                .collect();
             let out = ik.solve(&target, &seed, &mut q);
             iterations += out.iterations as u64;
             assert!(robot.within_limits(&q), "{path}: result outside the limits");
@@ -38,7 +41,10 @@ fn round_trip_from_perturbed_seed() {
                 let reached = robot.chain().fk(&q);
                 let dp = (reached.translation.vector - target.translation.vector).norm();
                 let dr = rotation::angle_between(&reached.rotation, &target.rotation);
-                assert!(dp <= 1e-5 && dr <= 0.001_f64.to_radians(), "{path}: {dp} {dr}");
+                assert!(
+                    dp <= 1e-5 && dr <= 0.001_f64.to_radians(),
+                    "{path}: {dp} {dr}"
+                );
                 ok += 1;
             }
         }

@@ -19,7 +19,8 @@ fn revolute(name: &str, parent: &str, child: &str, extra: &str) -> String {
     )
 }
 
-const LIMIT: &str = "<axis xyz=\"0 0 1\"/><limit lower=\"-1\" upper=\"1\" effort=\"1\" velocity=\"1\"/>";
+const LIMIT: &str =
+    "<axis xyz=\"0 0 1\"/><limit lower=\"-1\" upper=\"1\" effort=\"1\" velocity=\"1\"/>";
 
 fn err_of(text: &str, tip: Option<&str>) -> String {
     match from_urdf_str(text, Path::new("t.urdf"), tip) {
@@ -44,7 +45,10 @@ fn shipped_robots_load_with_expected_facts() {
         + (0.12f64.powi(2) + 0.68f64.powi(2)).sqrt()
         + 0.10;
     let r = arm6.reach();
-    assert!(r <= bound + 1e-9 && r > 0.9 * bound, "reach {r} vs bound {bound}");
+    assert!(
+        r <= bound + 1e-9 && r > 0.9 * bound,
+        "reach {r} vs bound {bound}"
+    );
     let offset = load_urdf(Path::new("robots/arm6_offset.urdf"), None).unwrap();
     let w = spherical_wrist(&offset);
     assert!(!w.spherical);
@@ -75,16 +79,29 @@ fn refusals_name_the_problem() {
     assert!(e.contains("several leaf links (c, e)"), "{e}");
     // unknown tip
     let e = err_of(&urdf(&ok, &["b", "c"]), Some("zz"));
-    assert!(e.contains("tip link 'zz'") && e.contains("links: b, c"), "{e}");
+    assert!(
+        e.contains("tip link 'zz'") && e.contains("links: b, c"),
+        "{e}"
+    );
     // missing limit
-    let e = err_of(&urdf(&revolute("a", "b", "c", "<axis xyz=\"0 0 1\"/>"), &["b", "c"]), None);
-    assert!(e.contains("joint 'a' <limit>") && e.contains("missing"), "{e}");
+    let e = err_of(
+        &urdf(
+            &revolute("a", "b", "c", "<axis xyz=\"0 0 1\"/>"),
+            &["b", "c"],
+        ),
+        None,
+    );
+    assert!(
+        e.contains("joint 'a' <limit>") && e.contains("missing"),
+        "{e}"
+    );
     // zero axis
     let zero = "<axis xyz=\"0 0 0\"/><limit lower=\"-1\" upper=\"1\" effort=\"1\" velocity=\"1\"/>";
     let e = err_of(&urdf(&revolute("a", "b", "c", zero), &["b", "c"]), None);
     assert!(e.contains("<axis>") && e.contains("zero"), "{e}");
     // planar / floating joints
-    let planar = "<joint name=\"p\" type=\"planar\"><parent link=\"b\"/><child link=\"c\"/></joint>";
+    let planar =
+        "<joint name=\"p\" type=\"planar\"><parent link=\"b\"/><child link=\"c\"/></joint>";
     let e = err_of(&urdf(planar, &["b", "c"]), None);
     assert!(e.contains("joint 'p'") && e.contains("Planar"), "{e}");
     // mimic

@@ -107,6 +107,8 @@ pub struct Finding {
     pub value: Option<f64>,
     pub limit: Option<f64>,
     pub quantity: Quantity,
+    /// Per-joint change across a jump (rad or m), `joint_jump` only.
+    pub deltas: Option<Vec<f64>>,
     /// Sample index where the worst value occurs.
     pub worst_sample: Option<usize>,
     /// What happened and what to try.

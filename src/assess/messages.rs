@@ -166,8 +166,10 @@ pub(super) fn finding(robot: &Robot, job: &Job, plan: &Plan, run: &Run) -> Findi
         t: Some(run.t),
         joint: joint_name,
         value: Some(run.value),
-        limit: Some(run.limit),
+        // A jump has no limit: any discontinuity is one.
+        limit: (run.kind != Kind::JointJump).then_some(run.limit),
         quantity: q,
+        deltas: (run.kind == Kind::JointJump).then(|| run.delta[..robot.dof()].to_vec()),
         worst_sample: Some(run.worst_sample),
         message,
     }
@@ -188,6 +190,7 @@ pub(super) fn input_findings(job: &Job, plan: &Plan) -> Vec<Finding> {
         value: None,
         limit: None,
         quantity: Quantity::Number,
+        deltas: None,
         worst_sample: None,
         message,
     };

@@ -318,7 +318,10 @@ impl SampleSink for Assessor<'_> {
             }
             let lim = limits.tool_angular_speed;
             if w > lim * (1.0 + SPEED_TOLERANCE) {
-                self.raise(rec, Flag::new(Kind::ToolAngularSpeed, None, w / lim, w, lim));
+                self.raise(
+                    rec,
+                    Flag::new(Kind::ToolAngularSpeed, None, w / lim, w, lim),
+                );
             }
         }
         for (k, j) in robot.joints().iter().enumerate() {

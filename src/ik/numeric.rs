@@ -82,7 +82,12 @@ const LIMIT_CONTACT: f64 = 1e-12;
 
 /// `scaled_jjt` without the columns of locked joints.
 #[inline]
-fn scaled_jjt_masked(jac: &Jacobian, n: usize, length_scale: f64, locked: &[bool; MAX_DOF]) -> Matrix6<f64> {
+fn scaled_jjt_masked(
+    jac: &Jacobian,
+    n: usize,
+    length_scale: f64,
+    locked: &[bool; MAX_DOF],
+) -> Matrix6<f64> {
     let mut m = Matrix6::zeros();
     let inv = 1.0 / length_scale;
     for i in (0..n).filter(|&i| !locked[i]) {

@@ -19,8 +19,8 @@
 //! and empty lines are skipped; both still count for line numbers. Messages give the line
 //! number (1-based, the header is line 1 when nothing precedes it) and the column name.
 //!
-//! Records are read one at a time into one reused buffer, so time and memory grow linearly
-//! with the number of rows.
+//! Records are read one at a time into one reused buffer and line numbers are counted
+//! incrementally, so time grows linearly with the number of rows.
 
 use super::units::{self, PoseError, RawOrientation, Units};
 use super::yaml::{check_file, LoadedWaypoint};
@@ -61,13 +61,16 @@ pub(super) fn read_waypoints(
     warnings: &mut Vec<InputWarning>,
 ) -> Result<Vec<LoadedWaypoint>, Error> {
     check_file(path, "CSV waypoint file", referenced_by)?;
-    let file = std::fs::File::open(path).map_err(|e| {
+    // Read whole (at most MAX_FILE_BYTES): line numbers are counted from the bytes, because
+    // the csv reader's own line count skips comment lines.
+    let bytes = std::fs::read(path).map_err(|e| {
         Error::input(
             path,
             "file",
-            format!("cannot be opened ({e}): check that the file is readable"),
+            format!("cannot be read ({e}): check that the file is readable"),
         )
     })?;
+    let mut lines = LineCounter::new(&bytes);
     let mut reader = csv::ReaderBuilder::new()
         // The header is read by hand so that its line number is known and checked like data.
         .has_headers(false)
@@ -75,7 +78,7 @@ pub(super) fn read_waypoints(
         .flexible(true)
         .trim(csv::Trim::All)
         .comment(Some(b'#'))
-        .from_reader(std::io::BufReader::new(file));
+        .from_reader(bytes.as_slice());
 
     let file_name = path
         .file_name()
@@ -83,7 +86,7 @@ pub(super) fn read_waypoints(
         .unwrap_or_else(|| path.display().to_string());
     let mut record = csv::StringRecord::new();
 
-    if !read(&mut reader, &mut record, path)? {
+    if !read(&mut reader, &mut record, path, &mut lines)? {
         return Err(Error::input(
             path,
             "file",
@@ -93,12 +96,12 @@ pub(super) fn read_waypoints(
             ),
         ));
     }
-    let header_line = line_of(&record);
+    let header_line = lines.line_of(&record);
     let cols = parse_header(&record, header_line, path)?;
 
     let mut out = Vec::new();
-    while read(&mut reader, &mut record, path)? {
-        let line = line_of(&record);
+    while read(&mut reader, &mut record, path, &mut lines)? {
+        let line = lines.line_of(&record);
         let index = out.len();
         out.push(parse_row(
             &record, &cols, line, index, units, path, &file_name, warnings,
@@ -112,11 +115,12 @@ fn read<R: std::io::Read>(
     reader: &mut csv::Reader<R>,
     record: &mut csv::StringRecord,
     path: &Path,
+    lines: &mut LineCounter,
 ) -> Result<bool, Error> {
     reader.read_record(record).map_err(|e| {
         let location = e
             .position()
-            .map(|p| format!("line {}", p.line()))
+            .map(|p| format!("line {}", lines.line_at(p.byte())))
             .unwrap_or_else(|| "file".to_string());
         let hint = match e.kind() {
             csv::ErrorKind::Utf8 { .. } => {
@@ -129,8 +133,45 @@ fn read<R: std::io::Read>(
     })
 }
 
-fn line_of(record: &csv::StringRecord) -> u64 {
-    record.position().map(|p| p.line()).unwrap_or(0)
+/// 1-based line numbers of byte offsets, for offsets visited mostly in increasing order (then
+/// the total work is one pass over the file).
+struct LineCounter<'a> {
+    bytes: &'a [u8],
+    /// Offset up to which newlines have been counted, and the line at that offset.
+    pos: usize,
+    line: u64,
+}
+
+impl<'a> LineCounter<'a> {
+    fn new(bytes: &'a [u8]) -> Self {
+        LineCounter {
+            bytes,
+            pos: 0,
+            line: 1,
+        }
+    }
+
+    fn line_at(&mut self, byte: u64) -> u64 {
+        let byte = usize::try_from(byte).unwrap_or(usize::MAX).min(self.bytes.len());
+        if byte < self.pos {
+            self.pos = 0;
+            self.line = 1;
+        }
+        let newlines = self.bytes[self.pos..byte]
+            .iter()
+            .filter(|&&b| b == b'\n')
+            .count();
+        self.line += newlines as u64;
+        self.pos = byte;
+        self.line
+    }
+
+    fn line_of(&mut self, record: &csv::StringRecord) -> u64 {
+        match record.position() {
+            Some(p) => self.line_at(p.byte()),
+            None => self.line,
+        }
+    }
 }
 
 fn parse_header(record: &csv::StringRecord, line: u64, path: &Path) -> Result<Columns, Error> {
@@ -139,7 +180,11 @@ fn parse_header(record: &csv::StringRecord, line: u64, path: &Path) -> Result<Co
         .enumerate()
         // A spreadsheet may save a UTF-8 byte-order mark before the first name.
         .map(|(i, s)| {
-            let s = if i == 0 { s.trim_start_matches('\u{feff}') } else { s };
+            let s = if i == 0 {
+                s.trim_start_matches('\u{feff}')
+            } else {
+                s
+            };
             s.trim().to_ascii_lowercase()
         })
         .collect();
@@ -156,9 +201,7 @@ fn parse_header(record: &csv::StringRecord, line: u64, path: &Path) -> Result<Co
         if !ALLOWED_COLUMNS.split(", ").any(|a| a == n) {
             return Err(err(
                 loc,
-                format!(
-                    "unknown column `{n}`: rename or remove it (allowed: {ALLOWED_COLUMNS})"
-                ),
+                format!("unknown column `{n}`: rename or remove it (allowed: {ALLOWED_COLUMNS})"),
             ));
         }
         if let Some(first) = seen.insert(n.as_str(), i) {
@@ -388,4 +431,371 @@ fn parse_row(
         location: format!("line {line}"),
         name_given,
     })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::super::{load, Job, Overrides};
+    use super::*;
+    use approx::assert_relative_eq;
+    use nalgebra::{Matrix3, Vector3};
+    use std::f64::consts::PI;
+    use std::path::PathBuf;
+    use std::time::{Duration, Instant};
+
+    fn rx(a: f64) -> Matrix3<f64> {
+        Matrix3::new(1.0, 0.0, 0.0, 0.0, a.cos(), -a.sin(), 0.0, a.sin(), a.cos())
+    }
+    fn rz(a: f64) -> Matrix3<f64> {
+        Matrix3::new(a.cos(), -a.sin(), 0.0, a.sin(), a.cos(), 0.0, 0.0, 0.0, 1.0)
+    }
+
+    fn overrides() -> Overrides {
+        Overrides {
+            robot: Some(PathBuf::from("cell/arm.urdf")),
+            speed: Some(25.0),
+            ..Default::default()
+        }
+    }
+
+    /// Writes `text` as `name` in a fresh temp dir and loads it directly.
+    fn load_csv(text: &str, ov: &Overrides) -> (Result<Job, Error>, tempfile::TempDir) {
+        let dir = tempfile::tempdir().unwrap();
+        let p = dir.path().join("seam.csv");
+        std::fs::write(&p, text).unwrap();
+        (load(&p, ov), dir)
+    }
+
+    fn csv_err(text: &str) -> (String, String) {
+        match load_csv(text, &overrides()).0 {
+            Err(Error::Input {
+                path,
+                location,
+                message,
+            }) => {
+                assert!(path.ends_with("seam.csv"), "{}", path.display());
+                (location, message)
+            }
+            Err(e) => panic!("expected an input error, got {e}"),
+            Ok(_) => panic!("expected an error"),
+        }
+    }
+
+    fn assert_csv_err(text: &str, location: &str, phrases: &[&str]) {
+        let (loc, msg) = csv_err(text);
+        assert_eq!(loc, location, "{msg}");
+        for p in phrases {
+            assert!(msg.contains(p), "`{p}` not in `{msg}`");
+        }
+    }
+
+    #[test]
+    fn csv_named_by_a_path_file() {
+        let path = Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/data/job/bracket_csv.yaml");
+        let job = load(&path, &Overrides::default()).unwrap();
+        // Units come from the path file (m, rad), so values pass through unchanged.
+        // source: SI (metres and radians)
+        assert_eq!(job.speed, 0.02);
+        assert_eq!(job.waypoints.len(), 3);
+        let w = &job.waypoints;
+        assert_eq!(
+            [w[0].name.as_str(), &w[1].name, &w[2].name],
+            ["approach", "bead_a", "bead_b"]
+        );
+        // Line 2 is a comment, so the first waypoint is on line 3.
+        assert_eq!(w[0].origin, "bracket_bead.csv line 3");
+        assert_eq!(w[2].origin, "bracket_bead.csv line 5");
+        assert_eq!(w[0].motion, Motion::Joint);
+        assert_eq!(w[1].motion, Motion::Linear);
+        assert_eq!(w[2].speed, Some(0.008));
+        assert!(w[2].process && !w[1].process);
+        assert_relative_eq!(w[2].work_T_tcp.translation.vector, Vector3::new(0.4, 0.0, 0.0));
+        // source: URDF spec / REP 103, R = Rz(yaw)·Ry(pitch)·Rx(roll)
+        assert_relative_eq!(
+            w[2].work_T_tcp.rotation.to_rotation_matrix().into_inner(),
+            rz(0.5) * rx(PI),
+            epsilon = 1e-15
+        );
+    }
+
+    #[test]
+    fn csv_loaded_directly_uses_overrides() {
+        let text = "x,y,z,qw,qx,qy,qz\n0,0,0,1,0,0,0\n100,0,0,0,1,0,0\n";
+        let (job, _dir) = load_csv(text, &overrides());
+        let job = job.unwrap();
+        // source: SI definitions (25 mm/s = 0.025 m/s, 100 mm = 0.1 m)
+        assert_relative_eq!(job.speed, 0.025);
+        assert_eq!(job.robot, PathBuf::from("cell/arm.urdf"));
+        assert!(job.source.ends_with("seam.csv"));
+        assert_eq!(job.waypoints[0].name, "wp1");
+        assert_eq!(job.waypoints[1].name, "wp2");
+        assert_relative_eq!(job.waypoints[1].work_T_tcp.translation.x, 0.1);
+        // [0, 1, 0, 0] is the half turn about x, Rx(π).
+        // source: Rodrigues' formula at θ = π (Lynch & Park 2017, eq. 3.51)
+        assert_relative_eq!(
+            job.waypoints[1]
+                .work_T_tcp
+                .rotation
+                .to_rotation_matrix()
+                .into_inner(),
+            rx(PI),
+            epsilon = 1e-15
+        );
+        // Defaults still apply. source: common practice (documented 1 mm default step)
+        assert_relative_eq!(job.sampling.step, 0.001);
+
+        // --units applies to the CSV values when the CSV file is loaded directly.
+        let ov = Overrides {
+            units_length: Some("m".into()),
+            units_angle: Some("rad".into()),
+            speed: Some(0.5),
+            ..overrides()
+        };
+        let text = "x,y,z,rx,ry,rz,speed\n0,0,0,0,0,0,\n2,0,0,0,0,1.5707963267948966,0.25\n";
+        let (job, _dir) = load_csv(text, &ov);
+        let job = job.unwrap();
+        assert_eq!(job.speed, 0.5);
+        assert_eq!(job.waypoints[1].work_T_tcp.translation.x, 2.0);
+        assert_eq!(job.waypoints[1].speed, Some(0.25));
+        assert_eq!(job.units.length.name(), "m");
+        // source: Rodrigues' formula (Lynch & Park 2017, eq. 3.51): [0, 0, π/2] is Rz(π/2)
+        assert_relative_eq!(
+            job.waypoints[1]
+                .work_T_tcp
+                .rotation
+                .to_rotation_matrix()
+                .into_inner(),
+            rz(PI / 2.0),
+            epsilon = 1e-15
+        );
+    }
+
+    #[test]
+    fn csv_direct_needs_robot_and_speed() {
+        let text = "x,y,z,roll,pitch,yaw\n0,0,0,0,0,0\n1,0,0,0,0,0\n";
+        let ov = Overrides {
+            robot: None,
+            ..overrides()
+        };
+        match load_csv(text, &ov).0 {
+            Err(Error::Input {
+                location, message, ..
+            }) => {
+                assert_eq!(location, "robot");
+                assert!(message.contains("--robot"), "{message}");
+            }
+            other => panic!("{other:?}"),
+        }
+        let ov = Overrides {
+            speed: None,
+            ..overrides()
+        };
+        match load_csv(text, &ov).0 {
+            Err(Error::Input {
+                location, message, ..
+            }) => {
+                assert_eq!(location, "speed");
+                assert!(message.contains("--speed <mm/s>"), "{message}");
+            }
+            other => panic!("{other:?}"),
+        }
+    }
+
+    #[test]
+    fn header_errors() {
+        assert_csv_err(
+            "x,y,roll,pitch,yaw\n0,0,0,0,0\n",
+            "line 1",
+            &["no column `z`", "required"],
+        );
+        assert_csv_err(
+            "x,y,z,roll,pitch,yaw,qw,qx,qy,qz\n",
+            "line 1",
+            &["more than one orientation set", "qw,qx,qy,qz", "roll,pitch,yaw"],
+        );
+        assert_csv_err(
+            "x,y,z,qw,qx,qy\n",
+            "line 1",
+            &["quaternion columns are incomplete", "missing qz"],
+        );
+        assert_csv_err("x,y,z\n", "line 1", &["no orientation columns"]);
+        assert_csv_err(
+            "x,y,z,roll,pitch,yaw,colour\n",
+            "line 1, column 7",
+            &["unknown column `colour`", "allowed", "process"],
+        );
+        assert_csv_err(
+            "x,y,z,roll,pitch,yaw,x\n",
+            "line 1, column 7",
+            &["`x` appears twice", "columns 1 and 7"],
+        );
+        assert_csv_err("x,,z\n", "line 1, column 2", &["empty column name"]);
+        assert_csv_err("", "file", &["no header row"]);
+        assert_csv_err("# only a comment\n\n", "file", &["no header row"]);
+    }
+
+    #[test]
+    fn row_errors_name_line_and_column() {
+        let h = "name,x,y,z,roll,pitch,yaw,speed,motion,process\n";
+        assert_csv_err(
+            &format!("{h}a,0,0,0,0,0,0,,,\nb,0,abc,0,0,0,0,,,\n"),
+            "line 3, column y",
+            &["`abc` is not a number"],
+        );
+        assert_csv_err(
+            &format!("{h}a,0,0,0,0,0,0,,,\nb,0,0,0,0,0\n"),
+            "line 3",
+            &["has 6 fields but the header has 10"],
+        );
+        assert_csv_err(
+            &format!("{h}a,0,0,,0,0,0,,,\n"),
+            "line 2, column z",
+            &["is empty", "number"],
+        );
+        assert_csv_err(
+            &format!("{h}a,0,0,0,NaN,0,0,,,\n"),
+            "line 2, column roll",
+            &["not a finite number"],
+        );
+        assert_csv_err(
+            &format!("{h}a,0,0,0,0,0,0,inf,,\n"),
+            "line 2, column speed",
+            &["not a finite number"],
+        );
+        assert_csv_err(
+            &format!("{h}a,0,0,0,0,0,0,-2,,\n"),
+            "line 2, column speed",
+            &["greater than 0", "mm/s"],
+        );
+        assert_csv_err(
+            &format!("{h}a,0,0,0,0,0,0,,circular,\n"),
+            "line 2, column motion",
+            &["`circular`", "linear or joint"],
+        );
+        assert_csv_err(
+            &format!("{h}a,0,0,0,0,0,0,,,yes\n"),
+            "line 2, column process",
+            &["`yes`", "true, false, 1 or 0"],
+        );
+        // Comments and blank lines still count for line numbers.
+        assert_csv_err(
+            &format!("{h}# note\n\na,0,0,0,0,0,0,,,\nb,0,0,x1,0,0,0,,,\n"),
+            "line 5, column z",
+            &["`x1`"],
+        );
+        assert_csv_err(
+            "x,y,z,qw,qx,qy,qz\n0,0,0,0,0,0,0\n",
+            "line 2, columns qw,qx,qy,qz",
+            &["zero length"],
+        );
+        let (loc, msg) = csv_err("x,y,z,qw,qx,qy,qz\n0,0,0,1,0,0,0\n1,0,0,\"1,0,0,0\n");
+        assert!(loc.starts_with("line 3"), "{loc}: {msg}");
+    }
+
+    #[test]
+    fn row_checks_shared_with_yaml() {
+        // Fewer than two waypoints, duplicate names and turns in place are checked after
+        // reading, with locations in the CSV file.
+        assert_csv_err(
+            "x,y,z,roll,pitch,yaw\n0,0,0,0,0,0\n",
+            "waypoints",
+            &["has 1 waypoint:"],
+        );
+        assert_csv_err(
+            "name,x,y,z,roll,pitch,yaw\na,0,0,0,0,0,0\na,1,0,0,0,0,0\n",
+            "line 3",
+            &["`a`", "line 2", "line 3"],
+        );
+        assert_csv_err(
+            "name,x,y,z,roll,pitch,yaw\na,0,0,0,0,0,0\nb,0,0,0,0,0,45\n",
+            "line 3",
+            &["set orientation_speed or move the TCP"],
+        );
+    }
+
+    #[test]
+    fn quirks_of_real_files() {
+        // Byte-order mark, spaces around values, upper-case names, quoted names with commas.
+        let text = "\u{feff}Name , X, Y, Z, QW, QX, QY, QZ, Motion, Process\n\"seam, start\", 0, 0, 0, 2, 0, 0, 0, JOINT, TRUE\nend,1,0,0,1,0,0,0,linear,0\n";
+        let (job, _dir) = load_csv(text, &overrides());
+        let job = job.unwrap();
+        assert_eq!(job.waypoints[0].name, "seam, start");
+        assert_eq!(job.waypoints[0].motion, Motion::Joint);
+        assert!(job.waypoints[0].process);
+        assert!(!job.waypoints[1].process);
+        // The quaternion [2, 0, 0, 0] was normalised, with a warning naming file, line, columns.
+        let w = job
+            .warnings
+            .iter()
+            .find(|w| w.location == "seam.csv line 2, columns qw,qx,qy,qz")
+            .unwrap_or_else(|| panic!("{:?}", job.warnings));
+        assert_eq!(w.waypoint, Some(0));
+        assert!(w.message.contains("length 2"));
+        // A repeated pose is a warning, not an error.
+        let (job, _dir) = load_csv(
+            "x,y,z,roll,pitch,yaw\n0,0,0,0,0,0\n0,0,0,0,0,0\n5,0,0,0,0,0\n",
+            &overrides(),
+        );
+        let job = job.unwrap();
+        assert_eq!(job.warnings.len(), 1);
+        assert_eq!(job.warnings[0].waypoint, Some(1));
+        assert_eq!(job.warnings[0].location, "seam.csv line 3");
+    }
+
+    #[test]
+    fn non_utf8_csv_is_an_error() {
+        let dir = tempfile::tempdir().unwrap();
+        let p = dir.path().join("bin.csv");
+        std::fs::write(&p, b"x,y,z,roll,pitch,yaw\n0,0,\xff\xfe,0,0,0\n").unwrap();
+        match load(&p, &overrides()) {
+            Err(Error::Input {
+                location, message, ..
+            }) => {
+                assert_eq!(location, "line 2");
+                assert!(message.contains("UTF-8"), "{message}");
+            }
+            other => panic!("{other:?}"),
+        }
+    }
+
+    #[test]
+    fn missing_csv_named_by_path_file() {
+        let dir = tempfile::tempdir().unwrap();
+        let p = dir.path().join("job.yaml");
+        std::fs::write(&p, "robot: a.urdf\nspeed: 5\nwaypoints: gone.csv\n").unwrap();
+        match load(&p, &Overrides::default()) {
+            Err(Error::Input {
+                path,
+                location,
+                message,
+            }) => {
+                assert_eq!(path, dir.path().join("gone.csv"));
+                assert_eq!(location, "file");
+                assert!(message.contains("does not exist"), "{message}");
+                assert!(message.contains("named by `waypoints:`"), "{message}");
+            }
+            other => panic!("{other:?}"),
+        }
+    }
+
+    #[test]
+    fn hundred_thousand_rows_parse_fast() {
+        let dir = tempfile::tempdir().unwrap();
+        let p = dir.path().join("long.csv");
+        let mut text = String::with_capacity(6_000_000);
+        text.push_str("name,x,y,z,roll,pitch,yaw,speed\n");
+        for i in 0..100_000 {
+            let s = i as f64 * 0.5;
+            text.push_str(&format!("p{i},{s},{},{},180,0,{},\n", s.sin(), 0.1 * s, i % 90));
+        }
+        std::fs::write(&p, text).unwrap();
+        let start = Instant::now();
+        let job = load(&p, &overrides()).unwrap();
+        let took = start.elapsed();
+        assert_eq!(job.waypoints.len(), 100_000);
+        assert_eq!(job.waypoints[99_999].origin, "long.csv line 100001");
+        // Linear reading takes ~0.1 s with optimisation; a quadratic step (1e10 operations)
+        // would take far longer than this generous bound for a shared machine.
+        assert!(took < Duration::from_secs(3), "took {took:?}");
+    }
 }

@@ -72,7 +72,10 @@ impl AngleUnit {
         match s.trim() {
             "deg" => Ok(AngleUnit::Deg),
             "rad" => Ok(AngleUnit::Rad),
-            other => Err(format!("unknown angle unit `{other}`: use {}", Self::ALLOWED)),
+            other => Err(format!(
+                "unknown angle unit `{other}`: use {}",
+                Self::ALLOWED
+            )),
         }
     }
 
@@ -351,7 +354,10 @@ mod tests {
         let e = RawOrientation::Quat([0.0; 4])
             .to_rotation(&Units::default())
             .unwrap_err();
-        assert!(e.contains("zero length") && e.contains("[w, x, y, z]"), "{e}");
+        assert!(
+            e.contains("zero length") && e.contains("[w, x, y, z]"),
+            "{e}"
+        );
         let e = RawOrientation::Quat([1e-12, 0.0, 0.0, 0.0])
             .to_rotation(&Units::default())
             .unwrap_err();

@@ -40,6 +40,13 @@ use std::path::{Path, PathBuf};
 /// a million waypoints takes well under 512 MiB, so a bigger file is a wrong file.
 pub(super) const MAX_FILE_BYTES: u64 = 512 * 1024 * 1024;
 
+/// Deepest bracket (flow `[`/`{`) nesting accepted in a YAML path file. A path file needs 4
+/// levels at most (`{waypoints: [{xyz: [...]}]}`); 64 leaves room for any hand-written layout.
+/// The limit exists because the YAML parser's work grows with the square of this depth when
+/// flow collections sit inside a block mapping (20,000 levels take seconds, 200,000 minutes),
+/// so a pathological file is refused by a linear pre-scan instead of hanging.
+const MAX_FLOW_DEPTH: usize = 64;
+
 /// Two consecutive waypoints closer than this (m) are at the same position. 1 nm is far below
 /// any robot's repeatability, so only exact repeats (up to unit-conversion rounding) match.
 const SAME_POSITION: f64 = 1e-9;
@@ -543,7 +550,90 @@ fn parse_yaml(path: &Path) -> Result<PathFileSpec, Error> {
              `speed:` and `waypoints:`)",
         ));
     }
+    if let Err((line, depth)) = check_flow_depth(&text) {
+        return Err(Error::input(
+            path,
+            format!("line {line}"),
+            format!(
+                "brackets nest {depth} levels deep here, more than the {MAX_FLOW_DEPTH} \
+                 armpath accepts (a path file needs at most 4): check that this is a path file"
+            ),
+        ));
+    }
     serde_yaml::from_str(&text).map_err(|e| yaml_error(path, e))
+}
+
+/// Linear scan of the flow (bracket) nesting depth of a YAML text. Returns the line (1-based)
+/// and depth where [`MAX_FLOW_DEPTH`] is first exceeded.
+///
+/// The scan follows YAML's lexical rules closely enough for path files: `#` after whitespace
+/// starts a comment; `'...'` and `"..."` starting a token are quoted scalars whose brackets do
+/// not count; outside brackets, `[`/`{` opens a collection only at the start of a token (in
+/// `a[1]` it is text); inside brackets every bracket counts. Where it could differ from the
+/// parser (block scalars, multi-line plain scalars) it can only count too many brackets, and
+/// only unbalanced ones matter, so a real path file is never refused.
+fn check_flow_depth(text: &str) -> Result<(), (usize, usize)> {
+    let b = text.as_bytes();
+    let (mut i, mut line, mut depth) = (0, 1, 0usize);
+    // True where a new token may begin: start of text, after whitespace or a flow indicator.
+    let mut token_start = true;
+    while i < b.len() {
+        let c = b[i];
+        match c {
+            b'\n' => {
+                line += 1;
+                token_start = true;
+            }
+            b' ' | b'\t' | b'\r' => token_start = true,
+            b'#' if token_start => {
+                while i < b.len() && b[i] != b'\n' {
+                    i += 1;
+                }
+                continue;
+            }
+            b'\'' | b'"' if token_start => {
+                // Skip the quoted scalar: '' is an escaped quote in single quotes, \x escapes
+                // in double quotes. An unterminated quote runs to the end (the parser reports it).
+                i += 1;
+                while i < b.len() {
+                    match b[i] {
+                        b'\n' => line += 1,
+                        b'\\' if c == b'"' => {
+                            if b.get(i + 1) == Some(&b'\n') {
+                                line += 1;
+                            }
+                            i += 1;
+                        }
+                        q if q == c => {
+                            if c == b'\'' && b.get(i + 1) == Some(&b'\'') {
+                                i += 1;
+                            } else {
+                                break;
+                            }
+                        }
+                        _ => {}
+                    }
+                    i += 1;
+                }
+                token_start = false;
+            }
+            b'[' | b'{' if depth > 0 || token_start => {
+                depth += 1;
+                if depth > MAX_FLOW_DEPTH {
+                    return Err((line, depth));
+                }
+                token_start = true;
+            }
+            b']' | b'}' if depth > 0 => {
+                depth -= 1;
+                token_start = false;
+            }
+            b',' if depth > 0 => token_start = true,
+            _ => token_start = false,
+        }
+        i += 1;
+    }
+    Ok(())
 }
 
 /// Turns a serde_yaml error into an [`Error::Input`] at `line L column C` (and the field path
@@ -556,9 +646,7 @@ fn yaml_error(path: &Path, e: serde_yaml::Error) -> Error {
             let msg = full.strip_suffix(&suffix).unwrap_or(&full);
             // serde_yaml writes `field.path: message`; a path contains no spaces.
             let (field, msg) = match msg.split_once(": ") {
-                Some((head, rest)) if !head.contains(' ') && !head.is_empty() => {
-                    (Some(head), rest)
-                }
+                Some((head, rest)) if !head.contains(' ') && !head.is_empty() => (Some(head), rest),
                 _ => (None, msg),
             };
             let at = format!("line {} column {}", loc.line(), loc.column());
@@ -879,19 +967,29 @@ fn build(
             let v = margin(
                 *v,
                 "limits.near_limit_margin",
-                &format!("{} (revolute) and {} (prismatic)", fu.angle.name(), fu.length.name()),
+                &format!(
+                    "{} (revolute) and {} (prismatic)",
+                    fu.angle.name(),
+                    fu.length.name()
+                ),
             )?;
             margin_angle = fu.angle(v);
             margin_length = fu.length(v);
         }
         Some(MarginSpec::Split(s)) => {
             if let Some(v) = s.angle {
-                margin_angle =
-                    fu.angle(margin(v, "limits.near_limit_margin.angle", fu.angle.name())?);
+                margin_angle = fu.angle(margin(
+                    v,
+                    "limits.near_limit_margin.angle",
+                    fu.angle.name(),
+                )?);
             }
             if let Some(v) = s.length {
-                margin_length =
-                    fu.length(margin(v, "limits.near_limit_margin.length", fu.length.name())?);
+                margin_length = fu.length(margin(
+                    v,
+                    "limits.near_limit_margin.length",
+                    fu.length.name(),
+                )?);
             }
         }
     }
@@ -1035,14 +1133,7 @@ fn build(
     let over_joints = ov
         .start_joints
         .as_ref()
-        .map(|v| {
-            joints(
-                v,
-                &ou,
-                At::Option("--start-joints"),
-                "--start-joints",
-            )
-        })
+        .map(|v| joints(v, &ou, At::Option("--start-joints"), "--start-joints"))
         .transpose()?;
     let start_joints = over_joints.or(file_joints);
 
@@ -1253,7 +1344,6 @@ fn check_waypoints(
     Ok(loaded.into_iter().map(|l| l.waypoint).collect())
 }
 
-
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -1384,7 +1474,12 @@ mod tests {
         let motions: Vec<Motion> = job.waypoints.iter().map(|w| w.motion).collect();
         assert_eq!(
             motions,
-            [Motion::Joint, Motion::Linear, Motion::Linear, Motion::Linear]
+            [
+                Motion::Joint,
+                Motion::Linear,
+                Motion::Linear,
+                Motion::Linear
+            ]
         );
         assert_eq!(job.waypoints[2].speed, Some(0.008));
         assert!(job.waypoints[2].process && !job.waypoints[1].process);
@@ -1427,7 +1522,11 @@ mod tests {
         let d = PI / 180.0;
         // source: URDF spec / REP 103, R = Rz(yaw)·Ry(pitch)·Rx(roll)
         let expected = rz(60.0 * d) * ry(45.0 * d) * rx(30.0 * d);
-        assert_relative_eq!(matrix(&job.waypoints[0].work_T_tcp), expected, epsilon = 1e-14);
+        assert_relative_eq!(
+            matrix(&job.waypoints[0].work_T_tcp),
+            expected,
+            epsilon = 1e-14
+        );
     }
 
     #[test]
@@ -1693,7 +1792,11 @@ mod tests {
             "waypoints[1].quat",
             &["too short"],
         );
-        assert_err(&wp("[.nan, 0, 0, 1]"), "waypoints[1].quat", &["NaN", "finite"]);
+        assert_err(
+            &wp("[.nan, 0, 0, 1]"),
+            "waypoints[1].quat",
+            &["NaN", "finite"],
+        );
         let job = load_text(&wp("[2, 0, 0, 0]")).unwrap();
         // source: common practice (normalising by the Euclidean norm: [2,0,0,0] → identity)
         assert_relative_eq!(job.waypoints[1].work_T_tcp.rotation.angle(), 0.0);
@@ -1730,7 +1833,9 @@ mod tests {
             &["finite"],
         );
         assert_err(
-            &format!("{HEAD}tool: {{xyz: [0, 0, 1], free_spin: true, spin_range: [-.inf, 10]}}\n{TWO}"),
+            &format!(
+                "{HEAD}tool: {{xyz: [0, 0, 1], free_spin: true, spin_range: [-.inf, 10]}}\n{TWO}"
+            ),
             "tool.spin_range",
             &["finite"],
         );
@@ -1794,7 +1899,9 @@ mod tests {
             &["greater than 0"],
         );
         assert_err(
-            &format!("{HEAD}tool: {{xyz: [0, 0, 1], free_spin: true, spin_range: [10, -10]}}\n{TWO}"),
+            &format!(
+                "{HEAD}tool: {{xyz: [0, 0, 1], free_spin: true, spin_range: [10, -10]}}\n{TWO}"
+            ),
             "tool.spin_range",
             &["min > max"],
         );
@@ -1819,7 +1926,12 @@ mod tests {
         assert_line_err(
             &format!("{HEAD}speeed: 3\n{TWO}"),
             "line 3 column 1",
-            &["unknown field `speeed`", "`speed`", "`waypoints`", "spelling"],
+            &[
+                "unknown field `speeed`",
+                "`speed`",
+                "`waypoints`",
+                "spelling",
+            ],
         );
         assert_line_err(
             &format!("{HEAD}waypoints:\n  - {{xyz: [0, 0, 0], rpy: [0, 0, 0]}}\n  - {{xyz: [1, 0, 0], rpy: [0, 0, 0], colour: red}}\n"),
@@ -1881,11 +1993,7 @@ mod tests {
             "line 1",
             &["expected a path file: a YAML mapping"],
         );
-        assert_line_err(
-            &format!("{HEAD}waypoints: [\n"),
-            "line",
-            &["YAML syntax"],
-        );
+        assert_line_err(&format!("{HEAD}waypoints: [\n"), "line", &["YAML syntax"]);
     }
 
     #[test]
@@ -1925,7 +2033,12 @@ mod tests {
         assert_err(
             &format!("{HEAD}{}", wps("")),
             "waypoints[1]",
-            &["`a` to `b`", "90", "deg", "set orientation_speed or move the TCP"],
+            &[
+                "`a` to `b`",
+                "90",
+                "deg",
+                "set orientation_speed or move the TCP",
+            ],
         );
         assert!(load_text(&format!("{HEAD}orientation_speed: 30\n{}", wps(""))).is_ok());
         assert!(load_text(&format!("{HEAD}{}", wps(", motion: joint"))).is_ok());
@@ -2001,7 +2114,10 @@ mod tests {
         // Valid UTF-8 but control characters: the YAML parser refuses it.
         std::fs::write(&p, "\u{1}\u{2}\u{3}robot\u{0}").unwrap();
         let (loc, msg) = input_err(load(&p, &none));
-        assert!(!loc.is_empty() && msg.contains("YAML syntax"), "{loc}: {msg}");
+        assert!(
+            !loc.is_empty() && msg.contains("YAML syntax"),
+            "{loc}: {msg}"
+        );
     }
 
     #[test]
@@ -2021,7 +2137,10 @@ mod tests {
             let (loc, msg) = input_err(load(&p, &ov));
             assert!(start.elapsed() < Duration::from_secs(1));
             assert_eq!(loc, "file");
-            assert!(msg.contains("536870913 bytes") && msg.contains("512 MiB"), "{msg}");
+            assert!(
+                msg.contains("536870913 bytes") && msg.contains("512 MiB"),
+                "{msg}"
+            );
         }
     }
 
@@ -2065,20 +2184,40 @@ mod tests {
         for depth in [10_000, 200_000] {
             let seqs = format!("{}{}", "[".repeat(depth), "]".repeat(depth));
             let maps = format!("{}0{}", "{a: ".repeat(depth), "}".repeat(depth));
+            // Quoted closing brackets must not hide real nesting from the pre-scan.
+            let tricky = format!("{}{}", "[ \"]\", ".repeat(depth), "]".repeat(depth));
             let texts = [
-                format!("{HEAD}waypoints:\n  - {{xyz: [0, 0, 0, {seqs}], rpy: [0, 0, 0]}}\n"),
-                format!("{HEAD}waypoints: {seqs}\n"),
-                format!("{HEAD}tool: {maps}\n{TWO}"),
-                format!("{HEAD}{TWO}extra: {maps}\n"),
-                seqs.clone(),
+                (
+                    format!("{HEAD}waypoints:\n  - {{xyz: [0, 0, 0, {seqs}], rpy: [0, 0, 0]}}\n"),
+                    4,
+                ),
+                (format!("{HEAD}waypoints: {seqs}\n"), 3),
+                (format!("{HEAD}tool: {maps}\n{TWO}"), 3),
+                (format!("{HEAD}{TWO}extra: {maps}\n"), 6),
+                (format!("{HEAD}waypoints: {tricky}\n"), 3),
+                (seqs.clone(), 1),
             ];
-            for text in &texts {
+            for (text, line) in &texts {
                 let start = Instant::now();
                 let (loc, msg) = input_err(load_text(text));
                 let took = start.elapsed();
-                assert!(took < Duration::from_secs(5), "depth {depth} took {took:?}");
-                assert!(loc.starts_with("line "), "{loc}: {msg}");
+                assert!(took < Duration::from_secs(2), "depth {depth} took {took:?}");
+                assert_eq!(loc, format!("line {line}"), "{msg}");
+                assert!(msg.contains("65 levels deep"), "{msg}");
             }
         }
+        // Brackets in quotes, comments and mid-text are not nesting.
+        let many = "[".repeat(100);
+        let job = load_text(&format!(
+            "{HEAD}# {many}\nwaypoints:\n  - name: a{many}\n    xyz: [0, 0, 0]\n    rpy: [0, 0, 0]\n  - {{name: 'it''s {many}', xyz: [1, 0, 0], rpy: [0, 0, 0]}}\n  - {{name: \"\\\"{many}\", xyz: [2, 0, 0], rpy: [0, 0, 0]}}\n"
+        ))
+        .unwrap();
+        assert_eq!(job.waypoints[0].name, format!("a{many}"));
+        assert_eq!(job.waypoints[1].name, format!("it's {many}"));
+        assert_eq!(job.waypoints[2].name, format!("\"{many}"));
+        // 64 levels pass the pre-scan and reach the reader, which reports the wrong shape.
+        let deep64 = format!("{}{}", "[".repeat(63), "]".repeat(63));
+        let (_, msg) = input_err(load_text(&format!("{HEAD}waypoints: [{deep64}]\n")));
+        assert!(msg.contains("invalid type"), "{msg}");
     }
 }

@@ -25,7 +25,9 @@ impl RobotInfo {
         let w = spherical_wrist(robot);
         RobotInfo {
             robot: RobotReport::new(robot),
-            wrist_centre_mm: w.centre_at_zero.map(|c| [c[0] * 1e3, c[1] * 1e3, c[2] * 1e3]),
+            wrist_centre_mm: w
+                .centre_at_zero
+                .map(|c| [c[0] * 1e3, c[1] * 1e3, c[2] * 1e3]),
             wrist_note: w.reason,
             analytic: None,
         }

@@ -179,11 +179,15 @@ pub struct FindingReport {
     pub value: Option<f64>,
     pub limit: Option<f64>,
     pub unit: &'static str,
+    /// `joint_jump` only: the change of each joint across the jump, by joint name (deg; mm
+    /// for prismatic joints).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub joint_deltas: Option<std::collections::BTreeMap<String, f64>>,
     pub message: String,
 }
 
 impl FindingReport {
-    pub fn new(f: &Finding) -> Self {
+    pub fn new(f: &Finding, robot: &Robot) -> Self {
         let q = f.quantity;
         FindingReport {
             kind: f.kind.name(),
@@ -198,6 +202,14 @@ impl FindingReport {
             value: f.value.map(|v| q.display(v)),
             limit: f.limit.map(|v| q.display(v)),
             unit: q.unit(),
+            joint_deltas: f.deltas.as_ref().map(|d| {
+                robot
+                    .joints()
+                    .iter()
+                    .zip(d)
+                    .map(|(j, v)| (j.name.clone(), joint_display(j.kind, *v)))
+                    .collect()
+            }),
             message: f.message.clone(),
         }
     }
@@ -288,7 +300,11 @@ impl Report {
                 min_limit_margin_ratio: finite(e.min_limit_margin_ratio),
                 min_limit_margin_joint: joint_name(e.min_limit_margin_joint),
             },
-            findings: r.findings.iter().map(FindingReport::new).collect(),
+            findings: r
+                .findings
+                .iter()
+                .map(|f| FindingReport::new(f, r.robot))
+                .collect(),
             cautions: CAUTIONS.to_vec(),
         }
     }

@@ -34,7 +34,11 @@ pub fn render_text(report: &Report, style: Style) -> String {
     let r = &report.robot;
     let p = &report.path;
     let s = &report.summary;
-    let _ = writeln!(o, "armpath {} · check of {}", report.armpath_version, p.file);
+    let _ = writeln!(
+        o,
+        "armpath {} · check of {}",
+        report.armpath_version, p.file
+    );
     let _ = writeln!(
         o,
         "  robot    {} · {} joints · tip {} · {} wrist · reach ≈ {:.0} mm",

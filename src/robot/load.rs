@@ -87,7 +87,9 @@ pub fn from_urdf_str(text: &str, path: &Path, tip: Option<&str>) -> Result<Robot
         Error::robot(
             path,
             "XML",
-            format!("is not valid URDF ({e}): check that the file is a complete <robot> description"),
+            format!(
+                "is not valid URDF ({e}): check that the file is a complete <robot> description"
+            ),
         )
     })?;
     build(&urdf, path, tip)

@@ -54,8 +54,7 @@ impl SingularityModel {
                 let z3 = frames[2].rotation * chain.joints()[2].axis.into_inner();
                 // Axes 2 and 3 parallel within 1e-6 rad: URDF angle rounding is far below.
                 if z2.cross(&z3).norm() < 1e-6 {
-                    wrist_centre_in_j4 =
-                        Some(frames[3].inverse_transform_point(&c.into()).coords);
+                    wrist_centre_in_j4 = Some(frames[3].inverse_transform_point(&c.into()).coords);
                 }
             }
         }

@@ -35,7 +35,10 @@ pub fn spherical_wrist(robot: &Robot) -> WristCheck {
     if n < 3 {
         return no("the arm has fewer than three joints", f64::NAN);
     }
-    if chain.joints()[n - 3..].iter().any(|j| j.kind.is_prismatic()) {
+    if chain.joints()[n - 3..]
+        .iter()
+        .any(|j| j.kind.is_prismatic())
+    {
         return no("one of the last three joints is prismatic", f64::NAN);
     }
     // Check at two configurations: the zero pose and one away from it, so that a wrist
@@ -43,9 +46,12 @@ pub fn spherical_wrist(robot: &Robot) -> WristCheck {
     let mut worst = 0.0f64;
     let mut centre0 = None;
     let mut frames = vec![Isometry3::identity(); n];
-    for (k, q) in [vec![0.0; n], (0..n).map(|i| 0.3 + 0.17 * i as f64).collect()]
-        .iter()
-        .enumerate()
+    for (k, q) in [
+        vec![0.0; n],
+        (0..n).map(|i| 0.3 + 0.17 * i as f64).collect(),
+    ]
+    .iter()
+    .enumerate()
     {
         chain.joint_frames(q, &mut frames);
         let lines: Vec<(Point3<f64>, Vector3<f64>)> = (n - 3..n)

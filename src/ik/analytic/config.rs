@@ -181,6 +181,9 @@ mod tests {
         assert_eq!(Config::ALL[0].to_string(), "front/up/noflip");
         assert_eq!(Config::ALL[7].to_string(), "back/down/flip");
         assert!("front/up".parse::<Config>().is_err());
-        assert!("front/sideways/flip".parse::<Config>().unwrap_err().contains("elbow"));
+        assert!("front/sideways/flip"
+            .parse::<Config>()
+            .unwrap_err()
+            .contains("elbow"));
     }
 }

@@ -128,7 +128,10 @@ pub(super) fn detect(robot: &Robot) -> Result<Model, String> {
     }
     let ang = line_angle(&d[1], &d[2]);
     if ang > ANGLE_TOLERANCE {
-        return Err(format!("axes 2 and 3 are not parallel (angle {})", deg(ang)));
+        return Err(format!(
+            "axes 2 and 3 are not parallel (angle {})",
+            deg(ang)
+        ));
     }
     let wrist = spherical_wrist(robot);
     let (true, Some(w0)) = (wrist.spherical, wrist.centre_at_zero) else {

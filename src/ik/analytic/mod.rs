@@ -184,7 +184,10 @@ impl SpecialPose {
 
     /// True when any flag is set.
     pub fn any(&self) -> bool {
-        self.wrist_singular || self.elbow_stretched || self.elbow_folded || self.wrist_centre_on_axis1
+        self.wrist_singular
+            || self.elbow_stretched
+            || self.elbow_folded
+            || self.wrist_centre_on_axis1
     }
 }
 
