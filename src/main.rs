@@ -6,6 +6,7 @@ use armpath::error::{Error, Result};
 use armpath::ik::{IkOptions, NumericIk};
 use armpath::job::{self, Overrides};
 use armpath::output;
+use armpath::report::html::HtmlReport;
 use armpath::report::kinematics::{IkReport, IkSolutionReport, PoseReport, RobotInfo};
 use armpath::report::{render_text, JointsCsv, Style};
 use armpath::robot::{load_urdf, Robot};
@@ -105,10 +106,10 @@ struct CheckArgs {
     #[arg(long, value_name = "LINK")]
     tip: Option<String>,
     /// TCP speed, length unit per second (replaces `speed:`).
-    #[arg(long, value_name = "V")]
+    #[arg(long, value_name = "V", allow_negative_numbers = true)]
     speed: Option<f64>,
     /// Programmed reorientation speed, angle unit per second.
-    #[arg(long, value_name = "W")]
+    #[arg(long, value_name = "W", allow_negative_numbers = true)]
     orientation_speed: Option<f64>,
     /// Tool "x,y,z,roll,pitch,yaw" in the tip-link frame (replaces `tool:` pose).
     #[arg(long, value_name = "X,Y,Z,R,P,Y", allow_hyphen_values = true)]
@@ -120,16 +121,16 @@ struct CheckArgs {
     #[arg(long, value_name = "LIST", allow_hyphen_values = true)]
     start_joints: Option<String>,
     /// Largest tool angular speed, angle unit per second.
-    #[arg(long, value_name = "W")]
+    #[arg(long, value_name = "W", allow_negative_numbers = true)]
     tool_angular_speed: Option<f64>,
     /// Fraction of each joint's URDF velocity that may be used, in (0, 1].
-    #[arg(long, value_name = "F")]
+    #[arg(long, value_name = "F", allow_negative_numbers = true)]
     joint_speed_scale: Option<f64>,
     /// Largest TCP step between samples, length unit.
-    #[arg(long, value_name = "D")]
+    #[arg(long, value_name = "D", allow_negative_numbers = true)]
     step: Option<f64>,
     /// Largest orientation step between samples, angle unit.
-    #[arg(long, value_name = "A")]
+    #[arg(long, value_name = "A", allow_negative_numbers = true)]
     angle_step: Option<f64>,
     /// Length unit of the values given on the command line (and of a CSV file): mm or m.
     #[arg(long, value_name = "UNIT")]
@@ -138,10 +139,10 @@ struct CheckArgs {
     #[arg(long, value_name = "UNIT")]
     angle_unit: Option<String>,
     /// Singularity measure below which a warning is raised (dimensionless, default 0.01).
-    #[arg(long, value_name = "X")]
+    #[arg(long, value_name = "X", allow_negative_numbers = true)]
     singularity_threshold: Option<f64>,
     /// Refuse paths that would need more samples than N (default 100000000).
-    #[arg(long, value_name = "N")]
+    #[arg(long, value_name = "N", allow_negative_numbers = true)]
     max_samples: Option<u64>,
     /// Write the report as JSON to FILE ('-' for standard output, replacing the text report).
     #[arg(long, value_name = "FILE")]
@@ -149,6 +150,9 @@ struct CheckArgs {
     /// Write the joint trajectory as CSV to FILE.
     #[arg(long, value_name = "FILE")]
     joints: Option<PathBuf>,
+    /// Write a self-contained HTML page (verdict, findings, plots, path views) to FILE.
+    #[arg(long, value_name = "FILE")]
+    html: Option<PathBuf>,
     /// Print no text report (the exit code and any files still tell the result).
     #[arg(long, short)]
     quiet: bool,
@@ -158,8 +162,21 @@ fn main() -> ExitCode {
     let cli = match Cli::try_parse() {
         Ok(c) => c,
         Err(e) => {
-            let _ = e.print();
-            return ExitCode::from(if e.use_stderr() { 2 } else { 0 });
+            use clap::error::ErrorKind;
+            return match e.kind() {
+                ErrorKind::DisplayHelp | ErrorKind::DisplayVersion => {
+                    let _ = e.print();
+                    ExitCode::SUCCESS
+                }
+                ErrorKind::DisplayHelpOnMissingArgumentOrSubcommand => {
+                    let _ = e.print();
+                    ExitCode::from(2)
+                }
+                _ => {
+                    eprintln!("armpath: error: {}", one_line_usage_error(&e));
+                    ExitCode::from(2)
+                }
+            };
         }
     };
     let result = match cli.command {
@@ -175,6 +192,66 @@ fn main() -> ExitCode {
             ExitCode::from(2)
         }
     }
+}
+
+/// A command-line parse error as one line, like every other error: what is wrong (naming the
+/// option), the parser's suggestion if any, and where to find the options.
+fn one_line_usage_error(e: &clap::Error) -> String {
+    let text = e.render().to_string();
+    let lines: Vec<&str> = text
+        .lines()
+        .map(str::trim)
+        .filter(|l| !l.is_empty())
+        .collect();
+    let is_aside = |l: &&str| l.starts_with("tip: ") || l.starts_with("Usage: ");
+    // The message proper runs up to the first aside (a list of missing arguments follows
+    // "not provided:" on lines of its own) and stops before the "For more information" line.
+    let what = lines
+        .iter()
+        .take_while(|l| !is_aside(l) && !l.starts_with("For more information"))
+        .copied()
+        .collect::<Vec<_>>()
+        .join(" ");
+    let what = what.trim_start_matches("error: ");
+    let tip = lines
+        .iter()
+        .find_map(|l| l.strip_prefix("tip: "))
+        .map(|t| format!("{t}; "))
+        .unwrap_or_default();
+    let command = match std::env::args().nth(1).as_deref() {
+        Some(c @ ("check" | "robot" | "fk" | "ik")) => format!("armpath {c}"),
+        _ => "armpath".to_string(),
+    };
+    format!("{what}: {tip}see `{command} --help` for the options")
+}
+
+/// Refuses an output path that cannot be written before any work is done: a folder, or a
+/// file in a folder that does not exist. `-` (standard output) always passes.
+fn check_output(option: &str, path: &Option<PathBuf>) -> Result<()> {
+    let Some(p) = path.as_deref().filter(|p| p.as_os_str() != "-") else {
+        return Ok(());
+    };
+    if p.is_dir() {
+        return Err(Error::usage(
+            option,
+            format!(
+                "{} is a folder: give a file name for the output",
+                p.display()
+            ),
+        ));
+    }
+    if let Some(dir) = p.parent().filter(|d| !d.as_os_str().is_empty()) {
+        if !dir.is_dir() {
+            return Err(Error::usage(
+                option,
+                format!(
+                    "the folder {} does not exist: create it or write the output elsewhere",
+                    dir.display()
+                ),
+            ));
+        }
+    }
+    Ok(())
 }
 
 /// Parse "a,b,c" into numbers; `option` names the flag in messages.
@@ -255,6 +332,7 @@ fn is_stdout(p: &Option<PathBuf>) -> bool {
 }
 
 fn run_robot(a: RobotArgs) -> Result<u8> {
+    check_output("--json", &a.json)?;
     let robot = load_urdf(&a.robot, a.tip.as_deref())?;
     let info = RobotInfo::new(&robot);
     if !is_stdout(&a.json) {
@@ -267,6 +345,7 @@ fn run_robot(a: RobotArgs) -> Result<u8> {
 }
 
 fn run_fk(a: FkArgs) -> Result<u8> {
+    check_output("--json", &a.json)?;
     let robot = load_robot(&a.sel)?;
     let q = joints_si(&robot, "--joints", &a.joints, a.rad)?;
     let outside: Vec<&str> = robot
@@ -293,6 +372,7 @@ fn run_fk(a: FkArgs) -> Result<u8> {
 }
 
 fn run_ik(a: IkArgs) -> Result<u8> {
+    check_output("--json", &a.json)?;
     let robot = load_robot(&a.sel)?;
     let p = numbers("--pose", &a.pose, Some(7))?;
     let (rot, norm) =
@@ -350,6 +430,9 @@ fn run_ik(a: IkArgs) -> Result<u8> {
 }
 
 fn run_check(a: CheckArgs) -> Result<u8> {
+    check_output("--json", &a.json)?;
+    check_output("--joints", &a.joints)?;
+    check_output("--html", &a.html)?;
     let overrides = Overrides {
         robot: a.robot.clone(),
         tip: a.tip.clone(),
@@ -386,20 +469,31 @@ fn run_check(a: CheckArgs) -> Result<u8> {
     }
     // Open outputs before the walk so that a bad output path fails early.
     let mut csv = a.joints.as_deref().map(JointsCsv::create).transpose()?;
+    let mut html = a
+        .html
+        .as_deref()
+        .map(|p| HtmlReport::create(p, &job))
+        .transpose()?;
     let report = {
         let mut sinks: Vec<&mut dyn SampleSink> = Vec::new();
         if let Some(c) = csv.as_mut() {
             sinks.push(c);
+        }
+        if let Some(h) = html.as_mut() {
+            sinks.push(h);
         }
         check(&job, &robot, &options, &mut sinks)?
     };
     if let Some(c) = csv.take() {
         c.finish()?;
     }
+    if let Some(h) = html.take() {
+        h.finish(&report)?;
+    }
     if let Some(p) = &a.json {
         write_json(p, &report)?;
     }
-    if !a.quiet && !is_stdout(&a.json) {
+    if !a.quiet && !is_stdout(&a.json) && !is_stdout(&a.html) {
         let stdout = std::io::stdout();
         let color = stdout.is_terminal() && std::env::var_os("NO_COLOR").is_none();
         print!("{}", render_text(&report, Style { color }));

@@ -11,7 +11,7 @@
 //! continues there and the change is reported as a jump) from one that is not reachable at
 //! all (`unreachable`, and the walk continues from the last reached joints).
 
-use crate::ik::{IkOptions, NumericIk};
+use crate::ik::{IkOptions, NumericIk, WarmStart};
 use crate::job::{Job, Motion};
 use crate::plan::{Plan, Segment};
 use crate::robot::{Jacobian, Robot, SingularityClass, SingularityModel, MAX_DOF};
@@ -241,12 +241,14 @@ impl<'a> Walker<'a> {
         let n = self.robot.dof();
         let mut state = State {
             prev: None,
+            warm: WarmStart::new(),
             index: 0,
             s: 0.0,
             t: 0.0,
             last_good: [0.0; MAX_DOF],
         };
         state.last_good[..n].copy_from_slice(&start.joints);
+        state.warm.reset(&start.joints);
         // The first sample: waypoint 0.
         let first_target = self.plan.waypoints_base[0];
         let reach = if start.method == "unreachable" {
@@ -302,7 +304,7 @@ impl<'a> Walker<'a> {
             let mut q = [0.0; MAX_DOF];
             let out = self
                 .tracker
-                .solve(&target, &state.last_good[..n], &mut q[..n]);
+                .solve_warm(&target, &mut state.warm, &mut q[..n]);
             let mut reach = Reach::Reached;
             let (mut pe, mut oe) = (out.position_error, out.orientation_error);
             if !out.converged {
@@ -469,6 +471,11 @@ impl<'a> Walker<'a> {
         if a.reach == Reach::Reached {
             state.last_good = a.q;
         }
+        // Keep the warm start on the last reached joints (a failed or restarted solve, or a
+        // joint segment, leaves it elsewhere).
+        if state.warm.joints()[..n] != state.last_good[..n] {
+            state.warm.reset(&state.last_good[..n]);
+        }
         state.prev = Some(rec);
     }
 
@@ -538,6 +545,8 @@ impl<'a> Walker<'a> {
 
 struct State {
     prev: Option<SampleRecord>,
+    /// The tracker's warm start: always the last reached joints, evaluated.
+    warm: WarmStart,
     index: usize,
     s: f64,
     t: f64,

@@ -3,7 +3,7 @@
 pub mod analytic;
 mod numeric;
 
-pub use numeric::{IkOptions, IkOutcome, NumericIk};
+pub use numeric::{IkOptions, IkOutcome, NumericIk, WarmStart};
 
 use nalgebra::{Isometry3, Vector6};
 

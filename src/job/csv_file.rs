@@ -23,7 +23,7 @@
 //! incrementally, so time grows linearly with the number of rows.
 
 use super::units::{self, PoseError, RawOrientation, Units};
-use super::yaml::{check_file, LoadedWaypoint};
+use super::yaml::{check_file, read_file, LoadedWaypoint};
 use super::{InputWarning, Motion, Waypoint};
 use crate::error::Error;
 use std::path::Path;
@@ -63,14 +63,18 @@ pub(super) fn read_waypoints(
     check_file(path, "CSV waypoint file", referenced_by)?;
     // Read whole (at most MAX_FILE_BYTES): line numbers are counted from the bytes, because
     // the csv reader's own line count skips comment lines.
-    let bytes = std::fs::read(path).map_err(|e| {
-        Error::input(
-            path,
-            "file",
-            format!("cannot be read ({e}): check that the file is readable"),
-        )
-    })?;
-    let mut lines = LineCounter::new(&bytes);
+    let bytes = read_file(path, "CSV waypoint file")?;
+    parse_waypoints(&bytes, path, units, warnings)
+}
+
+/// The waypoints of CSV text already in memory; `path` names the file in messages.
+pub(super) fn parse_waypoints(
+    bytes: &[u8],
+    path: &Path,
+    units: &Units,
+    warnings: &mut Vec<InputWarning>,
+) -> Result<Vec<LoadedWaypoint>, Error> {
+    let mut lines = LineCounter::new(bytes);
     let mut reader = csv::ReaderBuilder::new()
         // The header is read by hand so that its line number is known and checked like data.
         .has_headers(false)
@@ -78,7 +82,7 @@ pub(super) fn read_waypoints(
         .flexible(true)
         .trim(csv::Trim::All)
         .comment(Some(b'#'))
-        .from_reader(bytes.as_slice());
+        .from_reader(bytes);
 
     let file_name = path
         .file_name()
@@ -110,8 +114,24 @@ pub(super) fn read_waypoints(
     Ok(out)
 }
 
-/// Reads the next record; `false` at end of file.
+/// Reads the next record; `false` at end of file. A line of only spaces (one empty field after
+/// trimming) is skipped like an empty line.
 fn read<R: std::io::Read>(
+    reader: &mut csv::Reader<R>,
+    record: &mut csv::StringRecord,
+    path: &Path,
+    lines: &mut LineCounter,
+) -> Result<bool, Error> {
+    loop {
+        let more = read_one(reader, record, path, lines)?;
+        let blank = more && record.len() == 1 && record[0].is_empty();
+        if !blank {
+            return Ok(more);
+        }
+    }
+}
+
+fn read_one<R: std::io::Read>(
     reader: &mut csv::Reader<R>,
     record: &mut csv::StringRecord,
     path: &Path,
@@ -120,16 +140,21 @@ fn read<R: std::io::Read>(
     reader.read_record(record).map_err(|e| {
         let location = e
             .position()
-            .map(|p| format!("line {}", lines.line_at(p.byte())))
+            .map(|p| format!("line {}", lines.line_of_record_at(p.byte())))
             .unwrap_or_else(|| "file".to_string());
-        let hint = match e.kind() {
-            csv::ErrorKind::Utf8 { .. } => {
-                "the file is not UTF-8 text: save it as UTF-8 CSV (comma-separated)"
+        // Own wording: the csv crate's message embeds its own line count, which skips
+        // comment lines and would contradict `location`.
+        let message = match e.kind() {
+            csv::ErrorKind::Utf8 { err, .. } => format!(
+                "field {} is not UTF-8 text: save the file as UTF-8 CSV (comma-separated)",
+                err.field() + 1
+            ),
+            csv::ErrorKind::Io(io) => {
+                format!("could not be read ({io}): check that the file is readable")
             }
-            csv::ErrorKind::Io(_) => "check that the file is readable",
-            _ => "check the CSV syntax (commas, quotes) on that line",
+            _ => format!("{e}: check the CSV syntax (commas, quotes) on that line"),
         };
-        Error::input(path, location, format!("{e}: {hint}"))
+        Error::input(path, location, message)
     })
 }
 
@@ -152,7 +177,9 @@ impl<'a> LineCounter<'a> {
     }
 
     fn line_at(&mut self, byte: u64) -> u64 {
-        let byte = usize::try_from(byte).unwrap_or(usize::MAX).min(self.bytes.len());
+        let byte = usize::try_from(byte)
+            .unwrap_or(usize::MAX)
+            .min(self.bytes.len());
         if byte < self.pos {
             self.pos = 0;
             self.line = 1;
@@ -166,11 +193,32 @@ impl<'a> LineCounter<'a> {
         self.line
     }
 
+    /// Line of a record. The reader's position for a record is where it started looking, which
+    /// may be a comment or blank line it then skipped; those are stepped over here.
     fn line_of(&mut self, record: &csv::StringRecord) -> u64 {
         match record.position() {
-            Some(p) => self.line_at(p.byte()),
+            Some(p) => self.line_of_record_at(p.byte()),
             None => self.line,
         }
+    }
+
+    /// Line of the first record line at or after `byte`, skipping comment and empty lines.
+    fn line_of_record_at(&mut self, byte: u64) -> u64 {
+        let mut at = usize::try_from(byte).unwrap_or(usize::MAX);
+        while at < self.bytes.len() {
+            match self.bytes[at] {
+                b'#' | b'\r' | b'\n' => {
+                    if self.bytes[at] == b'#' || self.bytes[at] == b'\r' {
+                        while at < self.bytes.len() && self.bytes[at] != b'\n' {
+                            at += 1;
+                        }
+                    }
+                    at += 1;
+                }
+                _ => break,
+            }
+        }
+        self.line_at(at as u64)
     }
 }
 
@@ -509,7 +557,10 @@ mod tests {
         assert_eq!(w[1].motion, Motion::Linear);
         assert_eq!(w[2].speed, Some(0.008));
         assert!(w[2].process && !w[1].process);
-        assert_relative_eq!(w[2].work_T_tcp.translation.vector, Vector3::new(0.4, 0.0, 0.0));
+        assert_relative_eq!(
+            w[2].work_T_tcp.translation.vector,
+            Vector3::new(0.4, 0.0, 0.0)
+        );
         // source: URDF spec / REP 103, R = Rz(yaw)·Ry(pitch)·Rx(roll)
         assert_relative_eq!(
             w[2].work_T_tcp.rotation.to_rotation_matrix().into_inner(),
@@ -611,7 +662,11 @@ mod tests {
         assert_csv_err(
             "x,y,z,roll,pitch,yaw,qw,qx,qy,qz\n",
             "line 1",
-            &["more than one orientation set", "qw,qx,qy,qz", "roll,pitch,yaw"],
+            &[
+                "more than one orientation set",
+                "qw,qx,qy,qz",
+                "roll,pitch,yaw",
+            ],
         );
         assert_csv_err(
             "x,y,z,qw,qx,qy\n",
@@ -731,6 +786,12 @@ mod tests {
             .unwrap_or_else(|| panic!("{:?}", job.warnings));
         assert_eq!(w.waypoint, Some(0));
         assert!(w.message.contains("length 2"));
+        // Comments and blank lines before the header and between rows keep line numbers right.
+        assert_csv_err(
+            "# made by hand\n   \nx,y,z,roll,pitch,yaw\n# first\n  \n\n0,0,0,0,0,0\r\n# two\r\n1,0,abc,0,0,0\n",
+            "line 9, column z",
+            &["`abc`"],
+        );
         // A repeated pose is a warning, not an error.
         let (job, _dir) = load_csv(
             "x,y,z,roll,pitch,yaw\n0,0,0,0,0,0\n0,0,0,0,0,0\n5,0,0,0,0,0\n",
@@ -746,13 +807,13 @@ mod tests {
     fn non_utf8_csv_is_an_error() {
         let dir = tempfile::tempdir().unwrap();
         let p = dir.path().join("bin.csv");
-        std::fs::write(&p, b"x,y,z,roll,pitch,yaw\n0,0,\xff\xfe,0,0,0\n").unwrap();
+        std::fs::write(&p, b"x,y,z,roll,pitch,yaw\n# c\n0,0,\xff\xfe,0,0,0\n").unwrap();
         match load(&p, &overrides()) {
             Err(Error::Input {
                 location, message, ..
             }) => {
-                assert_eq!(location, "line 2");
-                assert!(message.contains("UTF-8"), "{message}");
+                assert_eq!(location, "line 3");
+                assert!(message.contains("field 3 is not UTF-8"), "{message}");
             }
             other => panic!("{other:?}"),
         }
@@ -786,7 +847,12 @@ mod tests {
         text.push_str("name,x,y,z,roll,pitch,yaw,speed\n");
         for i in 0..100_000 {
             let s = i as f64 * 0.5;
-            text.push_str(&format!("p{i},{s},{},{},180,0,{},\n", s.sin(), 0.1 * s, i % 90));
+            text.push_str(&format!(
+                "p{i},{s},{},{},180,0,{},\n",
+                s.sin(),
+                0.1 * s,
+                i % 90
+            ));
         }
         std::fs::write(&p, text).unwrap();
         let start = Instant::now();

@@ -9,8 +9,8 @@ mod csv_file;
 mod units;
 mod yaml;
 
-pub use units::Units;
-pub use yaml::{load, Overrides};
+pub use units::{AngleUnit, LengthUnit, Units};
+pub use yaml::{load, load_bytes, Overrides};
 
 /// How the TCP moves from the previous waypoint to this one.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
@@ -158,7 +158,7 @@ pub struct Job {
     pub sampling: Sampling,
     /// The units the file was written in (for echoing values back to the user).
     pub units: Units,
-    /// At least one waypoint.
+    /// At least two waypoints (a path needs a start and an end).
     pub waypoints: Vec<Waypoint>,
     pub warnings: Vec<InputWarning>,
 }

@@ -177,7 +177,7 @@ pub(super) struct Converted {
 
 impl RawOrientation {
     /// The key (YAML) or column set (CSV) of this form, for messages.
-    pub fn key(&self) -> &'static str {
+    pub fn key(self) -> &'static str {
         match self {
             RawOrientation::Rpy(_) => "rpy",
             RawOrientation::Quat(_) => "quat",
@@ -187,8 +187,8 @@ impl RawOrientation {
 
     /// The rotation in SI. Errors (as a message) on non-finite numbers and on quaternions that
     /// are zero or too short to normalise.
-    pub fn to_rotation(&self, units: &Units) -> Result<Converted, String> {
-        match *self {
+    pub fn to_rotation(self, units: &Units) -> Result<Converted, String> {
+        match self {
             RawOrientation::Rpy(v) => {
                 check_finite_array(&v)?;
                 let [r, p, y] = v.map(|a| units.angle(a));
@@ -270,6 +270,17 @@ pub(super) fn check_finite_array(v: &[f64]) -> Result<(), String> {
         ));
     }
     Ok(())
+}
+
+/// A number for messages: at most 6 decimals, trailing zeros dropped (`90`, `0.125`).
+pub(super) fn fmt_num(v: f64) -> String {
+    let s = format!("{v:.6}");
+    let s = s.trim_end_matches('0').trim_end_matches('.');
+    if s == "-0" {
+        "0".to_string()
+    } else {
+        s.to_string()
+    }
 }
 
 /// `[a, b, c]` with Rust's shortest round-trip float formatting.
@@ -366,6 +377,15 @@ mod tests {
             .to_rotation(&Units::default())
             .unwrap_err();
         assert!(e.contains("NaN") && e.contains("finite"), "{e}");
+    }
+
+    #[test]
+    fn number_formatting() {
+        assert_eq!(fmt_num(90.0), "90");
+        assert_eq!(fmt_num(0.125), "0.125");
+        assert_eq!(fmt_num(-1e-9), "0");
+        assert_eq!(fmt_num(1.0 / 3.0), "0.333333");
+        assert_eq!(fmt_list(&[0.0, -2.5]), "[0, -2.5]");
     }
 
     #[test]

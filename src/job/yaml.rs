@@ -21,7 +21,7 @@
 //! Everything is converted to SI (m, rad, s) here, once.
 
 use super::csv_file;
-use super::units::{self, check_finite_array, fmt_list, AngleUnit, LengthUnit, PoseError};
+use super::units::{self, check_finite_array, fmt_list, fmt_num, AngleUnit, LengthUnit, PoseError};
 use super::units::{RawOrientation, Units};
 use super::{
     ConfigRequest, InputWarning, Job, Limits, Motion, Sampling, StartJoints, Tool, Waypoint,
@@ -84,7 +84,7 @@ const DEFAULT_SPIN_RANGE_DEG: (f64, f64) = (-180.0, 180.0);
 /// directly, `units_length` / `units_angle` are also the units of the CSV values.
 ///
 /// Error locations for bad override values name the option as `--speed`, `--tool`, ... (the
-/// field name in kebab case; `--units` for both unit fields).
+/// field name in kebab case; `--length-unit` and `--angle-unit` for the unit fields).
 #[derive(Debug, Clone, Default)]
 pub struct Overrides {
     /// URDF of the robot, used as given (relative to the working directory).
@@ -121,10 +121,10 @@ impl Overrides {
     pub fn units(&self) -> Result<Units, Error> {
         let mut u = Units::default();
         if let Some(s) = &self.units_length {
-            u.length = LengthUnit::parse(s).map_err(|m| Error::usage("--units", m))?;
+            u.length = LengthUnit::parse(s).map_err(|m| Error::usage("--length-unit", m))?;
         }
         if let Some(s) = &self.units_angle {
-            u.angle = AngleUnit::parse(s).map_err(|m| Error::usage("--units", m))?;
+            u.angle = AngleUnit::parse(s).map_err(|m| Error::usage("--angle-unit", m))?;
         }
         Ok(u)
     }
@@ -468,6 +468,35 @@ pub(super) fn check_file(path: &Path, what: &str, referenced_by: &str) -> Result
     Ok(())
 }
 
+/// Reads a whole file of at most [`MAX_FILE_BYTES`]. The cap is applied while reading, as a
+/// device or pipe (`/dev/zero`) reports length 0 and may never end. Call [`check_file`] first
+/// for the friendlier messages on missing files and folders.
+pub(super) fn read_file(path: &Path, what: &str) -> Result<Vec<u8>, Error> {
+    use std::io::Read;
+    let mut bytes = Vec::new();
+    std::fs::File::open(path)
+        .and_then(|f| f.take(MAX_FILE_BYTES + 1).read_to_end(&mut bytes))
+        .map_err(|e| {
+            Error::input(
+                path,
+                "file",
+                format!("the {what} cannot be read ({e}): check that the file is readable"),
+            )
+        })?;
+    if bytes.len() as u64 > MAX_FILE_BYTES {
+        return Err(Error::input(
+            path,
+            "file",
+            format!(
+                "is larger than the {} MiB armpath reads: a {what} this large is almost \
+                 certainly the wrong file; split a genuinely long path into several files",
+                MAX_FILE_BYTES / (1024 * 1024)
+            ),
+        ));
+    }
+    Ok(bytes)
+}
+
 /// Reads the job in `path`: a YAML path file, or a CSV waypoint file when the extension is
 /// `.csv` (any case), then applies `overrides` (see [`Overrides`] for units and precedence).
 ///
@@ -476,13 +505,31 @@ pub(super) fn check_file(path: &Path, what: &str, referenced_by: &str) -> Result
 /// around (quaternion off unit length, repeated waypoints, settings that have no effect)
 /// become [`InputWarning`]s in the job.
 pub fn load(path: &Path, overrides: &Overrides) -> Result<Job, Error> {
+    let what = if is_csv(path) {
+        "CSV waypoint file"
+    } else {
+        "path file"
+    };
+    check_file(path, what, "")?;
+    let bytes = read_file(path, what)?;
+    load_bytes(&bytes, path, overrides)
+}
+
+/// True when `path` names a CSV waypoint file (extension `.csv`, any case).
+fn is_csv(path: &Path) -> bool {
+    path.extension()
+        .is_some_and(|e| e.to_string_lossy().eq_ignore_ascii_case("csv"))
+}
+
+/// As [`load`], for file contents already in memory (the fuzz targets use it). `path` picks
+/// the format by its extension, names the file in messages, and is the base against which a
+/// `robot:` and a `waypoints: <file.csv>` are resolved; a CSV file named that way is still
+/// read from disk.
+pub fn load_bytes(bytes: &[u8], path: &Path, overrides: &Overrides) -> Result<Job, Error> {
     let override_units = overrides.units()?;
-    let is_csv = path
-        .extension()
-        .is_some_and(|e| e.to_string_lossy().eq_ignore_ascii_case("csv"));
-    if is_csv {
+    if is_csv(path) {
         let mut warnings = Vec::new();
-        let waypoints = csv_file::read_waypoints(path, &override_units, "", &mut warnings)?;
+        let waypoints = csv_file::parse_waypoints(bytes, path, &override_units, &mut warnings)?;
         build(
             path,
             PathFileSpec::default(),
@@ -493,7 +540,7 @@ pub fn load(path: &Path, overrides: &Overrides) -> Result<Job, Error> {
             warnings,
         )
     } else {
-        let spec = parse_yaml(path)?;
+        let spec = parse_yaml(bytes, path)?;
         let file_units = match &spec.units {
             None => Units::default(),
             Some(u) => Units {
@@ -521,19 +568,11 @@ enum Source {
     Csv(Vec<LoadedWaypoint>, PathBuf),
 }
 
-fn parse_yaml(path: &Path) -> Result<PathFileSpec, Error> {
-    check_file(path, "path file", "")?;
-    let bytes = std::fs::read(path).map_err(|e| {
+fn parse_yaml(bytes: &[u8], path: &Path) -> Result<PathFileSpec, Error> {
+    let text = std::str::from_utf8(bytes).map_err(|e| {
         Error::input(
             path,
-            "file",
-            format!("cannot be read ({e}): check that the file is readable"),
-        )
-    })?;
-    let text = String::from_utf8(bytes).map_err(|e| {
-        Error::input(
-            path,
-            format!("byte {}", e.utf8_error().valid_up_to()),
+            format!("byte {}", e.valid_up_to()),
             "is not UTF-8 text (a binary file?): give a YAML path file saved as UTF-8, or a \
              .csv waypoint file",
         )
@@ -550,7 +589,7 @@ fn parse_yaml(path: &Path) -> Result<PathFileSpec, Error> {
              `speed:` and `waypoints:`)",
         ));
     }
-    if let Err((line, depth)) = check_flow_depth(&text) {
+    if let Err((line, depth)) = check_flow_depth(text) {
         return Err(Error::input(
             path,
             format!("line {line}"),
@@ -560,7 +599,7 @@ fn parse_yaml(path: &Path) -> Result<PathFileSpec, Error> {
             ),
         ));
     }
-    serde_yaml::from_str(&text).map_err(|e| yaml_error(path, e))
+    serde_yaml::from_str(text).map_err(|e| yaml_error(path, e))
 }
 
 /// Linear scan of the flow (bracket) nesting depth of a YAML text. Returns the line (1-based)
@@ -569,9 +608,11 @@ fn parse_yaml(path: &Path) -> Result<PathFileSpec, Error> {
 /// The scan follows YAML's lexical rules closely enough for path files: `#` after whitespace
 /// starts a comment; `'...'` and `"..."` starting a token are quoted scalars whose brackets do
 /// not count; outside brackets, `[`/`{` opens a collection only at the start of a token (in
-/// `a[1]` it is text); inside brackets every bracket counts. Where it could differ from the
-/// parser (block scalars, multi-line plain scalars) it can only count too many brackets, and
-/// only unbalanced ones matter, so a real path file is never refused.
+/// `a[1]` it is text); inside brackets every bracket counts. It is not a full YAML scanner:
+/// brackets inside block scalars (`|`, `>`) count, which only matters for a text with more than
+/// 64 unbalanced ones; and a quote character in the middle of a plain scalar (`a 'b`) is taken
+/// as the start of a quoted scalar, so a file crafted that way can hide nesting from the scan
+/// and reach the slow parser. Neither changes what a valid path file means.
 fn check_flow_depth(text: &str) -> Result<(), (usize, usize)> {
     let b = text.as_bytes();
     let (mut i, mut line, mut depth) = (0, 1, 0usize);
@@ -642,8 +683,10 @@ fn yaml_error(path: &Path, e: serde_yaml::Error) -> Error {
     let full = e.to_string();
     let (location, message) = match e.location() {
         Some(loc) => {
-            let suffix = format!(" at line {} column {}", loc.line(), loc.column());
-            let msg = full.strip_suffix(&suffix).unwrap_or(&full);
+            // The location moves into `location`; the parser's messages repeat it inline.
+            let repeated = format!(" at line {} column {}", loc.line(), loc.column());
+            let msg = full.replace(&repeated, "");
+            let msg = msg.as_str();
             // serde_yaml writes `field.path: message`; a path contains no spaces.
             let (field, msg) = match msg.split_once(": ") {
                 Some((head, rest)) if !head.contains(' ') && !head.is_empty() => (Some(head), rest),
@@ -679,6 +722,12 @@ fn yaml_error(path: &Path, e: serde_yaml::Error) -> Error {
          instead of using anchors and aliases"
     } else if message.contains("more than one document") {
         "keep a single YAML document: remove the extra `---` separators"
+    } else if message.contains("tab character") {
+        "indent with spaces: YAML does not allow tabs for indentation"
+    } else if message.contains("cannot start any token") {
+        // Most often a tab at the start of a line, which YAML never accepts as indentation.
+        "remove or quote that character; if the line is indented with a tab, indent with \
+         spaces instead (YAML does not allow tabs for indentation)"
     } else {
         "fix the YAML syntax there"
     };
@@ -745,52 +794,6 @@ fn one_orientation(
     }
 }
 
-/// A pose from the file (`field` = `tool`, `work_frame`, `waypoints[3]`). Returns the pose and
-/// adds a warning when a quaternion was normalised.
-#[allow(clippy::too_many_arguments)]
-fn file_pose(
-    path: &Path,
-    field: &str,
-    xyz: [f64; 3],
-    rpy: Option<[f64; 3]>,
-    quat: Option<[f64; 4]>,
-    rotvec: Option<[f64; 3]>,
-    orientation_required: bool,
-    units: &Units,
-    waypoint: Option<usize>,
-    warnings: &mut Vec<InputWarning>,
-) -> Result<Isometry3<f64>, Error> {
-    let o = one_orientation(rpy, quat, rotvec).map_err(|m| Error::input(path, field, m))?;
-    if o.is_none() && orientation_required {
-        return Err(Error::input(
-            path,
-            field,
-            "has no orientation: add one of rpy: [roll, pitch, yaw], quat: [w, x, y, z] or \
-             rotvec: [x, y, z]",
-        ));
-    }
-    let (pose, renormalised) = units::pose(xyz, o.as_ref(), units).map_err(|e| match e {
-        PoseError::Xyz(m) => Error::input(path, format!("{field}.xyz"), m),
-        PoseError::Orientation(m) => Error::input(
-            path,
-            format!("{field}.{}", o.map(|o| o.key()).unwrap_or("orientation")),
-            m,
-        ),
-    })?;
-    if let (Some(norm), Some(q)) = (renormalised, quat) {
-        warnings.push(InputWarning {
-            location: format!("{field}.quat"),
-            message: format!(
-                "the quaternion {} has length {norm}; armpath normalised it: write a unit \
-                 quaternion to silence this warning",
-                fmt_list(&q)
-            ),
-            waypoint,
-        });
-    }
-    Ok(pose)
-}
-
 /// A pose from a 6-value override `[x, y, z, roll, pitch, yaw]`.
 fn override_pose(v: [f64; 6], option: &str, units: &Units) -> Result<Isometry3<f64>, Error> {
     let o = RawOrientation::Rpy([v[3], v[4], v[5]]);
@@ -801,7 +804,399 @@ fn override_pose(v: [f64; 6], option: &str, units: &Units) -> Result<Isometry3<f
         })
 }
 
-#[allow(clippy::too_many_arguments)]
+/// Kind of a scalar setting, which fixes its unit in a [`Units`].
+#[derive(Clone, Copy)]
+enum Quantity {
+    Length,
+    Angle,
+    Speed,
+    AngularSpeed,
+}
+
+impl Quantity {
+    /// SI per unit, and the unit's name for messages.
+    fn unit(self, u: &Units) -> (f64, String) {
+        match self {
+            Quantity::Length => (u.length_to_m(), u.length.name().to_string()),
+            Quantity::Angle => (u.angle_to_rad(), u.angle.name().to_string()),
+            Quantity::Speed => (u.length_to_m(), u.speed_name()),
+            Quantity::AngularSpeed => (u.angle_to_rad(), u.angular_speed_name()),
+        }
+    }
+}
+
+/// The `rpy`, `quat` and `rotvec` keys of a pose as read (at most one may be given).
+type OrientationKeys = (Option<[f64; 3]>, Option<[f64; 4]>, Option<[f64; 3]>);
+
+/// What every part of the job assembly needs: the file, both unit systems, the warnings.
+struct Ctx<'a> {
+    path: &'a Path,
+    /// Units of the file's values.
+    fu: Units,
+    /// Units of the override values.
+    ou: Units,
+    warnings: Vec<InputWarning>,
+}
+
+impl Ctx<'_> {
+    fn err(&self, location: &str, message: impl Into<String>) -> Error {
+        Error::input(self.path, location, message)
+    }
+
+    /// A setting > 0 from the file (`field`) and/or an override (`option`), in SI; the override
+    /// wins, but a file value is checked either way.
+    fn pick(
+        &self,
+        file: Option<f64>,
+        field: &str,
+        over: Option<f64>,
+        option: &str,
+        what: &str,
+        q: Quantity,
+    ) -> Result<Option<f64>, Error> {
+        let (f_si, f_name) = q.unit(&self.fu);
+        let (o_si, o_name) = q.unit(&self.ou);
+        let from_file = file
+            .map(|v| positive(v, At::File(self.path, field), what, &f_name))
+            .transpose()?;
+        let from_option = over
+            .map(|v| positive(v, At::Option(option), what, &o_name))
+            .transpose()?;
+        Ok(from_option
+            .map(|v| v * o_si)
+            .or(from_file.map(|v| v * f_si)))
+    }
+
+    fn robot_and_tip(
+        &self,
+        spec: &PathFileSpec,
+        ov: &Overrides,
+        csv_direct: bool,
+    ) -> Result<(PathBuf, Option<String>), Error> {
+        let base = self.path.parent().unwrap_or(Path::new(""));
+        let robot =
+            match (&ov.robot, &spec.robot) {
+                (_, Some(r)) if r.trim().is_empty() => {
+                    return Err(self.err(
+                        "robot",
+                        "is empty: give the URDF file, relative to this file's folder",
+                    ))
+                }
+                (Some(r), _) => r.clone(),
+                (None, Some(r)) => base.join(r),
+                (None, None) if csv_direct => {
+                    return Err(self.err(
+                        "robot",
+                        "a CSV waypoint file names no robot: pass --robot <file.urdf>",
+                    ))
+                }
+                (None, None) => return Err(self.err(
+                    "robot",
+                    "no robot given: add `robot: <file.urdf>` (relative to this file's folder) \
+                     or pass --robot <file.urdf>",
+                )),
+            };
+        if spec.tip.as_deref().is_some_and(|t| t.trim().is_empty()) {
+            return Err(self.err(
+                "tip",
+                "is empty: give the tip link's name or remove the key",
+            ));
+        }
+        if ov.tip.as_deref().is_some_and(|t| t.trim().is_empty()) {
+            return Err(Error::usage(
+                "--tip",
+                "is empty: give the tip link's name or leave the option out",
+            ));
+        }
+        Ok((robot, ov.tip.clone().or(spec.tip.clone())))
+    }
+
+    fn limits(&self, spec: Option<&LimitsSpec>, ov: &Overrides) -> Result<Limits, Error> {
+        let tool_angular_speed = self
+            .pick(
+                spec.and_then(|l| l.tool_angular_speed),
+                "limits.tool_angular_speed",
+                ov.tool_angular_speed,
+                "--tool-angular-speed",
+                "the largest tool angular speed",
+                Quantity::AngularSpeed,
+            )?
+            .unwrap_or(DEFAULT_TOOL_ANGULAR_SPEED_DEG_S.to_radians());
+
+        let scale = |v: f64, at: At| -> Result<f64, Error> {
+            let v = positive(v, at, "the joint speed scale", "(0, 1]")?;
+            if v > 1.0 {
+                return Err(at.error(format!(
+                    "is {v}, above 1: that would let joints move faster than the robot \
+                     description's velocity limits; give a fraction in (0, 1]"
+                )));
+            }
+            Ok(v)
+        };
+        let file_scale = spec
+            .and_then(|l| l.joint_speed_scale)
+            .map(|v| scale(v, At::File(self.path, "limits.joint_speed_scale")))
+            .transpose()?;
+        let over_scale = ov
+            .joint_speed_scale
+            .map(|v| scale(v, At::Option("--joint-speed-scale")))
+            .transpose()?;
+
+        let fu = &self.fu;
+        let margin = |v: f64, field: &str, unit: &str| -> Result<f64, Error> {
+            if !v.is_finite() || v < 0.0 {
+                return Err(self.err(
+                    field,
+                    format!("is {v}: give a margin of 0 or more, in {unit}"),
+                ));
+            }
+            Ok(v)
+        };
+        let mut angle = DEFAULT_NEAR_LIMIT_MARGIN_DEG.to_radians();
+        let mut length = DEFAULT_NEAR_LIMIT_MARGIN_MM * 1e-3;
+        match spec.and_then(|l| l.near_limit_margin.as_ref()) {
+            None => {}
+            Some(MarginSpec::Both(v)) => {
+                let unit = format!(
+                    "{} (revolute) and {} (prismatic)",
+                    fu.angle.name(),
+                    fu.length.name()
+                );
+                let v = margin(*v, "limits.near_limit_margin", &unit)?;
+                angle = fu.angle(v);
+                length = fu.length(v);
+            }
+            Some(MarginSpec::Split(s)) => {
+                if let Some(v) = s.angle {
+                    let field = "limits.near_limit_margin.angle";
+                    angle = fu.angle(margin(v, field, fu.angle.name())?);
+                }
+                if let Some(v) = s.length {
+                    let field = "limits.near_limit_margin.length";
+                    length = fu.length(margin(v, field, fu.length.name())?);
+                }
+            }
+        }
+        Ok(Limits {
+            tool_angular_speed,
+            joint_speed_scale: over_scale
+                .or(file_scale)
+                .unwrap_or(DEFAULT_JOINT_SPEED_SCALE),
+            near_limit_margin_angle: angle,
+            near_limit_margin_length: length,
+        })
+    }
+
+    fn sampling(&self, spec: Option<&SamplingSpec>, ov: &Overrides) -> Result<Sampling, Error> {
+        let step = self
+            .pick(
+                spec.and_then(|s| s.step),
+                "sampling.step",
+                ov.step,
+                "--step",
+                "the largest TCP step between samples",
+                Quantity::Length,
+            )?
+            .unwrap_or(DEFAULT_STEP_MM * 1e-3);
+        let angle_step = self
+            .pick(
+                spec.and_then(|s| s.angle_step),
+                "sampling.angle_step",
+                ov.angle_step,
+                "--angle-step",
+                "the largest orientation step between samples",
+                Quantity::Angle,
+            )?
+            .unwrap_or(DEFAULT_ANGLE_STEP_DEG.to_radians());
+        Ok(Sampling { step, angle_step })
+    }
+
+    fn tool(&mut self, spec: Option<&ToolSpec>, ov: &Overrides) -> Result<Tool, Error> {
+        let mut tool = Tool {
+            tip_T_tcp: Isometry3::identity(),
+            free_spin: false,
+            spin_range: (
+                DEFAULT_SPIN_RANGE_DEG.0.to_radians(),
+                DEFAULT_SPIN_RANGE_DEG.1.to_radians(),
+            ),
+            spin_rate: None,
+        };
+        if let Some(t) = spec {
+            let o = (t.rpy, t.quat, t.rotvec);
+            tool.tip_T_tcp = self.file_pose("tool", t.xyz, o, false, None)?;
+            tool.free_spin = t.free_spin.unwrap_or(false);
+            let fu = self.fu;
+            if let Some(r) = t.spin_range {
+                check_finite_array(&r).map_err(|m| self.err("tool.spin_range", m))?;
+                if r[0] > r[1] {
+                    return Err(self.err(
+                        "tool.spin_range",
+                        format!(
+                            "{} has min > max: write [min, max] in {}",
+                            fmt_list(&r),
+                            fu.angle.name()
+                        ),
+                    ));
+                }
+                tool.spin_range = (fu.angle(r[0]), fu.angle(r[1]));
+            }
+            tool.spin_rate = t
+                .spin_rate
+                .map(|v| {
+                    positive(
+                        v,
+                        At::File(self.path, "tool.spin_rate"),
+                        "the largest spin rate",
+                        &fu.angular_speed_name(),
+                    )
+                })
+                .transpose()?
+                .map(|v| fu.angle(v));
+            if !tool.free_spin {
+                for (given, key) in [
+                    (t.spin_range.is_some(), "spin_range"),
+                    (t.spin_rate.is_some(), "spin_rate"),
+                ] {
+                    if given {
+                        self.warnings.push(InputWarning {
+                            location: format!("tool.{key}"),
+                            message: format!(
+                                "has no effect without free_spin: true: add `free_spin: true` \
+                                 to the tool or remove `{key}`"
+                            ),
+                            waypoint: None,
+                        });
+                    }
+                }
+            }
+        }
+        if let Some(v) = ov.tool {
+            tool.tip_T_tcp = override_pose(v, "--tool", &self.ou)?;
+        }
+        Ok(tool)
+    }
+
+    fn start_joints(
+        &self,
+        file: Option<&Vec<f64>>,
+        ov: &Overrides,
+    ) -> Result<Option<StartJoints>, Error> {
+        let joints = |values: &Vec<f64>, u: &Units, at: At, origin: &str| {
+            if values.is_empty() {
+                return Err(at.error("is empty: give one value per joint, or leave it out".into()));
+            }
+            check_finite_array(values).map_err(|m| at.error(m))?;
+            Ok(StartJoints {
+                values: values.clone(),
+                angle_to_rad: u.angle_to_rad(),
+                length_to_m: u.length_to_m(),
+                origin: origin.to_string(),
+            })
+        };
+        let from_file = file
+            .map(|v| {
+                joints(
+                    v,
+                    &self.fu,
+                    At::File(self.path, "start_joints"),
+                    "start_joints",
+                )
+            })
+            .transpose()?;
+        let from_option = ov
+            .start_joints
+            .as_ref()
+            .map(|v| joints(v, &self.ou, At::Option("--start-joints"), "--start-joints"))
+            .transpose()?;
+        Ok(from_option.or(from_file))
+    }
+
+    /// A pose from the file (`field` = `tool`, `work_frame`, `waypoints[3]`), with a warning
+    /// when a quaternion was normalised.
+    fn file_pose(
+        &mut self,
+        field: &str,
+        xyz: [f64; 3],
+        (rpy, quat, rotvec): OrientationKeys,
+        orientation_required: bool,
+        waypoint: Option<usize>,
+    ) -> Result<Isometry3<f64>, Error> {
+        let o = one_orientation(rpy, quat, rotvec).map_err(|m| self.err(field, m))?;
+        if o.is_none() && orientation_required {
+            return Err(self.err(
+                field,
+                "has no orientation: add one of rpy: [roll, pitch, yaw], quat: [w, x, y, z] \
+                 or rotvec: [x, y, z]",
+            ));
+        }
+        let (pose, renormalised) = units::pose(xyz, o.as_ref(), &self.fu).map_err(|e| match e {
+            PoseError::Xyz(m) => self.err(&format!("{field}.xyz"), m),
+            PoseError::Orientation(m) => self.err(
+                &format!("{field}.{}", o.map(|o| o.key()).unwrap_or("orientation")),
+                m,
+            ),
+        })?;
+        if let (Some(norm), Some(q)) = (renormalised, quat) {
+            self.warnings.push(InputWarning {
+                location: format!("{field}.quat"),
+                message: format!(
+                    "the quaternion {} has length {norm}; armpath normalised it: write a unit \
+                     quaternion to silence this warning",
+                    fmt_list(&q)
+                ),
+                waypoint,
+            });
+        }
+        Ok(pose)
+    }
+
+    /// The waypoints of a `waypoints:` list.
+    fn list_waypoints(&mut self, list: Vec<WaypointSpec>) -> Result<Vec<LoadedWaypoint>, Error> {
+        let mut out = Vec::with_capacity(list.len());
+        for (i, w) in list.into_iter().enumerate() {
+            let field = format!("waypoints[{i}]");
+            let work_T_tcp =
+                self.file_pose(&field, w.xyz, (w.rpy, w.quat, w.rotvec), true, Some(i))?;
+            let speed = w
+                .speed
+                .map(|v| {
+                    positive(
+                        v,
+                        At::File(self.path, &format!("{field}.speed")),
+                        "the TCP speed of the segment ending here",
+                        &self.fu.speed_name(),
+                    )
+                })
+                .transpose()?
+                .map(|v| self.fu.length(v));
+            if w.name.as_deref().is_some_and(|n| n.trim().is_empty()) {
+                return Err(self.err(
+                    &format!("{field}.name"),
+                    "is empty: give a name or remove the key",
+                ));
+            }
+            out.push(LoadedWaypoint {
+                name_given: w.name.is_some(),
+                waypoint: Waypoint {
+                    name: w.name.unwrap_or_else(|| format!("wp{}", i + 1)),
+                    work_T_tcp,
+                    motion: match w.motion {
+                        Some(MotionSpec::Joint) => Motion::Joint,
+                        Some(MotionSpec::Linear) | None => Motion::Linear,
+                    },
+                    speed,
+                    process: w.process.unwrap_or(false),
+                    origin: field.clone(),
+                },
+                location: field,
+            });
+        }
+        Ok(out)
+    }
+}
+
+/// Assembles the job from the parsed file (`spec`, in units `fu`; an empty spec for a CSV file
+/// loaded directly) and the overrides (in units `ou`).
 fn build(
     path: &Path,
     spec: PathFileSpec,
@@ -809,334 +1204,61 @@ fn build(
     ov: &Overrides,
     ou: Units,
     source: Source,
-    mut warnings: Vec<InputWarning>,
+    warnings: Vec<InputWarning>,
 ) -> Result<Job, Error> {
     let csv_direct = matches!(source, Source::Csv(..));
-    let base = path.parent().unwrap_or(Path::new(""));
-    let err = |loc: &str, msg: String| Error::input(path, loc, msg);
-
-    // Robot and tip.
-    let robot = match (&ov.robot, &spec.robot) {
-        (_, Some(r)) if r.trim().is_empty() => {
-            return Err(err(
-                "robot",
-                "is empty: give the URDF file, relative to this file's folder".into(),
-            ))
-        }
-        (Some(r), _) => r.clone(),
-        (None, Some(r)) => base.join(r),
-        (None, None) if csv_direct => {
-            return Err(err(
-                "robot",
-                "a CSV waypoint file names no robot: pass --robot <file.urdf>".into(),
-            ))
-        }
-        (None, None) => {
-            return Err(err(
-                "robot",
-                "no robot given: add `robot: <file.urdf>` (relative to this file's folder) or \
-                 pass --robot <file.urdf>"
-                    .into(),
-            ))
-        }
+    let mut cx = Ctx {
+        path,
+        fu,
+        ou,
+        warnings,
     };
-    if spec.tip.as_deref().is_some_and(|t| t.trim().is_empty()) {
-        return Err(err(
-            "tip",
-            "is empty: give the tip link's name or remove the key".into(),
-        ));
-    }
-    if ov.tip.as_deref().is_some_and(|t| t.trim().is_empty()) {
-        return Err(Error::usage(
-            "--tip",
-            "is empty: give the tip link's name or leave the option out",
-        ));
-    }
-    let tip = ov.tip.clone().or(spec.tip.clone());
+    let (robot, tip) = cx.robot_and_tip(&spec, ov, csv_direct)?;
 
-    // Speeds.
-    let pick = |file: Option<f64>,
-                field: &str,
-                option: &str,
-                over: Option<f64>,
-                what: &str,
-                file_unit: (f64, String),
-                over_unit: (f64, String)|
-     -> Result<Option<f64>, Error> {
-        let from_file = file
-            .map(|v| positive(v, At::File(path, field), what, &file_unit.1))
-            .transpose()?;
-        let from_option = over
-            .map(|v| positive(v, At::Option(option), what, &over_unit.1))
-            .transpose()?;
-        Ok(from_option
-            .map(|v| v * over_unit.0)
-            .or(from_file.map(|v| v * file_unit.0)))
-    };
-    let lin = |u: &Units| (u.length_to_m(), u.speed_name());
-    let ang = |u: &Units| (u.angle_to_rad(), u.angular_speed_name());
-    let speed = pick(
-        spec.speed,
-        "speed",
-        "--speed",
-        ov.speed,
-        "the TCP speed",
-        lin(&fu),
-        lin(&ou),
-    )?
-    .ok_or_else(|| {
-        if csv_direct {
-            err(
-                "speed",
+    let speed = cx
+        .pick(
+            spec.speed,
+            "speed",
+            ov.speed,
+            "--speed",
+            "the TCP speed",
+            Quantity::Speed,
+        )?
+        .ok_or_else(|| {
+            let msg = if csv_direct {
                 format!(
                     "a CSV waypoint file carries no job speed: pass --speed <{}>",
                     ou.speed_name()
-                ),
-            )
-        } else {
-            err(
-                "speed",
+                )
+            } else {
                 format!(
                     "no TCP speed given: add `speed: <{}>` or pass --speed",
                     fu.speed_name()
-                ),
-            )
-        }
-    })?;
-    let orientation_speed = pick(
+                )
+            };
+            cx.err("speed", msg)
+        })?;
+    let orientation_speed = cx.pick(
         spec.orientation_speed,
         "orientation_speed",
-        "--orientation-speed",
         ov.orientation_speed,
+        "--orientation-speed",
         "the reorientation speed",
-        ang(&fu),
-        ang(&ou),
+        Quantity::AngularSpeed,
     )?;
+    let limits = cx.limits(spec.limits.as_ref(), ov)?;
+    let sampling = cx.sampling(spec.sampling.as_ref(), ov)?;
+    let tool = cx.tool(spec.tool.as_ref(), ov)?;
 
-    // Limits.
-    let lim = spec.limits.as_ref();
-    let tool_angular_speed = pick(
-        lim.and_then(|l| l.tool_angular_speed),
-        "limits.tool_angular_speed",
-        "--tool-angular-speed",
-        ov.tool_angular_speed,
-        "the largest tool angular speed",
-        ang(&fu),
-        ang(&ou),
-    )?
-    .unwrap_or(DEFAULT_TOOL_ANGULAR_SPEED_DEG_S.to_radians());
-    let scale = |v: f64, at: At| -> Result<f64, Error> {
-        let v = positive(v, at, "the joint speed scale", "(0, 1]")?;
-        if v > 1.0 {
-            return Err(at_error(
-                at,
-                format!(
-                    "is {v}, above 1: that would let joints move faster than the robot \
-                     description's velocity limits; give a fraction in (0, 1]"
-                ),
-            ));
-        }
-        Ok(v)
-    };
-    let file_scale = lim
-        .and_then(|l| l.joint_speed_scale)
-        .map(|v| scale(v, At::File(path, "limits.joint_speed_scale")))
-        .transpose()?;
-    let over_scale = ov
-        .joint_speed_scale
-        .map(|v| scale(v, At::Option("--joint-speed-scale")))
-        .transpose()?;
-    let joint_speed_scale = over_scale
-        .or(file_scale)
-        .unwrap_or(DEFAULT_JOINT_SPEED_SCALE);
-
-    let mut margin_angle = DEFAULT_NEAR_LIMIT_MARGIN_DEG.to_radians();
-    let mut margin_length = DEFAULT_NEAR_LIMIT_MARGIN_MM * 1e-3;
-    let margin = |v: f64, field: &str, unit: &str| -> Result<f64, Error> {
-        if !v.is_finite() || v < 0.0 {
-            return Err(err(
-                field,
-                format!("is {v}: give a margin of 0 or more, in {unit}"),
-            ));
-        }
-        Ok(v)
-    };
-    match lim.and_then(|l| l.near_limit_margin.as_ref()) {
-        None => {}
-        Some(MarginSpec::Both(v)) => {
-            let v = margin(
-                *v,
-                "limits.near_limit_margin",
-                &format!(
-                    "{} (revolute) and {} (prismatic)",
-                    fu.angle.name(),
-                    fu.length.name()
-                ),
-            )?;
-            margin_angle = fu.angle(v);
-            margin_length = fu.length(v);
-        }
-        Some(MarginSpec::Split(s)) => {
-            if let Some(v) = s.angle {
-                margin_angle = fu.angle(margin(
-                    v,
-                    "limits.near_limit_margin.angle",
-                    fu.angle.name(),
-                )?);
-            }
-            if let Some(v) = s.length {
-                margin_length = fu.length(margin(
-                    v,
-                    "limits.near_limit_margin.length",
-                    fu.length.name(),
-                )?);
-            }
-        }
-    }
-
-    // Sampling.
-    let smp = spec.sampling.as_ref();
-    let step = pick(
-        smp.and_then(|s| s.step),
-        "sampling.step",
-        "--step",
-        ov.step,
-        "the largest TCP step between samples",
-        (fu.length_to_m(), fu.length.name().to_string()),
-        (ou.length_to_m(), ou.length.name().to_string()),
-    )?
-    .unwrap_or(DEFAULT_STEP_MM * 1e-3);
-    let angle_step = pick(
-        smp.and_then(|s| s.angle_step),
-        "sampling.angle_step",
-        "--angle-step",
-        ov.angle_step,
-        "the largest orientation step between samples",
-        (fu.angle_to_rad(), fu.angle.name().to_string()),
-        (ou.angle_to_rad(), ou.angle.name().to_string()),
-    )?
-    .unwrap_or(DEFAULT_ANGLE_STEP_DEG.to_radians());
-
-    // Tool.
-    let mut tool = Tool {
-        tip_T_tcp: Isometry3::identity(),
-        free_spin: false,
-        spin_range: (
-            DEFAULT_SPIN_RANGE_DEG.0.to_radians(),
-            DEFAULT_SPIN_RANGE_DEG.1.to_radians(),
-        ),
-        spin_rate: None,
-    };
-    if let Some(t) = &spec.tool {
-        tool.tip_T_tcp = file_pose(
-            path,
-            "tool",
-            t.xyz,
-            t.rpy,
-            t.quat,
-            t.rotvec,
-            false,
-            &fu,
-            None,
-            &mut warnings,
-        )?;
-        tool.free_spin = t.free_spin.unwrap_or(false);
-        if let Some(r) = t.spin_range {
-            check_finite_array(&r).map_err(|m| err("tool.spin_range", m))?;
-            if r[0] > r[1] {
-                return Err(err(
-                    "tool.spin_range",
-                    format!(
-                        "{} has min > max: write [min, max] in {}",
-                        fmt_list(&r),
-                        fu.angle.name()
-                    ),
-                ));
-            }
-            tool.spin_range = (fu.angle(r[0]), fu.angle(r[1]));
-        }
-        tool.spin_rate = t
-            .spin_rate
-            .map(|v| {
-                positive(
-                    v,
-                    At::File(path, "tool.spin_rate"),
-                    "the largest spin rate",
-                    &fu.angular_speed_name(),
-                )
-            })
-            .transpose()?
-            .map(|v| fu.angle(v));
-        if !tool.free_spin {
-            for (given, key) in [
-                (t.spin_range.is_some(), "spin_range"),
-                (t.spin_rate.is_some(), "spin_rate"),
-            ] {
-                if given {
-                    warnings.push(InputWarning {
-                        location: format!("tool.{key}"),
-                        message: format!(
-                            "has no effect without free_spin: true: add `free_spin: true` to \
-                             the tool or remove `{key}`"
-                        ),
-                        waypoint: None,
-                    });
-                }
-            }
-        }
-    }
-    if let Some(v) = ov.tool {
-        tool.tip_T_tcp = override_pose(v, "--tool", &ou)?;
-    }
-
-    // Work frame.
     let mut base_T_work = match &spec.work_frame {
         None => Isometry3::identity(),
-        Some(w) => file_pose(
-            path,
-            "work_frame",
-            w.xyz,
-            w.rpy,
-            w.quat,
-            w.rotvec,
-            false,
-            &fu,
-            None,
-            &mut warnings,
-        )?,
+        Some(w) => cx.file_pose("work_frame", w.xyz, (w.rpy, w.quat, w.rotvec), false, None)?,
     };
     if let Some(v) = ov.work_frame {
         base_T_work = override_pose(v, "--work-frame", &ou)?;
     }
 
-    // Start joints.
-    let joints = |values: &Vec<f64>, u: &Units, at: At, origin: &str| {
-        if values.is_empty() {
-            return Err(at_error(
-                at,
-                "is empty: give one value per joint, or leave it out".to_string(),
-            ));
-        }
-        check_finite_array(values).map_err(|m| at_error(at, m))?;
-        Ok(StartJoints {
-            values: values.clone(),
-            angle_to_rad: u.angle_to_rad(),
-            length_to_m: u.length_to_m(),
-            origin: origin.to_string(),
-        })
-    };
-    let file_joints = spec
-        .start_joints
-        .as_ref()
-        .map(|v| joints(v, &fu, At::File(path, "start_joints"), "start_joints"))
-        .transpose()?;
-    let over_joints = ov
-        .start_joints
-        .as_ref()
-        .map(|v| joints(v, &ou, At::Option("--start-joints"), "--start-joints"))
-        .transpose()?;
-    let start_joints = over_joints.or(file_joints);
-
+    let start_joints = cx.start_joints(spec.start_joints.as_ref(), ov)?;
     let config = spec
         .config
         .as_ref()
@@ -1147,79 +1269,29 @@ fn build(
         })
         .unwrap_or_default();
 
-    // Waypoints.
     let (loaded, waypoint_file) = match source {
         Source::Csv(wps, p) => (wps, p),
         Source::Yaml => match spec.waypoints {
             WaypointsSpec::Csv(name) => {
                 if name.trim().is_empty() {
-                    return Err(err(
+                    return Err(cx.err(
                         "waypoints",
-                        "is empty: give a list of waypoints or a CSV file name".into(),
+                        "is empty: give a list of waypoints or a CSV file name",
                     ));
                 }
+                let base = path.parent().unwrap_or(Path::new(""));
                 let csv_path = base.join(name.trim());
                 let by = format!(
                     "named by `waypoints:` in {}, relative to its folder",
                     path.display()
                 );
-                let wps = csv_file::read_waypoints(&csv_path, &fu, &by, &mut warnings)?;
+                let wps = csv_file::read_waypoints(&csv_path, &fu, &by, &mut cx.warnings)?;
                 (wps, csv_path)
             }
-            WaypointsSpec::List(list) => {
-                let mut out = Vec::with_capacity(list.len());
-                for (i, w) in list.into_iter().enumerate() {
-                    let field = format!("waypoints[{i}]");
-                    let work_T_tcp = file_pose(
-                        path,
-                        &field,
-                        w.xyz,
-                        w.rpy,
-                        w.quat,
-                        w.rotvec,
-                        true,
-                        &fu,
-                        Some(i),
-                        &mut warnings,
-                    )?;
-                    let speed = w
-                        .speed
-                        .map(|v| {
-                            positive(
-                                v,
-                                At::File(path, &format!("{field}.speed")),
-                                "the TCP speed of the segment ending here",
-                                &fu.speed_name(),
-                            )
-                        })
-                        .transpose()?
-                        .map(|v| fu.length(v));
-                    if w.name.as_deref().is_some_and(|n| n.trim().is_empty()) {
-                        return Err(err(
-                            &format!("{field}.name"),
-                            "is empty: give a name or remove the key".into(),
-                        ));
-                    }
-                    out.push(LoadedWaypoint {
-                        waypoint: Waypoint {
-                            name: w.name.clone().unwrap_or_else(|| format!("wp{}", i + 1)),
-                            work_T_tcp,
-                            motion: match w.motion {
-                                Some(MotionSpec::Joint) => Motion::Joint,
-                                Some(MotionSpec::Linear) | None => Motion::Linear,
-                            },
-                            speed,
-                            process: w.process.unwrap_or(false),
-                            origin: field.clone(),
-                        },
-                        location: field,
-                        name_given: w.name.is_some(),
-                    });
-                }
-                (out, path.to_path_buf())
-            }
+            WaypointsSpec::List(list) => (cx.list_waypoints(list)?, path.to_path_buf()),
         },
     };
+    let mut warnings = cx.warnings;
     let waypoints = check_waypoints(
         loaded,
         &waypoint_file,
@@ -1238,21 +1310,12 @@ fn build(
         config,
         speed,
         orientation_speed,
-        limits: Limits {
-            tool_angular_speed,
-            joint_speed_scale,
-            near_limit_margin_angle: margin_angle,
-            near_limit_margin_length: margin_length,
-        },
-        sampling: Sampling { step, angle_step },
+        limits,
+        sampling,
         units: fu,
         waypoints,
         warnings,
     })
-}
-
-fn at_error(at: At, msg: String) -> Error {
-    at.error(msg)
 }
 
 /// Checks across waypoints: count, unique names, repeated poses, turns in place.
@@ -1330,12 +1393,12 @@ fn check_waypoints(
                 file,
                 pair[1].location.clone(),
                 format!(
-                    "the linear segment from `{}` to `{}` turns the tool by {:.6} {} without \
+                    "the linear segment from `{}` to `{}` turns the tool by {} {} without \
                      moving the TCP, so the TCP speed gives it no duration: set \
                      orientation_speed or move the TCP (or use motion: joint)",
                     a.name,
                     b.name,
-                    angle / units.angle_to_rad(),
+                    fmt_num(angle / units.angle_to_rad()),
                     units.angle.name()
                 ),
             ));
@@ -1692,7 +1755,7 @@ mod tests {
                     units_length: Some("cm".into()),
                     ..Default::default()
                 },
-                "--units",
+                "--length-unit",
                 "mm or m",
             ),
             (
@@ -1700,7 +1763,7 @@ mod tests {
                     units_angle: Some("grad".into()),
                     ..Default::default()
                 },
-                "--units",
+                "--angle-unit",
                 "deg or rad",
             ),
             (
@@ -2035,8 +2098,8 @@ mod tests {
             "waypoints[1]",
             &[
                 "`a` to `b`",
-                "90",
-                "deg",
+                // source: URDF spec / REP 103 (yaw 0° → 90° about the same z axis is a 90° turn)
+                "turns the tool by 90 deg",
                 "set orientation_speed or move the TCP",
             ],
         );

@@ -2,6 +2,7 @@
 //! as JSON, and the joint trajectory as CSV. Values here are in display units (mm, deg, s):
 //! the conversion from SI happens once, when the report is built.
 
+pub mod html;
 mod joints_csv;
 pub mod kinematics;
 mod text;

@@ -64,10 +64,34 @@ impl ChainJoint {
     }
 }
 
+/// The hot-loop form of one joint: every joint frame is turned so that its axis is z, which
+/// makes the joint's own motion a rotation about z (four multiplications on a quaternion) or
+/// a shift along z, instead of a general isometry product.
+#[derive(Debug, Clone, Copy)]
+struct Step {
+    /// Pose of the z-aligned joint frame in the previous z-aligned frame (or the base).
+    pre: Isometry3<f64>,
+    prismatic: bool,
+}
+
+/// A rotation taking z onto `axis` (any one; the angle about `axis` is irrelevant because
+/// the joint rotates about it anyway).
+fn z_onto(axis: &Unit<Vector3<f64>>) -> UnitQuaternion<f64> {
+    UnitQuaternion::rotation_between(&Vector3::z(), axis).unwrap_or_else(|| {
+        // axis = −z: any half turn about a horizontal axis.
+        UnitQuaternion::from_axis_angle(&Vector3::x_axis(), std::f64::consts::PI)
+    })
+}
+
 /// A serial chain from the base (root link) to the TCP.
 #[derive(Debug, Clone)]
 pub struct Chain {
     joints: Vec<ChainJoint>,
+    steps: Vec<Step>,
+    /// Pose of the TCP in the last z-aligned joint frame.
+    last_z_T_tcp: Isometry3<f64>,
+    /// Rotation of the last joint frame relative to its z-aligned frame.
+    last_align: UnitQuaternion<f64>,
     /// Pose of the tip link in the last joint's frame (fixed joints folded in).
     last_T_tip: Isometry3<f64>,
     /// Pose of the TCP in the tip link frame (the tool).
@@ -82,11 +106,63 @@ impl Chain {
     /// `joints.len() <= MAX_DOF` (the loader does and reports an error).
     pub fn new(joints: Vec<ChainJoint>, last_T_tip: Isometry3<f64>) -> Self {
         debug_assert!(joints.len() <= MAX_DOF);
-        Chain {
+        let mut steps = Vec::with_capacity(joints.len());
+        let mut prev_align = UnitQuaternion::identity();
+        for j in &joints {
+            let align = z_onto(&j.axis);
+            let pre = Isometry3::from_parts(Translation3::identity(), prev_align.inverse())
+                * j.parent_T_joint
+                * Isometry3::from_parts(Translation3::identity(), align);
+            steps.push(Step {
+                pre,
+                prismatic: j.kind.is_prismatic(),
+            });
+            prev_align = align;
+        }
+        let mut chain = Chain {
             joints,
+            steps,
+            last_z_T_tcp: Isometry3::identity(),
+            last_align: prev_align,
             last_T_tip,
             tip_T_tcp: Isometry3::identity(),
             last_T_tcp: last_T_tip,
+        };
+        chain.set_tool(Isometry3::identity());
+        chain
+    }
+
+    /// Half-angle sines and cosines of every joint, all at once (see `fastmath`).
+    #[inline(always)]
+    fn half_angles(&self, q: &[f64]) -> ([f64; MAX_DOF], [f64; MAX_DOF]) {
+        let n = self.steps.len();
+        let mut half = [0.0; MAX_DOF];
+        for (h, &v) in half.iter_mut().zip(q.iter().take(n)) {
+            *h = 0.5 * v;
+        }
+        let (mut s, mut c) = ([0.0; MAX_DOF], [1.0; MAX_DOF]);
+        super::fastmath::sin_cos_batch(&half[..n], &mut s[..n], &mut c[..n]);
+        (s, c)
+    }
+
+    /// Apply joint `step`'s own motion to the z-aligned frame `t` (in place): a shift by `q`
+    /// for a prismatic joint, else a turn whose half-angle sine and cosine are `s`, `c`.
+    #[inline(always)]
+    fn advance(t: &mut Isometry3<f64>, step: &Step, q: f64, s: f64, c: f64) {
+        *t *= step.pre;
+        if step.prismatic {
+            let z = t.rotation * Vector3::z();
+            t.translation.vector += z * q;
+        } else {
+            // t.rotation * (cos q/2, 0, 0, sin q/2)
+            let r = t.rotation.quaternion();
+            let (w, x, y, z) = (r.w, r.i, r.j, r.k);
+            t.rotation = UnitQuaternion::new_unchecked(nalgebra::Quaternion::new(
+                w * c - z * s,
+                x * c + y * s,
+                y * c - x * s,
+                z * c + w * s,
+            ));
         }
     }
 
@@ -105,6 +181,9 @@ impl Chain {
     pub fn set_tool(&mut self, tip_T_tcp: Isometry3<f64>) {
         self.tip_T_tcp = tip_T_tcp;
         self.last_T_tcp = self.last_T_tip * tip_T_tcp;
+        self.last_z_T_tcp =
+            Isometry3::from_parts(Translation3::identity(), self.last_align.inverse())
+                * self.last_T_tcp;
     }
 
     /// The mounted tool, TCP pose in the tip-link frame.
@@ -115,11 +194,12 @@ impl Chain {
     /// Pose of the TCP in the base frame at joint positions `q` (rad / m, `q.len() == dof`).
     #[inline]
     pub fn fk(&self, q: &[f64]) -> Isometry3<f64> {
-        let mut base_T_link = Isometry3::identity();
-        for (joint, &qi) in self.joints.iter().zip(q) {
-            base_T_link = base_T_link * joint.parent_T_joint * joint.motion(qi);
+        let (s, c) = self.half_angles(q);
+        let mut t = Isometry3::identity();
+        for (i, (step, &qi)) in self.steps.iter().zip(q).enumerate() {
+            Self::advance(&mut t, step, qi, s[i], c[i]);
         }
-        base_T_link * self.last_T_tcp
+        t * self.last_z_T_tcp
     }
 
     /// Pose of the tip link (without the tool) in the base frame.
@@ -145,14 +225,16 @@ impl Chain {
         // First pass: axis and origin of every joint in the base frame.
         let mut axes = [Vector3::zeros(); MAX_DOF];
         let mut origins = [Vector3::zeros(); MAX_DOF];
-        let mut base_T_link = Isometry3::identity();
-        for (i, (joint, &qi)) in self.joints.iter().zip(q).enumerate() {
-            let base_T_joint = base_T_link * joint.parent_T_joint;
-            axes[i] = base_T_joint.rotation * joint.axis.into_inner();
-            origins[i] = base_T_joint.translation.vector;
-            base_T_link = base_T_joint * joint.motion(qi);
+        let (s, c) = self.half_angles(q);
+        let mut t = Isometry3::identity();
+        for (i, (step, &qi)) in self.steps.iter().zip(q).enumerate() {
+            Self::advance(&mut t, step, qi, s[i], c[i]);
+            // The joint's own motion turns about (or slides along) z, so z and the origin
+            // are the same before and after it.
+            axes[i] = t.rotation * Vector3::z();
+            origins[i] = t.translation.vector;
         }
-        let base_T_tcp = base_T_link * self.last_T_tcp;
+        let base_T_tcp = t * self.last_z_T_tcp;
         let p_tcp = base_T_tcp.translation.vector;
         // Second pass: columns z × (p_tcp − p_i), z for revolute; z, 0 for prismatic.
         for (i, joint) in self.joints.iter().enumerate() {

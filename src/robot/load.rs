@@ -6,11 +6,19 @@ use super::{JointInfo, Robot};
 use crate::error::{Error, Result};
 use nalgebra::{Isometry3, Translation3, Unit, Vector3};
 use std::collections::{HashMap, HashSet};
+use std::io::Read;
 use std::path::Path;
 
 /// Largest URDF file armpath reads (bytes). Real arm descriptions without meshes are a few
 /// hundred kB; the cap keeps a wrong file (an image, a log) from being read whole.
 const MAX_URDF_BYTES: u64 = 64 * 1024 * 1024;
+
+/// Deepest element nesting accepted in a URDF. A URDF needs 5 levels (robot > link > visual >
+/// geometry > mesh) and simulator extensions a few more, so 64 leaves ample room. The limit
+/// exists because the XML reader's work grows with the square of the depth (20,000 levels
+/// take a second, 100,000 half a minute) and it recurses once per level; a linear pre-scan
+/// refuses such a file instead of hanging.
+const MAX_XML_DEPTH: usize = 64;
 
 /// Load a robot from a URDF file; `tip` picks the tip link (default: the only leaf link).
 pub fn load_urdf(path: &Path, tip: Option<&str>) -> Result<Robot> {
@@ -27,11 +35,7 @@ pub fn load_urdf(path: &Path, tip: Option<&str>) -> Result<Robot> {
              (e.g. with the xacro tool of your ROS installation) and pass the .urdf file",
         ));
     }
-    let meta = std::fs::metadata(path).map_err(|source| Error::Io {
-        path: path.into(),
-        action: "reading the robot description",
-        source,
-    })?;
+    let meta = std::fs::metadata(path).map_err(|e| io_error(path, e))?;
     if meta.is_dir() {
         return Err(Error::robot(
             path,
@@ -39,22 +43,28 @@ pub fn load_urdf(path: &Path, tip: Option<&str>) -> Result<Robot> {
             "is a folder: pass the robot's .urdf file",
         ));
     }
-    if meta.len() > MAX_URDF_BYTES {
-        return Err(Error::robot(
+    let too_large = || {
+        Error::robot(
             path,
             "file",
             format!(
-                "is {} MB, larger than any robot description armpath accepts ({} MB): check the file name",
-                meta.len() / 1_000_000,
+                "is larger than any robot description armpath accepts ({} MB): check the file name",
                 MAX_URDF_BYTES / 1_000_000
             ),
-        ));
+        )
+    };
+    if meta.len() > MAX_URDF_BYTES {
+        return Err(too_large());
     }
-    let bytes = std::fs::read(path).map_err(|source| Error::Io {
-        path: path.into(),
-        action: "reading the robot description",
-        source,
-    })?;
+    // Read through a cap as well: a device or pipe (`/dev/zero`) reports length 0 but may
+    // never end.
+    let mut bytes = Vec::new();
+    std::fs::File::open(path)
+        .and_then(|f| f.take(MAX_URDF_BYTES + 1).read_to_end(&mut bytes))
+        .map_err(|e| io_error(path, e))?;
+    if bytes.len() as u64 > MAX_URDF_BYTES {
+        return Err(too_large());
+    }
     let text = String::from_utf8(bytes).map_err(|e| {
         Error::robot(
             path,
@@ -83,6 +93,9 @@ pub fn from_urdf_str(text: &str, path: &Path, tip: Option<&str>) -> Result<Robot
             "declares XML entities, which URDF does not use: remove the <!DOCTYPE>/<!ENTITY> block",
         ));
     }
+    if let Err((line, message)) = check_xml_structure(text) {
+        return Err(Error::robot(path, format!("line {line}"), message));
+    }
     let urdf = urdf_rs::read_from_string(text).map_err(|e| {
         Error::robot(
             path,
@@ -93,6 +106,146 @@ pub fn from_urdf_str(text: &str, path: &Path, tip: Option<&str>) -> Result<Robot
         )
     })?;
     build(&urdf, path, tip)
+}
+
+/// A failure to open or read the robot file, with what to do about it.
+fn io_error(path: &Path, e: std::io::Error) -> Error {
+    let message = if e.kind() == std::io::ErrorKind::NotFound {
+        "does not exist: check the file name and folder (a `robot:` in a path file is relative \
+         to the path file's folder)"
+            .to_string()
+    } else {
+        format!("cannot be read ({e}): check that the file is readable")
+    };
+    Error::robot(path, "file", message)
+}
+
+/// Linear scan of the XML element structure: every element closed, in order, and nested at
+/// most [`MAX_XML_DEPTH`] deep. Returns the line (1-based) and a message for the first
+/// problem. It runs before the XML reader because that reader reports a cut-short file
+/// without a line ("No elements found") and is slow on deep nesting (see [`MAX_XML_DEPTH`]).
+///
+/// The scan knows comments, CDATA, processing instructions, `<!DOCTYPE ...>` (with an
+/// internal subset in brackets) and quoted attribute values; anything else inside `<...>`
+/// is left to the XML reader, so a well-formed file always passes.
+fn check_xml_structure(text: &str) -> std::result::Result<(), (usize, String)> {
+    let b = text.as_bytes();
+    let line_at = |pos: usize| {
+        1 + b[..pos.min(b.len())]
+            .iter()
+            .filter(|&&c| c == b'\n')
+            .count()
+    };
+    // Open elements: name and the byte where the tag starts (lines are counted only for
+    // messages, so the scan stays linear).
+    let mut open: Vec<(&str, usize)> = Vec::new();
+    let find = |from: usize, pat: &str| text[from..].find(pat).map(|i| from + i);
+    let mut i = 0;
+    while let Some(lt) = find(i, "<") {
+        let rest = &text[lt..];
+        let unclosed = |what: &str| {
+            (
+                line_at(lt),
+                format!(
+                    "{what} starting here is never closed: the file is cut short or a `>` is \
+                     missing"
+                ),
+            )
+        };
+        if rest.starts_with("<!--") {
+            i = find(lt + 4, "-->").ok_or_else(|| unclosed("the comment"))? + 3;
+        } else if rest.starts_with("<![CDATA[") {
+            i = find(lt + 9, "]]>").ok_or_else(|| unclosed("the CDATA section"))? + 3;
+        } else if rest.starts_with("<?") {
+            i = find(lt + 2, "?>").ok_or_else(|| unclosed("the `<?...?>` instruction"))? + 2;
+        } else if rest.starts_with("<!") {
+            // DOCTYPE: `>` ends it unless inside the bracketed internal subset or quotes.
+            let (mut j, mut depth, mut quote) = (lt + 2, 0usize, None);
+            loop {
+                match (b.get(j), quote) {
+                    (None, _) => return Err(unclosed("the `<!...>` declaration")),
+                    (Some(&c), Some(q)) if c == q => quote = None,
+                    (Some(_), Some(_)) => {}
+                    (Some(&c), None) if c == b'"' || c == b'\'' => quote = Some(c),
+                    (Some(b'['), None) => depth += 1,
+                    (Some(b']'), None) => depth = depth.saturating_sub(1),
+                    (Some(b'>'), None) if depth == 0 => break,
+                    _ => {}
+                }
+                j += 1;
+            }
+            i = j + 1;
+        } else {
+            let closing = rest.starts_with("</");
+            let name_start = lt + if closing { 2 } else { 1 };
+            let name_end = text[name_start..]
+                .find(|c: char| c.is_whitespace() || c == '>' || c == '/')
+                .map_or(b.len(), |k| name_start + k);
+            let name = &text[name_start..name_end];
+            // Find the tag's end outside quoted attribute values.
+            let (mut j, mut quote) = (name_end, None);
+            loop {
+                match (b.get(j), quote) {
+                    (None, _) => {
+                        return Err(unclosed(&format!(
+                            "the tag <{}{name}",
+                            if closing { "/" } else { "" }
+                        )))
+                    }
+                    (Some(&c), Some(q)) if c == q => quote = None,
+                    (Some(_), Some(_)) => {}
+                    (Some(&c), None) if c == b'"' || c == b'\'' => quote = Some(c),
+                    (Some(b'>'), None) => break,
+                    _ => {}
+                }
+                j += 1;
+            }
+            let self_closing = b[j - 1] == b'/' && j - 1 > lt;
+            if closing {
+                match open.pop() {
+                    Some((o, _)) if o == name => {}
+                    Some((o, at)) => {
+                        return Err((
+                            line_at(lt),
+                            format!(
+                                "</{name}> closes <{o}>, opened on line {}: close the elements \
+                                 in the order they were opened",
+                                line_at(at)
+                            ),
+                        ))
+                    }
+                    None => {
+                        return Err((
+                            line_at(lt),
+                            format!("</{name}> closes no open element: remove it"),
+                        ))
+                    }
+                }
+            } else if !self_closing && !name.is_empty() {
+                open.push((name, lt));
+                if open.len() > MAX_XML_DEPTH {
+                    return Err((
+                        line_at(lt),
+                        format!(
+                            "elements nest more than {MAX_XML_DEPTH} deep here (a URDF needs \
+                             about 5): check that this is a robot description"
+                        ),
+                    ));
+                }
+            }
+            i = j + 1;
+        }
+    }
+    match open.last() {
+        Some((name, at)) => Err((
+            line_at(*at),
+            format!(
+                "<{name}> opened here is never closed: the file is cut short or `</{name}>` is \
+                 missing"
+            ),
+        )),
+        None => Ok(()),
+    }
 }
 
 fn vec3(v: &urdf_rs::Vec3) -> Vector3<f64> {
@@ -181,7 +334,10 @@ fn build(urdf: &urdf_rs::Robot, path: &Path, tip: Option<&str>) -> Result<Robot>
                 return Err(Error::robot(
                     path,
                     format!("tip link '{t}'"),
-                    format!("is not a link of this robot; links: {}", all.join(", ")),
+                    format!(
+                        "is not a link of this robot: choose one of {}",
+                        all.join(", ")
+                    ),
                 ));
             }
             t

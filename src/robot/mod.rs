@@ -1,6 +1,7 @@
 //! Robots: URDF loading, the flat chain, joint limits and geometric facts about the arm.
 
 mod chain;
+mod fastmath;
 mod load;
 mod singularity;
 mod wrist;

@@ -17,9 +17,16 @@
 //! The canonical frame `C` has z along axis 1 (pointing from the base toward the shoulder),
 //! its origin at joint 1's frame origin (on axis 1), and x pointing from axis 1 toward axis 2
 //! at q1 = 0 (so a1 ≥ 0; y = z × x is along axis 2). Its pose in the URDF base frame is
-//! arbitrary and found by detection. In `C` and canonical angles θ, the wrist centre is `Rz(θ1)·(a1 + c2 sinθ2 + c3 sinθ23 + a2 cosθ23, b,
-//! c2 cosθ2 + c3 cosθ23 − a2 sinθ23) + (0, 0, c1)` with θ23 = θ2 + θ3, and the flange frame's
-//! orientation is `Rz(θ1)·Ry(θ23)·Rz(θ4)·Ry(θ5)·Rz(θ6)`. Inverting this: the wrist centre
+//! arbitrary and found by detection. In `C` and canonical angles θ (θ23 = θ2 + θ3):
+//!
+//! ```text
+//! wrist centre = Rz(θ1)·(a1 + c2 sinθ2 + c3 sinθ23 + a2 cosθ23, b,
+//!                        c2 cosθ2 + c3 cosθ23 − a2 sinθ23) + (0, 0, c1)
+//! flange orientation = Rz(θ1)·Ry(θ23)·Rz(θ4)·Ry(θ5)·Rz(θ6)
+//! flange origin = wrist centre + c4 · (flange z axis)
+//! ```
+//!
+//! Inverting this: the wrist centre
 //! gives θ1 (two ways: shoulder front/back) and then θ2, θ3 from the triangle shoulder–elbow–
 //! wrist (two ways each: elbow up/down); the remaining rotation gives θ4, θ5, θ6 as z-y-z
 //! angles (two ways: wrist noflip/flip). At most 2·2·2 = 8 solutions (Pieper 1968).
@@ -44,7 +51,7 @@ mod detect;
 pub use config::{Config, Elbow, Shoulder, Wrist};
 
 use crate::robot::Robot;
-use nalgebra::{Isometry3, Matrix3, UnitQuaternion, Vector3};
+use nalgebra::{Isometry3, UnitQuaternion, Vector3};
 use std::f64::consts::{PI, TAU};
 
 /// Capacity of [`Solutions`]: eight closed-form solutions times the windings of wide joints.
@@ -311,17 +318,34 @@ struct Free {
     theta4: f64,
 }
 
+/// Nearest whole number to `x` (ties away from zero not guaranteed), as f64. The solver's
+/// hot loops avoid `f64::round`/`floor`, which are library calls on baseline x86-64 and showed
+/// up in profiles; a truncating cast is one instruction. Saturates beyond ±9.2e18, where f64
+/// has no fraction anyway.
+#[inline]
+fn nearest_int(x: f64) -> f64 {
+    let f = x + 0.5;
+    let t = f as i64 as f64;
+    // Truncation rounds negative values up: step back where it did.
+    if t > f {
+        t - 1.0
+    } else {
+        t
+    }
+}
+
 /// Angle brought to (−π, π].
 #[inline]
 fn wrap(x: f64) -> f64 {
-    let y = x - TAU * (x / TAU).round();
+    let mut y = x - TAU * nearest_int(x / TAU);
+    // Rounding of the quotient can leave y a hair outside; fix the half-open end too.
     if y <= -PI {
-        y + TAU
-    } else if y > PI {
-        y - TAU
-    } else {
-        y
+        y += TAU;
     }
+    if y > PI {
+        y -= TAU;
+    }
+    y
 }
 
 /// The closed-form solver for one arm of the family (with its tool).
@@ -334,8 +358,10 @@ pub struct OrthoParallel {
     tcp_T_flange: Isometry3<f64>,
     lower: [f64; 6],
     upper: [f64; 6],
-    /// Joint has finite limits (continuous joints: one winding, the principal value).
-    bounded: [bool; 6],
+    /// Candidate 2π shifts per joint (inclusive): every k for which a principal value in
+    /// (−π, π] shifted by 2πk can fall within the range. Continuous joints: only 0 (one
+    /// winding, the principal value).
+    k_range: [(i8, i8); 6],
     /// Reach (m): the length scale of the tolerances.
     length: f64,
 }
@@ -348,11 +374,21 @@ impl OrthoParallel {
         let model = detect::detect(robot)?;
         let mut lower = [0.0; 6];
         let mut upper = [0.0; 6];
-        let mut bounded = [false; 6];
+        let mut k_range = [(0i8, 0i8); 6];
         for (i, j) in robot.joints().iter().enumerate() {
             lower[i] = j.lower;
             upper[i] = j.upper;
-            bounded[i] = j.lower.is_finite() && j.upper.is_finite();
+            if j.lower.is_finite() && j.upper.is_finite() {
+                // base + 2πk ∈ (−π + 2πk, π + 2πk] meets [lower, upper] iff
+                // (lower − π)/2π ≤ k < (upper + π)/2π; the 1e-9 widens the set so that rounding
+                // cannot drop a candidate (the test per candidate is the exact one).
+                let lo = ((j.lower - PI - 1e-9) / TAU).ceil();
+                let hi = ((j.upper + PI + 1e-9) / TAU).ceil() - 1.0;
+                k_range[i] = (lo.clamp(-127.0, 127.0) as i8, hi.clamp(-127.0, 127.0) as i8);
+            } else {
+                lower[i] = f64::NEG_INFINITY;
+                upper[i] = f64::INFINITY;
+            }
         }
         let mut solver = OrthoParallel {
             model,
@@ -361,7 +397,7 @@ impl OrthoParallel {
             tcp_T_flange: Isometry3::identity(),
             lower,
             upper,
-            bounded,
+            k_range,
             length: robot.reach(),
         };
         solver.set_tool(robot.chain().tool());
@@ -414,6 +450,10 @@ impl OrthoParallel {
     }
 
     /// Every closed-form solution of `base_T_tcp` in canonical angles, in configuration order.
+    ///
+    /// Sines and cosines of θ1, θ2 and θ2 + θ3 are formed algebraically from the wrist centre
+    /// (no trigonometric calls besides the atan2 that yields each output angle and one acos
+    /// per shoulder branch): that is what keeps all eight solutions near a microsecond.
     fn raw(&self, base_T_tcp: &Isometry3<f64>, free: Free, out: &mut [Raw; 8]) -> usize {
         let g = &self.model.geometry;
         let (t, q) = (&base_T_tcp.translation.vector, base_T_tcp.rotation.coords);
@@ -433,23 +473,41 @@ impl OrthoParallel {
             return 0;
         }
         let root = m2.max(0.0).sqrt();
-        let phi = if rho2 <= (FREE_CHOICE * self.length).powi(2) {
-            free.theta1
+        let free_tol2 = (FREE_CHOICE * self.length).powi(2);
+        // Wrist centre on axis 1 (only reachable with b = 0): θ1 is free.
+        let free_shoulder = rho2 <= free_tol2;
+        let (fs, fc) = if free_shoulder {
+            free.theta1.sin_cos()
         } else {
-            cy.atan2(cx)
+            (0.0, 1.0)
         };
-        let beta = g.b.atan2(root);
         let on_axis = root <= SPECIAL * self.length;
         let pz = cz - g.c1;
         let two_c2k = 2.0 * g.c2 * g.k;
+        let (sin_psi, cos_psi) = (g.a2 / g.k, g.c3 / g.k);
         let mut n = 0;
         for shoulder in [Shoulder::Front, Shoulder::Back] {
-            let (theta1, px) = match shoulder {
-                Shoulder::Front => (phi - beta, root - g.a1),
-                Shoulder::Back => (phi + beta - PI, -root - g.a1),
+            // x1: the wrist centre's coordinate along link 1's x (toward axis 2); its y is b.
+            let x1 = match shoulder {
+                Shoulder::Front => root,
+                Shoulder::Back => -root,
             };
-            let cos3 = (px * px + pz * pz - g.c2 * g.c2 - g.k * g.k) / two_c2k;
-            if !(cos3.abs() <= 1.0 + REACH_SLACK) {
+            // Rz(θ1)·(x1, b) = (cx, cy).
+            let (c1, s1) = if free_shoulder {
+                match shoulder {
+                    Shoulder::Front => (fc, fs),
+                    Shoulder::Back => (-fc, -fs),
+                }
+            } else {
+                let (c, s) = (cx * x1 + cy * g.b, cy * x1 - cx * g.b);
+                let norm = (c * c + s * s).sqrt();
+                (c / norm, s / norm)
+            };
+            let theta1 = s1.atan2(c1);
+            let px = x1 - g.a1;
+            let p2 = px * px + pz * pz;
+            let cos3 = (p2 - g.c2 * g.c2 - g.k * g.k) / two_c2k;
+            if cos3.is_nan() || cos3.abs() > 1.0 + REACH_SLACK {
                 continue;
             }
             let cos3 = cos3.clamp(-1.0, 1.0);
@@ -461,8 +519,6 @@ impl OrthoParallel {
                 elbow_folded: PI - phi3 <= SPECIAL,
                 wrist_centre_on_axis1: on_axis,
             };
-            let (s1, c1) = theta1.sin_cos();
-            let gamma = px.atan2(pz);
             // Up is the positive elbow angle at the front, the negative one at the back (see
             // `config`); list up first.
             let sigmas = match shoulder {
@@ -471,34 +527,46 @@ impl OrthoParallel {
             };
             for (sigma, elbow) in sigmas.into_iter().zip([Elbow::Up, Elbow::Down]) {
                 let sp = sigma * sin3;
-                let theta2 = gamma - (g.k * sp).atan2(g.c2 + g.k * cos3);
+                // Upper arm direction (sin θ2, cos θ2): the shoulder-to-wrist direction turned
+                // back by the triangle angle at the shoulder, atan2(k·sinφ3, c2 + k·cosφ3).
+                let (fu, fv) = (g.c2 + g.k * cos3, g.k * sp);
+                let (st2, ct2) = {
+                    let (s, c) = (px * fu - pz * fv, pz * fu + px * fv);
+                    let norm = (s * s + c * c).sqrt();
+                    if p2 > free_tol2 && norm > 0.0 {
+                        (s / norm, c / norm)
+                    } else {
+                        // Wrist centre on axis 2 (elbow folded onto an equal upper arm):
+                        // any θ2 works; take 0.
+                        (0.0, 1.0)
+                    }
+                };
+                let theta2 = st2.atan2(ct2);
                 let theta3 = sigma * phi3 - g.psi;
-                let (s23, c23) = (theta2 + theta3).sin_cos();
-                let r0c = Matrix3::new(
-                    c1 * c23,
-                    -s1,
-                    c1 * s23,
-                    s1 * c23,
-                    c1,
-                    s1 * s23,
-                    -s23,
-                    0.0,
-                    c23,
-                );
-                let m = r0c.transpose() * r;
-                let h = (m[(0, 2)] * m[(0, 2)] + m[(1, 2)] * m[(1, 2)]).sqrt();
-                let theta5 = h.atan2(m[(2, 2)]);
+                let (ct3, st3) = (cos3 * cos_psi + sp * sin_psi, sp * cos_psi - cos3 * sin_psi);
+                let s23 = st2 * ct3 + ct2 * st3;
+                let c23 = ct2 * ct3 - st2 * st3;
+                // Columns of R0c = Rz(θ1)·Ry(θ23); M = R0cᵀ·R needs six entries.
+                let k0 = [c1 * c23, s1 * c23, -s23];
+                let k1 = [-s1, c1, 0.0];
+                let k2 = [c1 * s23, s1 * s23, c23];
+                let dot =
+                    |k: &[f64; 3], j: usize| k[0] * r[(0, j)] + k[1] * r[(1, j)] + k[2] * r[(2, j)];
+                let (m00, m10, m20) = (dot(&k0, 0), dot(&k1, 0), dot(&k2, 0));
+                let (m02, m12, m22) = (dot(&k0, 2), dot(&k1, 2), dot(&k2, 2));
+                let h = (m02 * m02 + m12 * m12).sqrt();
+                let theta5 = h.atan2(m22);
                 let (theta4, s4, c4) = if h <= FREE_CHOICE {
                     let (s, c) = free.theta4.sin_cos();
                     (free.theta4, s, c)
                 } else {
-                    (m[(1, 2)].atan2(m[(0, 2)]), m[(1, 2)] / h, m[(0, 2)] / h)
+                    (m12.atan2(m02), m12 / h, m02 / h)
                 };
                 // θ6 from what Rz(θ4)·Ry(θ5) leaves of the wrist rotation, so that the three
                 // angles reproduce it exactly even where θ4 is poorly conditioned.
-                let a = c4 * m[(0, 0)] + s4 * m[(1, 0)];
-                let bb = -s4 * m[(0, 0)] + c4 * m[(1, 0)];
-                let theta6 = bb.atan2(m[(2, 2)] * a - h * m[(2, 0)]);
+                let a = c4 * m00 + s4 * m10;
+                let bb = -s4 * m00 + c4 * m10;
+                let theta6 = bb.atan2(m22 * a - h * m20);
                 let special = SpecialPose {
                     wrist_singular: h <= SPECIAL,
                     ..special_arm
@@ -530,31 +598,20 @@ impl OrthoParallel {
     /// In-range windings of joint `i` at principal value `base`: the shifts k with
     /// `base + 2πk` within the limits, written to `out`; returns how many (and whether more
     /// existed than fit).
-    fn windings(&self, i: usize, base: f64, out: &mut [i8; MAX_WINDINGS]) -> (usize, bool) {
-        if !self.bounded[i] {
-            out[0] = 0;
-            return (1, false);
-        }
+    fn windings(&self, i: usize, base: f64, out: &mut [i8; MAX_WINDINGS + 1]) -> (usize, bool) {
         let (lo, hi) = (self.lower[i] - LIMIT_SLACK, self.upper[i] + LIMIT_SLACK);
-        // One shift either side of the estimate so that rounding in the division cannot
-        // drop a winding; the membership test below is the exact one.
-        let k_lo = ((lo - base) / TAU).ceil() - 1.0;
-        let k_hi = ((hi - base) / TAU).floor() + 1.0;
-        let (mut n, mut more) = (0, false);
-        let mut k = k_lo.max(-127.0);
-        while k <= k_hi.min(127.0) {
-            let v = base + TAU * k;
-            if v >= lo && v <= hi {
-                if n < MAX_WINDINGS {
-                    out[n] = k as i8;
-                    n += 1;
-                } else {
-                    more = true;
-                }
-            }
-            k += 1.0;
+        let mut n = 0;
+        // Branch-free: write every candidate, advance only past the ones inside. Which
+        // windings fit is data-dependent and mispredicted branches cost more than the writes.
+        // A plain counter: `RangeInclusive` iteration costs several times more here.
+        let (mut k, k_hi) = (self.k_range[i].0 as i32, self.k_range[i].1 as i32);
+        while k <= k_hi {
+            let v = base + TAU * k as f64;
+            out[n.min(MAX_WINDINGS)] = k as i8;
+            n += ((v >= lo) & (v <= hi)) as usize;
+            k += 1;
         }
-        (n, more)
+        (n.min(MAX_WINDINGS), n > MAX_WINDINGS)
     }
 
     /// Every solution of `base_T_tcp` (TCP pose in the base frame, m) that lies within the
@@ -565,7 +622,7 @@ impl OrthoParallel {
         let n = self.raw(base_T_tcp, self.default_free(), &mut raw);
         let mut out = Solutions::new();
         out.raw_count = n as u8;
-        let mut ks = [[0i8; MAX_WINDINGS]; 6];
+        let mut ks = [[0i8; MAX_WINDINGS + 1]; 6];
         let mut counts = [0usize; 6];
         'raw: for sol in &raw[..n] {
             let base = self.principal(&sol.theta);
@@ -613,7 +670,7 @@ impl OrthoParallel {
         let n = self.raw(base_T_tcp, self.default_free(), &mut raw);
         let mut out = Solutions::new();
         out.raw_count = n as u8;
-        let mut ks = [0i8; MAX_WINDINGS];
+        let mut ks = [0i8; MAX_WINDINGS + 1];
         for sol in &raw[..n] {
             let base = self.principal(&sol.theta);
             let mut winding = [0i8; 6];
@@ -668,7 +725,7 @@ impl OrthoParallel {
         let sol = raw[..n].iter().find(|s| s.config == config)?;
         let base = self.principal(&sol.theta);
         Some(std::array::from_fn(|i| {
-            base[i] + TAU * ((q_ref[i] - base[i]) / TAU).round()
+            base[i] + TAU * nearest_int((q_ref[i] - base[i]) / TAU)
         }))
     }
 
@@ -716,6 +773,12 @@ mod tests {
         assert_eq!(wrap(-PI), PI);
         assert!((wrap(3.0 * PI + 0.1) - (-PI + 0.1)).abs() < 1e-12);
         assert!((wrap(-7.0) - (-7.0 + TAU)).abs() < 1e-12);
+        assert_eq!(wrap(0.25), 0.25);
+        assert!((wrap(40.0 * TAU + 1.0) - 1.0).abs() < 1e-12);
+        assert_eq!(nearest_int(-2.6), -3.0);
+        assert_eq!(nearest_int(-2.4), -2.0);
+        assert_eq!(nearest_int(2.6), 3.0);
+        assert_eq!(nearest_int(-0.2), 0.0);
     }
 
     #[test]

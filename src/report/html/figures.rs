@@ -1,0 +1,396 @@
+//! From a report and its plot data to the figures of the page: which series go on which
+//! plot, the ranges, limits and shaded bands, and where each finding is marked.
+
+use super::data::{position_at, PlotData, TracePoint};
+use super::plots::{self, Figure, Line, Mark, Rule, SPlot, View, ViewMark};
+use crate::assess::Severity;
+use crate::report::{FindingReport, Report};
+use plotters::style::Color;
+
+/// Findings marked on the plots; beyond this the table still lists them (up to its own cap)
+/// but the plots would be covered in markers.
+pub const MAX_MARKED: usize = 300;
+
+/// Waypoint lines drawn on the plots against s; more are thinned evenly (a line every pixel
+/// or two says nothing).
+const MAX_WAYPOINT_LINES: usize = 400;
+
+/// Width of the page's content (px): full-width plots, three joint plots or views per row.
+const FULL: u32 = 1160;
+const JOINT: (u32, u32) = (380, 210);
+const VIEW: (u32, u32) = (380, 400);
+
+/// Where a finding is shown first.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Place {
+    Joint(usize),
+    Speed,
+    Singularity,
+    Tool,
+    Views,
+    /// Not located on the path (input findings).
+    Nowhere,
+}
+
+/// The plot a finding belongs to.
+pub fn place(f: &FindingReport, joint_names: &[String]) -> Place {
+    if f.s_mm.is_none() {
+        return Place::Nowhere;
+    }
+    let joint = f
+        .joint
+        .as_ref()
+        .and_then(|j| joint_names.iter().position(|n| n == j));
+    match f.kind {
+        "joint_limit" | "near_joint_limit" => joint.map_or(Place::Views, Place::Joint),
+        "joint_speed" => Place::Speed,
+        "singularity" => Place::Singularity,
+        "tool_angular_speed" => Place::Tool,
+        "joint_jump" => {
+            // The joint that jumps furthest shows the step best.
+            let biggest = f.joint_deltas.as_ref().and_then(|d| {
+                d.iter()
+                    .max_by(|a, b| a.1.abs().total_cmp(&b.1.abs()))
+                    .and_then(|(name, _)| joint_names.iter().position(|n| n == name))
+            });
+            biggest.map_or(Place::Views, Place::Joint)
+        }
+        _ => Place::Views,
+    }
+}
+
+/// Element id of a finding's marker on its first plot.
+pub fn pin_id(number: usize) -> String {
+    format!("pin-{number}")
+}
+
+/// All figures of the page; a figure that could not be drawn carries the reason instead.
+pub struct Figures {
+    pub speed: Result<Figure, String>,
+    pub singularity: Result<Figure, String>,
+    pub tool: Result<Figure, String>,
+    pub joints: Vec<Result<Figure, String>>,
+    /// Top (x–y), side (x–z) and end (y–z) views.
+    pub views: [Result<Figure, String>; 3],
+    /// Which findings (1-based numbers) got a marker, and where first.
+    pub places: Vec<(usize, Place)>,
+}
+
+fn mark(number: usize, f: &FindingReport, primary: bool) -> Mark {
+    let s = f.s_mm.unwrap_or([0.0, 0.0]);
+    Mark {
+        number,
+        error: f.severity == Severity::Error,
+        s,
+        id: primary.then(|| pin_id(number)),
+        title: title(number, f),
+    }
+}
+
+/// Tooltip of a marker (plain text; the page escapes it).
+pub fn title(number: usize, f: &FindingReport) -> String {
+    let sev = match f.severity {
+        Severity::Error => "error",
+        Severity::Warning => "warning",
+    };
+    match &f.joint {
+        Some(j) => format!("{number}. {sev}: {} · {j}", f.kind),
+        None => format!("{number}. {sev}: {}", f.kind),
+    }
+}
+
+fn bounds(runs: &[Vec<(f64, f64)>]) -> Option<[f64; 2]> {
+    let mut b: Option<[f64; 2]> = None;
+    for &(_, v) in runs.iter().flatten() {
+        b = Some(match b {
+            None => [v, v],
+            Some([lo, hi]) => [lo.min(v), hi.max(v)],
+        });
+    }
+    b
+}
+
+fn to_mm(runs: Vec<Vec<(f64, f64)>>) -> Vec<Vec<(f64, f64)>> {
+    runs.into_iter()
+        .map(|r| r.into_iter().map(|(s, v)| (s * 1e3, v)).collect())
+        .collect()
+}
+
+/// Build every figure.
+pub fn build(report: &Report, data: &PlotData) -> Figures {
+    let names: Vec<String> = data.joints().iter().map(|j| j.name.clone()).collect();
+    let length = (data.length() * 1e3).max(report.summary.length_mm);
+    let mut waypoints: Vec<(f64, String)> = data
+        .waypoints()
+        .iter()
+        .map(|(i, s, _)| {
+            let name = report.path.waypoints.get(*i).cloned().unwrap_or_default();
+            (s * 1e3, name)
+        })
+        .collect();
+    if waypoints.len() > MAX_WAYPOINT_LINES {
+        let every = waypoints.len().div_ceil(MAX_WAYPOINT_LINES);
+        waypoints = waypoints.into_iter().step_by(every).collect();
+    }
+    let gaps: Vec<[f64; 2]> = data
+        .envelope()
+        .map(|e| e.unreachable_stretches())
+        .unwrap_or_default()
+        .into_iter()
+        .map(|[a, b]| [a * 1e3, b * 1e3])
+        .collect();
+    let mut places = Vec::new();
+    let (mut speed_marks, mut sing_marks, mut tool_marks) = (vec![], vec![], vec![]);
+    let mut joint_marks: Vec<Vec<Mark>> = vec![Vec::new(); names.len()];
+    for (i, f) in report.findings.iter().enumerate() {
+        let n = i + 1;
+        let p = place(f, &names);
+        if p == Place::Nowhere || places.len() >= MAX_MARKED {
+            continue;
+        }
+        places.push((n, p));
+        match p {
+            Place::Joint(k) => joint_marks[k].push(mark(n, f, true)),
+            Place::Speed => speed_marks.push(mark(n, f, true)),
+            Place::Singularity => sing_marks.push(mark(n, f, true)),
+            Place::Tool => tool_marks.push(mark(n, f, true)),
+            Place::Views | Place::Nowhere => {}
+        }
+    }
+    let base = |lines, y, marks, y_desc: &str| SPlot {
+        size: (FULL, 250),
+        y_desc: y_desc.to_string(),
+        length,
+        y,
+        log_y: false,
+        lines,
+        rules: vec![],
+        bands: vec![],
+        gaps: &gaps,
+        waypoints: &waypoints,
+        waypoint_names: true,
+        marks,
+    };
+    let env = data.envelope();
+    let runs = |k: usize| env.map(|e| to_mm(e.runs(k))).unwrap_or_default();
+
+    // Joint speeds as a fraction of the allowed speed, one line per joint.
+    let speed_lines: Vec<Line> = (0..names.len())
+        .map(|k| Line {
+            colour: plots::JOINT_COLOURS[k % plots::JOINT_COLOURS.len()],
+            width: 2,
+            runs: runs(data.speed_series(k)),
+            label: Some(names[k].clone()),
+        })
+        .collect();
+    let peak = speed_lines
+        .iter()
+        .filter_map(|l| bounds(&l.runs))
+        .fold(0.0f64, |m, b| m.max(b[1]));
+    // Peak labels only where a joint comes within half of the busiest one: the rest sit
+    // in a bundle near zero where names would overlap.
+    let speed_lines = speed_lines
+        .into_iter()
+        .map(|mut l| {
+            if bounds(&l.runs).is_none_or(|b| b[1] < 0.5 * peak) {
+                l.label = None;
+            }
+            l
+        })
+        .collect();
+    let mut speed = base(
+        speed_lines,
+        [0.0, (peak * 1.1).max(1.2)],
+        speed_marks,
+        "speed / allowed",
+    );
+    speed.rules.push(Rule {
+        y: 1.0,
+        label: format!(
+            "1.0 = allowed speed (URDF velocity × {})",
+            super::nice(report.path.joint_speed_scale)
+        ),
+    });
+
+    // The singularity measure on a log scale: the threshold is far below 1.
+    let threshold = report.path.singularity_threshold;
+    let sing_runs = runs(data.singularity_series());
+    let lo = bounds(&sing_runs)
+        .map_or(threshold / 3.0, |b| b[0].min(threshold / 3.0) * 0.7)
+        .clamp(1e-6, threshold.max(1e-6));
+    let sing_runs = sing_runs
+        .into_iter()
+        .map(|r| r.into_iter().map(|(s, v)| (s, v.max(lo))).collect())
+        .collect();
+    let mut singularity = base(
+        vec![Line {
+            colour: plots::BLUE,
+            width: 2,
+            runs: sing_runs,
+            label: None,
+        }],
+        [lo, 1.0],
+        sing_marks,
+        "measure (log scale)",
+    );
+    singularity.log_y = true;
+    singularity.rules.push(Rule {
+        y: threshold,
+        label: format!("warning threshold {}", super::nice(threshold)),
+    });
+
+    // Tool angular speed on linear segments.
+    let limit = report.path.tool_angular_speed_limit_deg_s;
+    let tool_runs = runs(data.tool_speed_series());
+    let tool_peak = bounds(&tool_runs).map_or(0.0, |b| b[1]);
+    let mut tool = base(
+        vec![Line {
+            colour: plots::BLUE,
+            width: 2,
+            runs: tool_runs,
+            label: None,
+        }],
+        [0.0, (limit * 1.15).max(tool_peak * 1.08).max(1e-3)],
+        tool_marks,
+        "deg/s",
+    );
+    tool.rules.push(Rule {
+        y: limit,
+        label: format!("limit {} deg/s", super::nice(limit)),
+    });
+
+    // One small plot per joint, with its range, the near-limit margin and beyond-range shading.
+    let joints = data
+        .joints()
+        .iter()
+        .enumerate()
+        .map(|(k, j)| {
+            let lines = runs(data.position_series(k));
+            let b = bounds(&lines);
+            let (y, bands, rules) = match j.range {
+                Some([lower, upper]) => {
+                    let pad = 0.06 * (upper - lower).max(1e-6);
+                    let y0 = (lower - pad).min(b.map_or(lower, |b| b[0] - pad));
+                    let y1 = (upper + pad).max(b.map_or(upper, |b| b[1] + pad));
+                    let margin = j.near_margin.min(0.5 * (upper - lower));
+                    let near = plots::ORANGE.mix(0.35);
+                    let out = plots::INK.mix(0.12);
+                    (
+                        [y0, y1],
+                        vec![
+                            ([y0, lower], out),
+                            ([upper, y1], out),
+                            ([lower, lower + margin], near),
+                            ([upper - margin, upper], near),
+                        ],
+                        vec![
+                            Rule {
+                                y: lower,
+                                label: format!("{lower:.0}"),
+                            },
+                            Rule {
+                                y: upper,
+                                label: format!("{upper:.0}"),
+                            },
+                        ],
+                    )
+                }
+                None => {
+                    let [a, c] = b.unwrap_or([-1.0, 1.0]);
+                    let pad = 0.08 * (c - a).max(1.0);
+                    ([a - pad, c + pad], vec![], vec![])
+                }
+            };
+            plots::s_plot(&SPlot {
+                size: JOINT,
+                y_desc: format!("{} ({})", j.name, crate::report::joint_unit(j.kind)),
+                length,
+                y,
+                log_y: false,
+                lines: vec![Line {
+                    colour: plots::BLUE,
+                    width: 2,
+                    runs: lines,
+                    label: None,
+                }],
+                rules,
+                bands,
+                gaps: &gaps,
+                waypoints: &waypoints,
+                waypoint_names: false,
+                marks: std::mem::take(&mut joint_marks[k]),
+            })
+        })
+        .collect();
+
+    let trace = data.trace().points();
+    let views = views(report, data, &trace, &places);
+    Figures {
+        speed: plots::s_plot(&speed),
+        singularity: plots::s_plot(&singularity),
+        tool: plots::s_plot(&tool),
+        joints,
+        views,
+        places,
+    }
+}
+
+/// The top (x–y), side (x–z) and end (y–z) views, base frame, mm. Two views show a path
+/// that runs along one base axis as a dot; the third always shows its length.
+fn views(
+    report: &Report,
+    data: &PlotData,
+    trace: &[TracePoint],
+    places: &[(usize, Place)],
+) -> [Result<Figure, String>; 3] {
+    let project = |axes: [usize; 2], tag: &str, x_desc: &str, y_desc: &str| {
+        let path: Vec<(f64, f64)> = trace.iter().map(|t| (t.p[axes[0]], t.p[axes[1]])).collect();
+        let waypoints = data
+            .waypoints()
+            .iter()
+            .take(2000)
+            .map(|(i, _, p)| {
+                (
+                    p[axes[0]],
+                    p[axes[1]],
+                    report.path.waypoints.get(*i).cloned().unwrap_or_default(),
+                )
+            })
+            .collect();
+        let marks = places
+            .iter()
+            .filter_map(|&(n, p)| {
+                let f = report.findings.get(n - 1)?;
+                let [s0, s1] = f.s_mm?;
+                let (s0, s1) = (s0 * 1e-3, s1 * 1e-3);
+                let mut stretch = vec![position_at(trace, s0)?];
+                stretch.extend(trace.iter().filter(|t| t.s > s0 && t.s < s1).map(|t| t.p));
+                stretch.push(position_at(trace, s1)?);
+                Some(ViewMark {
+                    number: n,
+                    error: f.severity == Severity::Error,
+                    stretch: stretch.iter().map(|p| (p[axes[0]], p[axes[1]])).collect(),
+                    id: Some(if p == Place::Views && tag == "top" {
+                        pin_id(n)
+                    } else {
+                        format!("pin-{n}-{tag}")
+                    }),
+                    title: title(n, f),
+                })
+            })
+            .collect();
+        plots::view(&View {
+            size: VIEW,
+            x_desc,
+            y_desc,
+            path,
+            waypoints,
+            marks,
+        })
+    };
+    [
+        project([0, 1], "top", "x (mm)", "y (mm)"),
+        project([0, 2], "side", "x (mm)", "z (mm)"),
+        project([1, 2], "end", "y (mm)", "z (mm)"),
+    ]
+}

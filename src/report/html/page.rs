@@ -1,0 +1,561 @@
+//! The page: one self-contained HTML document (inline CSS and inline SVG, no scripts, no
+//! links to anything outside the file, generic font families). All text that comes from the
+//! user's files (names, paths, messages) is escaped here.
+
+use super::data::PlotData;
+use super::figures::{self, Figures, Place};
+use super::plots::Figure;
+use crate::assess::Severity;
+use crate::report::{FindingReport, Report, Verdict};
+use std::fmt::Write;
+
+/// Rows of the findings table; the rest are counted (the JSON report lists them all).
+pub const MAX_ROWS: usize = 500;
+
+/// Waypoint names listed in the settings.
+const MAX_WAYPOINT_NAMES: usize = 60;
+
+/// Escape text for HTML element content and quoted attribute values.
+pub fn escape(text: &str) -> String {
+    let mut o = String::with_capacity(text.len());
+    for c in text.chars() {
+        match c {
+            '&' => o.push_str("&amp;"),
+            '<' => o.push_str("&lt;"),
+            '>' => o.push_str("&gt;"),
+            '"' => o.push_str("&quot;"),
+            '\'' => o.push_str("&#39;"),
+            other => o.push(other),
+        }
+    }
+    o
+}
+
+const STYLE: &str = r#"
+:root{--ink:#1a1a1a;--muted:#555;--rule:#cfcfcf;--err:#D55E00;--warn:#E69F00;--blue:#0072B2;--soft:#f4f6f8}
+*{box-sizing:border-box}
+html{-webkit-print-color-adjust:exact;print-color-adjust:exact}
+body{margin:0;background:#fff;color:var(--ink);font:14px/1.45 system-ui,-apple-system,"Segoe UI",sans-serif}
+main{max-width:1200px;margin:0 auto;padding:20px 20px 40px}
+h1{font-size:22px;margin:0 0 2px;font-weight:650;letter-spacing:.01em}
+h2{font-size:17px;margin:30px 0 10px;padding-bottom:4px;border-bottom:2px solid var(--ink)}
+h3{font-size:14px;margin:18px 0 6px}
+.sub{color:var(--muted);margin:0}
+code,.mono{font-family:ui-monospace,"DejaVu Sans Mono",monospace;font-size:12.5px}
+nav{margin:10px 0 0;font-size:13px}nav a{margin-right:14px}
+a{color:var(--blue)}
+.top{display:grid;grid-template-columns:260px 1fr;gap:18px;margin-top:16px;align-items:stretch}
+.verdict{border:3px solid var(--ink);padding:14px 16px;display:flex;flex-direction:column;justify-content:center}
+.verdict .word{font-size:34px;font-weight:800;letter-spacing:.08em;line-height:1.1}
+.verdict .count{margin-top:6px}
+.v-fail{border-color:var(--err);background:repeating-linear-gradient(135deg,#fff 0 10px,#fbe7dc 10px 20px)}
+.v-fail .word{color:#a33f00}
+.v-warn{border-color:var(--warn);border-style:dashed;background:#fff7e6}
+.v-warn .word{color:#7a5200}
+.v-pass{border-color:var(--blue);background:#eef5fb}
+.v-pass .word{color:var(--blue)}
+.keys{display:grid;grid-template-columns:repeat(2,minmax(0,1fr));gap:0 24px;margin:0;border-top:1px solid var(--rule)}
+.keys div{display:flex;gap:10px;padding:5px 0;border-bottom:1px solid var(--rule)}
+.keys dt{color:var(--muted);min-width:150px}.keys dd{margin:0;font-weight:600}
+table{border-collapse:collapse;width:100%;font-size:13px}
+th,td{text-align:left;vertical-align:top;padding:5px 8px;border-bottom:1px solid var(--rule)}
+th{background:var(--soft);font-weight:650;border-bottom:1.5px solid var(--ink)}
+td.num{text-align:right;white-space:nowrap;font-variant-numeric:tabular-nums}
+tr:target{background:#fff1c7}
+tr{scroll-margin-top:30vh}
+.sev{white-space:nowrap;font-weight:700}
+.sev-e{color:#a33f00}.sev-w{color:#7a5200}
+.shape-e{color:var(--err)}.shape-w{color:var(--warn)}
+.msg{color:#333;max-width:460px}
+.legend{display:flex;flex-wrap:wrap;gap:6px 18px;font-size:12.5px;color:#333;margin:6px 0 4px}
+.sw{display:inline-block;width:22px;height:12px;vertical-align:-1px;margin-right:5px;border:1px solid #999}
+.sw.line{height:0;border:0;border-top:3px solid}
+.sw.dash{height:0;border:0;border-top:2px dashed var(--ink)}
+figure{margin:8px 0 14px;break-inside:avoid}
+figcaption{font-size:12.5px;color:#333;margin:0 0 3px}
+figcaption b{color:var(--ink)}
+.canvas{position:relative;line-height:0}
+.canvas svg{width:100%;height:auto;display:block}
+.pin{position:absolute;width:28px;height:28px;margin:-14px 0 0 -14px;border-radius:50%;scroll-margin:40vh}
+.pin:hover{outline:2px solid var(--ink)}
+.pin:target{outline:3px solid var(--blue);outline-offset:3px;background:rgba(0,114,178,.16)}
+.grid3{display:grid;grid-template-columns:repeat(3,minmax(0,1fr));gap:0 10px}
+.grid2{display:grid;grid-template-columns:repeat(2,minmax(0,1fr));gap:0 10px}
+.sr{position:absolute;width:1px;height:1px;overflow:hidden;clip:rect(0 0 0 0)}
+.note{color:var(--muted);font-size:12.5px}
+.fail-note{border-left:4px solid var(--err);padding:4px 10px;background:#fff}
+.cautions{border:2px solid var(--ink);padding:10px 16px 10px 34px;margin:0}
+.cautions li{margin:3px 0}
+footer{margin-top:26px;color:var(--muted);font-size:12px;border-top:1px solid var(--rule);padding-top:8px}
+@media print{main{max-width:none;padding:0}nav{display:none}h2{break-after:avoid}}
+"#;
+
+fn severity_cell(s: Severity) -> &'static str {
+    match s {
+        Severity::Error => r#"<span class="sev sev-e"><span class="shape-e">▲</span> error</span>"#,
+        Severity::Warning => {
+            r#"<span class="sev sev-w"><span class="shape-w">○</span> warning</span>"#
+        }
+    }
+}
+
+fn range(r: Option<[f64; 2]>, digits: usize) -> String {
+    match r {
+        Some([a, b]) if (a - b).abs() < 1e-9 => format!("{a:.digits$}"),
+        Some([a, b]) => format!("{a:.digits$} – {b:.digits$}"),
+        None => "–".into(),
+    }
+}
+
+fn value_cell(f: &FindingReport) -> String {
+    match (f.value, f.limit) {
+        (Some(v), Some(l)) if f.unit != "none" => {
+            format!(
+                "{v:.2} {u}<br><span class=\"note\">limit {l:.2}</span>",
+                u = f.unit
+            )
+        }
+        (Some(v), Some(l)) => format!("{v:.4}<br><span class=\"note\">limit {l:.4}</span>"),
+        _ => "–".into(),
+    }
+}
+
+fn place_name(p: Place, names: &[String]) -> String {
+    match p {
+        Place::Joint(k) => format!("{} position", names.get(k).map_or("joint", |s| s)),
+        Place::Speed => "joint speeds".into(),
+        Place::Singularity => "singularity".into(),
+        Place::Tool => "tool turn rate".into(),
+        Place::Views => "path views".into(),
+        Place::Nowhere => String::new(),
+    }
+}
+
+fn figure(o: &mut String, id: &str, caption: &str, fig: &Result<Figure, String>) {
+    let _ = write!(o, r#"<figure id="{id}">"#);
+    if !caption.is_empty() {
+        let _ = write!(o, "<figcaption>{caption}</figcaption>");
+    }
+    match fig {
+        Ok(f) => {
+            o.push_str(r#"<div class="canvas">"#);
+            o.push_str(&f.svg);
+            for p in &f.pins {
+                let id =
+                    p.id.as_ref()
+                        .map(|i| format!(r#" id="{}""#, escape(i)))
+                        .unwrap_or_default();
+                let _ = write!(
+                    o,
+                    r##"<a class="pin"{id} href="#finding-{n}" style="left:{x:.3}%;top:{y:.3}%" title="{t}"><span class="sr">finding {n}</span></a>"##,
+                    n = p.number,
+                    x = p.x * 100.0,
+                    y = p.y * 100.0,
+                    t = escape(&p.title)
+                );
+            }
+            o.push_str("</div>");
+        }
+        Err(e) => {
+            let _ = write!(
+                o,
+                r#"<p class="fail-note">This plot could not be drawn: {}</p>"#,
+                escape(e)
+            );
+        }
+    }
+    o.push_str("</figure>\n");
+}
+
+/// Render the page.
+pub fn render(report: &Report, data: &PlotData) -> String {
+    let figs = figures::build(report, data);
+    let names: Vec<String> = data.joints().iter().map(|j| j.name.clone()).collect();
+    let mut o = String::with_capacity(256 * 1024);
+    let r = &report.robot;
+    let p = &report.path;
+    let s = &report.summary;
+    let _ = write!(
+        o,
+        "<!DOCTYPE html>\n<html lang=\"en\"><head><meta charset=\"utf-8\">\
+         <meta name=\"viewport\" content=\"width=device-width,initial-scale=1\">\
+         <title>armpath check · {} · {}</title><style>{STYLE}</style></head><body><main>\n",
+        s.verdict.name().to_uppercase(),
+        escape(&p.file)
+    );
+    let _ = write!(
+        o,
+        "<header><h1>Path check: <span class=\"mono\">{}</span></h1>\
+         <p class=\"sub\">robot {} · {} joints · {} wrist · armpath {}</p>\
+         <nav><a href=\"#findings\">Findings</a><a href=\"#along\">Along the path</a>\
+         <a href=\"#views\">Path views</a><a href=\"#settings\">Settings</a>\
+         <a href=\"#cautions\">Cautions</a></nav></header>\n",
+        escape(&p.file),
+        escape(&r.name),
+        r.dof,
+        if r.spherical_wrist {
+            "spherical"
+        } else {
+            "offset"
+        },
+        report.armpath_version
+    );
+    verdict(&mut o, report);
+    findings(&mut o, report, &figs, &names);
+    along(&mut o, report, &figs, &names);
+    views(&mut o, &figs);
+    settings(&mut o, report, data);
+    o.push_str("<h2 id=\"cautions\">Cautions</h2><ul class=\"cautions\">");
+    for c in &report.cautions {
+        let _ = write!(o, "<li>{}</li>", escape(c));
+    }
+    o.push_str("</ul>\n");
+    let _ = write!(
+        o,
+        "<footer>Written by armpath {} from {} samples. This page is self-contained: \
+         no scripts, no fonts or images from elsewhere.</footer>\n</main></body></html>\n",
+        report.armpath_version, s.samples
+    );
+    o
+}
+
+fn verdict(o: &mut String, report: &Report) {
+    let s = &report.summary;
+    let p = &report.path;
+    let (class, word, mark) = match s.verdict {
+        Verdict::Fail => ("v-fail", "FAIL", "▲ "),
+        Verdict::Warn => ("v-warn", "WARN", "○ "),
+        Verdict::Pass => ("v-pass", "PASS", "✓ "),
+    };
+    let plural = |n: usize, w: &str| format!("{n} {w}{}", if n == 1 { "" } else { "s" });
+    let _ = write!(
+        o,
+        "<section class=\"top\" aria-label=\"verdict\"><div class=\"verdict {class}\">\
+         <div class=\"word\" id=\"verdict\">{mark}{word}</div><div class=\"count\">{}, {}</div>\
+         <div class=\"note\">exit code {}</div></div><dl class=\"keys\">",
+        plural(s.errors, "error"),
+        plural(s.warnings, "warning"),
+        report.exit_code()
+    );
+    let mut key = |k: &str, v: String| {
+        let _ = write!(o, "<div><dt>{k}</dt><dd>{v}</dd></div>");
+    };
+    key(
+        "path",
+        format!(
+            "{:.1} mm · {:.2} s · {} samples",
+            s.length_mm, s.duration_s, s.samples
+        ),
+    );
+    key(
+        "waypoints",
+        format!("{} · {} segments", p.waypoints.len(), p.segments),
+    );
+    key(
+        "closest singularity",
+        match (s.min_singularity, s.min_singularity_s_mm) {
+            (Some(m), Some(at)) => format!(
+                "{m:.4}{} at s = {at:.1} mm (warn below {})",
+                s.min_singularity_class
+                    .map(|c| format!(" ({})", escape(c)))
+                    .unwrap_or_default(),
+                super::nice(p.singularity_threshold)
+            ),
+            _ => "–".into(),
+        },
+    );
+    key(
+        "fastest tool turn",
+        format!(
+            "{:.1} deg/s (limit {:.1})",
+            s.max_tool_angular_speed_deg_s, p.tool_angular_speed_limit_deg_s
+        ),
+    );
+    key(
+        "busiest joint",
+        format!(
+            "{:.0} % of allowed speed{}",
+            s.max_joint_speed_ratio * 100.0,
+            s.max_joint_speed_joint
+                .as_ref()
+                .map(|j| format!(" ({})", escape(j)))
+                .unwrap_or_default()
+        ),
+    );
+    key(
+        "tightest joint range",
+        match (s.min_limit_margin_ratio, &s.min_limit_margin_joint) {
+            (Some(m), Some(j)) => format!(
+                "{} uses up to {:.0} % of its half-range",
+                escape(j),
+                (1.0 - m) * 100.0
+            ),
+            _ => "–".into(),
+        },
+    );
+    o.push_str("</dl></section>\n");
+}
+
+fn findings(o: &mut String, report: &Report, figs: &Figures, names: &[String]) {
+    o.push_str("<h2 id=\"findings\">Findings</h2>\n");
+    if report.findings.is_empty() {
+        o.push_str("<p>No findings: every check held along the whole path.</p>\n");
+        return;
+    }
+    o.push_str(
+        "<p class=\"note\">In path order. Each marked finding links to its marker on the plots \
+         (▲ error, ○ warning); the markers link back here.</p>\
+         <table><thead><tr><th>#</th><th>severity</th><th>finding</th><th>where</th>\
+         <th>s (mm)</th><th>t (s)</th><th>worst value</th><th>what happened, what to try</th>\
+         <th>plot</th></tr></thead><tbody>\n",
+    );
+    for (i, f) in report.findings.iter().take(MAX_ROWS).enumerate() {
+        let n = i + 1;
+        let place = figs.places.iter().find(|(m, _)| *m == n).map(|(_, p)| *p);
+        let link = match place {
+            Some(p) => format!(
+                "<a href=\"#{}\">{} ↓</a>",
+                figures::pin_id(n),
+                place_name(p, names)
+            ),
+            None => "–".into(),
+        };
+        let place_text = match (&f.from, &f.to, f.segment) {
+            (Some(a), Some(b), Some(seg)) => {
+                format!("segment {seg}<br>{} → {}", escape(a), escape(b))
+            }
+            _ => "path file".into(),
+        };
+        let _ = writeln!(
+            o,
+            "<tr id=\"finding-{n}\"><td class=\"num\">{n}</td><td>{}</td><td><b>{}</b>{}</td>\
+             <td>{place_text}</td><td class=\"num\">{}</td><td class=\"num\">{}</td>\
+             <td class=\"num\">{}</td><td class=\"msg\">{}</td><td>{link}</td></tr>",
+            severity_cell(f.severity),
+            escape(f.kind),
+            f.joint
+                .as_ref()
+                .map(|j| format!("<br>{}", escape(j)))
+                .unwrap_or_default(),
+            range(f.s_mm, 1),
+            range(f.t_s, 2),
+            value_cell(f),
+            escape(&f.message),
+        );
+    }
+    o.push_str("</tbody></table>\n");
+    if report.findings.len() > MAX_ROWS {
+        let _ = writeln!(
+            o,
+            "<p class=\"note\">{} more findings are not listed here; the JSON report \
+             (<code>--json</code>) lists them all.</p>",
+            report.findings.len() - MAX_ROWS
+        );
+    }
+    if figs.places.len() >= figures::MAX_MARKED {
+        let _ = writeln!(
+            o,
+            "<p class=\"note\">Only the first {} located findings are marked on the plots.</p>",
+            figures::MAX_MARKED
+        );
+    }
+}
+
+const LEGEND: &str = "<div class=\"legend\">\
+<span><span class=\"shape-e\">▲</span> error finding (number = table row)</span>\
+<span><span class=\"shape-w\">○</span> warning finding</span>\
+<span><span class=\"sw\" style=\"background:rgba(213,94,0,.22)\"></span>stretch of an error</span>\
+<span><span class=\"sw\" style=\"background:rgba(230,159,0,.22)\"></span>stretch of a warning</span>\
+<span><span class=\"sw\" style=\"background:rgba(119,119,119,.28)\"></span>unreachable</span>\
+<span><span class=\"sw dash\"></span>limit or threshold</span>\
+<span><span class=\"sw line\" style=\"border-color:#aaa;border-top-width:1px\"></span>waypoint</span>\
+</div>";
+
+fn along(o: &mut String, report: &Report, figs: &Figures, names: &[String]) {
+    let _ = write!(
+        o,
+        "<h2 id=\"along\">Along the path</h2><p class=\"note\">Against path distance s of the \
+         TCP (mm); thin vertical lines mark the waypoints. Long paths are drawn from the \
+         smallest and largest value in each of at most {} slices, so no peak is lost.</p>{LEGEND}",
+        super::data::BUCKETS
+    );
+    let mut legend = String::from("<span class=\"legend\" style=\"display:inline-flex\">");
+    for (k, n) in names.iter().enumerate() {
+        let c = super::plots::JOINT_COLOURS[k % super::plots::JOINT_COLOURS.len()];
+        let _ = write!(
+            legend,
+            "<span><span class=\"sw line\" style=\"border-color:#{:02X}{:02X}{:02X}\"></span>{}</span>",
+            c.0,
+            c.1,
+            c.2,
+            escape(n)
+        );
+    }
+    legend.push_str("</span>");
+    figure(
+        o,
+        "plot-speed",
+        &format!("<b>Joint speed</b> as a fraction of the allowed speed {legend}"),
+        &figs.speed,
+    );
+    figure(
+        o,
+        "plot-singularity",
+        "<b>Singularity measure</b> (1 = well-conditioned, 0 = singular); below the \
+         threshold the arm is close to losing a direction of motion",
+        &figs.singularity,
+    );
+    figure(
+        o,
+        "plot-tool",
+        &format!(
+            "<b>Tool angular speed</b> on linear segments (deg/s), limit {} deg/s",
+            super::nice(report.path.tool_angular_speed_limit_deg_s)
+        ),
+        &figs.tool,
+    );
+    o.push_str(
+        "<h3>Joint positions</h3><div class=\"legend\">\
+         <span><span class=\"sw\" style=\"background:rgba(230,159,0,.35)\"></span>within the \
+         near-limit margin</span><span><span class=\"sw\" style=\"background:rgba(26,26,26,.12)\">\
+         </span>outside the joint's range</span><span><span class=\"sw dash\"></span>range limit</span>\
+         </div><div class=\"grid3\">",
+    );
+    for (k, fig) in figs.joints.iter().enumerate() {
+        figure(o, &format!("plot-joint-{}", k + 1), "", fig);
+    }
+    o.push_str("</div>\n");
+}
+
+fn views(o: &mut String, figs: &Figures) {
+    o.push_str(
+        "<h2 id=\"views\">Path views</h2><p class=\"note\">The commanded TCP path in the robot \
+         base frame, equal scales on both axes of each view (■ first waypoint, ● waypoints). \
+         Finding stretches are drawn wide under the path; a leader line points from each \
+         marker to where its finding starts.</p><div class=\"grid3\">",
+    );
+    let [top, side, end] = &figs.views;
+    figure(o, "view-top", "<b>Top view</b> x–y, from above", top);
+    figure(o, "view-side", "<b>Side view</b> x–z, from −y", side);
+    figure(o, "view-end", "<b>End view</b> y–z, from +x", end);
+    o.push_str("</div>\n");
+}
+
+fn settings(o: &mut String, report: &Report, data: &PlotData) {
+    let r = &report.robot;
+    let p = &report.path;
+    let (near_deg, near_mm) = data.near_margins();
+    let _ = write!(
+        o,
+        "<h2 id=\"settings\">Settings</h2><div class=\"grid2\"><div><h3>Robot</h3>\
+         <table><tbody><tr><th>name</th><td>{}</td></tr><tr><th>URDF</th><td class=\"mono\">{}</td></tr>\
+         <tr><th>chain</th><td>{} → {} · {} joints</td></tr><tr><th>wrist</th><td>{}</td></tr>\
+         <tr><th>reach</th><td>≈ {:.0} mm</td></tr></tbody></table>",
+        escape(&r.name),
+        escape(&r.urdf),
+        escape(&r.root_link),
+        escape(&r.tip_link),
+        r.dof,
+        if r.spherical_wrist {
+            "spherical"
+        } else {
+            "offset"
+        },
+        r.reach_mm
+    );
+    o.push_str(
+        "<h3>Joints</h3><table><thead><tr><th>joint</th><th>range</th><th>speed limit</th>\
+         <th>allowed</th><th>start</th></tr></thead><tbody>",
+    );
+    for (k, j) in r.joints.iter().enumerate() {
+        let range = match (j.lower, j.upper) {
+            (Some(a), Some(b)) => format!("{a:.1} … {b:.1} {}", j.unit),
+            _ => "continuous".into(),
+        };
+        let start = p
+            .start
+            .joints
+            .get(k)
+            .map_or("–".into(), |v| format!("{v:.1}"));
+        let _ = write!(
+            o,
+            "<tr><td>{}</td><td class=\"num\">{range}</td><td class=\"num\">{:.1} {u}/s</td>\
+             <td class=\"num\">{:.1} {u}/s</td><td class=\"num\">{start}</td></tr>",
+            escape(&j.name),
+            j.velocity,
+            j.velocity * p.joint_speed_scale,
+            u = j.unit
+        );
+    }
+    o.push_str("</tbody></table></div><div><h3>Path</h3><table><tbody>");
+    let mut row = |k: &str, v: String| {
+        let _ = write!(o, "<tr><th>{k}</th><td>{v}</td></tr>");
+    };
+    row(
+        "file",
+        format!("<span class=\"mono\">{}</span>", escape(&p.file)),
+    );
+    let mut wp: Vec<String> = p
+        .waypoints
+        .iter()
+        .take(MAX_WAYPOINT_NAMES)
+        .map(|w| escape(w))
+        .collect();
+    if p.waypoints.len() > MAX_WAYPOINT_NAMES {
+        wp.push(format!("… ({} in all)", p.waypoints.len()));
+    }
+    row("waypoints", wp.join(" · "));
+    row("segments", p.segments.to_string());
+    row("TCP speed", format!("{:.1} mm/s", p.speed_mm_s));
+    row(
+        "tool angular speed limit",
+        format!(
+            "{:.1} deg/s (linear segments)",
+            p.tool_angular_speed_limit_deg_s
+        ),
+    );
+    row(
+        "joint speed scale",
+        format!("{} × URDF velocity", super::nice(p.joint_speed_scale)),
+    );
+    row(
+        "near-limit margin",
+        format!("{near_deg:.1} deg · {near_mm:.1} mm (prismatic)"),
+    );
+    row(
+        "singularity threshold",
+        super::nice(p.singularity_threshold),
+    );
+    row(
+        "sampling",
+        format!("{:.2} mm · {:.2} deg per step", p.step_mm, p.angle_step_deg),
+    );
+    row(
+        "start configuration",
+        match p.start.method {
+            "start_joints" => "from start_joints".into(),
+            "search" => format!(
+                "best of {} solutions found for the first pose",
+                p.start.alternatives
+            ),
+            _ => "first pose not reachable".into(),
+        },
+    );
+    o.push_str("</tbody></table></div></div>\n");
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn escaping_covers_markup_and_quotes() {
+        // source: HTML Living Standard, "escaping a string" (&, <, >, " and ' in attributes)
+        assert_eq!(
+            escape(r#"<script>alert("x&y")</script> it's"#),
+            "&lt;script&gt;alert(&quot;x&amp;y&quot;)&lt;/script&gt; it&#39;s"
+        );
+        assert_eq!(escape("plain ø → ✓"), "plain ø → ✓");
+        assert_eq!(escape("&amp;"), "&amp;amp;");
+    }
+}

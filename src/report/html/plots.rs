@@ -1,0 +1,613 @@
+//! The figures of the page, drawn with plotters into SVG strings: plots against path
+//! distance and the top and side views of the TCP path. Colours come from the Okabe–Ito
+//! palette (distinguishable with the common colour-vision deficiencies); severity is carried
+//! by shape as well (▲ filled triangle = error, ○ hollow circle = warning), never by colour
+//! alone. Finding markers are returned as [`Pin`]s so that the page can put links on them.
+
+use plotters::coord::ranged1d::{AsRangedCoord, ValueFormatter};
+use plotters::coord::Shift;
+use plotters::element::DashedPathElement;
+use plotters::prelude::*;
+use plotters::style::text_anchor::{HPos, Pos, VPos};
+
+/// Okabe–Ito colours.
+pub const BLUE: RGBColor = RGBColor(0x00, 0x72, 0xB2);
+pub const ORANGE: RGBColor = RGBColor(0xE6, 0x9F, 0x00);
+pub const VERMILLION: RGBColor = RGBColor(0xD5, 0x5E, 0x00);
+pub const GREEN: RGBColor = RGBColor(0x00, 0x9E, 0x73);
+pub const PURPLE: RGBColor = RGBColor(0xCC, 0x79, 0xA7);
+pub const SKY: RGBColor = RGBColor(0x56, 0xB4, 0xE9);
+pub const INK: RGBColor = RGBColor(0x1A, 0x1A, 0x1A);
+const GREY: RGBColor = RGBColor(0x77, 0x77, 0x77);
+const GRID: RGBColor = RGBColor(0xE4, 0xE4, 0xE4);
+
+/// Line colours of joints 1..7 in the speed plot: the palette without the two severity
+/// colours first, then those (their lines are labelled by name all the same).
+pub const JOINT_COLOURS: [RGBColor; 7] = [BLUE, GREEN, PURPLE, SKY, INK, ORANGE, VERMILLION];
+
+pub fn error_colour(error: bool) -> RGBColor {
+    if error {
+        VERMILLION
+    } else {
+        ORANGE
+    }
+}
+
+/// Font size argument for plotters: its SVG backend writes `size / 1.24` px.
+fn px(size: f64) -> f64 {
+    size * 1.24
+}
+
+fn font(size: f64) -> TextStyle<'static> {
+    ("sans-serif", px(size)).into_font().color(&INK)
+}
+
+fn bold(size: f64) -> TextStyle<'static> {
+    ("sans-serif", px(size), FontStyle::Bold)
+        .into_font()
+        .color(&INK)
+}
+
+/// Tick label: as few decimals as the axis span needs; on a log axis, enough decimals to
+/// show the leading digit.
+fn tick(v: f64, span: f64, log: bool) -> String {
+    let digits = if log {
+        if v >= 1.0 {
+            0
+        } else {
+            (-v.log10()).ceil().clamp(0.0, 8.0) as usize
+        }
+    } else if span >= 20.0 {
+        0
+    } else if span >= 2.0 {
+        1
+    } else {
+        2
+    };
+    format!("{v:.digits$}")
+}
+
+/// Tick label of path distance (mm): in metres, marked so, on paths of 10 m and more,
+/// where five-digit millimetre labels would run into each other.
+fn s_tick(mm: f64, length: f64) -> String {
+    if length >= 10_000.0 {
+        let m = mm / 1e3;
+        if m == 0.0 {
+            "0".into()
+        } else {
+            format!("{} m", tick(m, length / 1e3, false))
+        }
+    } else {
+        format!("{mm:.0}")
+    }
+}
+
+fn err<E: std::fmt::Display>(e: E) -> String {
+    e.to_string()
+}
+
+/// A finding to mark on a figure (s in mm).
+#[derive(Debug, Clone)]
+pub struct Mark {
+    pub number: usize,
+    pub error: bool,
+    pub s: [f64; 2],
+    /// Element id of the pin (the findings table links to it).
+    pub id: Option<String>,
+    pub title: String,
+}
+
+/// A marker placed on a figure, as fractions of the figure's width and height.
+#[derive(Debug, Clone)]
+pub struct Pin {
+    pub number: usize,
+    pub x: f64,
+    pub y: f64,
+    pub id: Option<String>,
+    pub title: String,
+}
+
+/// A drawn figure.
+#[derive(Debug, Clone)]
+pub struct Figure {
+    pub svg: String,
+    pub pins: Vec<Pin>,
+}
+
+/// A data line (s in mm): polylines broken at gaps.
+pub struct Line {
+    pub colour: RGBColor,
+    pub width: u32,
+    pub runs: Vec<Vec<(f64, f64)>>,
+    /// Written beside the line's peak.
+    pub label: Option<String>,
+}
+
+/// A horizontal limit line.
+pub struct Rule {
+    pub y: f64,
+    pub label: String,
+}
+
+/// A plot against path distance.
+pub struct SPlot<'a> {
+    pub size: (u32, u32),
+    pub y_desc: String,
+    /// Path length (mm); the x axis runs from 0 to here.
+    pub length: f64,
+    pub y: [f64; 2],
+    pub log_y: bool,
+    pub lines: Vec<Line>,
+    pub rules: Vec<Rule>,
+    /// Horizontal bands [y0, y1] with their fill (near-limit margins, outside the range).
+    pub bands: Vec<([f64; 2], RGBAColor)>,
+    /// Stretches with unreachable samples (mm).
+    pub gaps: &'a [[f64; 2]],
+    /// Waypoints (s in mm, name).
+    pub waypoints: &'a [(f64, String)],
+    pub waypoint_names: bool,
+    pub marks: Vec<Mark>,
+}
+
+/// Draw a finding marker centred at pixel (x, y): filled triangle for an error, hollow circle
+/// for a warning, its number beside it.
+fn draw_marker(
+    root: &DrawingArea<SVGBackend, Shift>,
+    x: i32,
+    y: i32,
+    number: usize,
+    error: bool,
+) -> Result<(), String> {
+    if error {
+        root.draw(&TriangleMarker::new((x, y), 7, VERMILLION.filled()))
+            .map_err(err)?;
+        root.draw(&TriangleMarker::new((x, y), 7, INK.stroke_width(1)))
+            .map_err(err)?;
+    } else {
+        root.draw(&Circle::new((x, y), 6, WHITE.filled()))
+            .map_err(err)?;
+        root.draw(&Circle::new((x, y), 6, ORANGE.stroke_width(3)))
+            .map_err(err)?;
+        root.draw(&Circle::new((x, y), 8, INK.stroke_width(1)))
+            .map_err(err)?;
+    }
+    root.draw(&Text::new(
+        number.to_string(),
+        (x + 10, y),
+        bold(12.0).pos(Pos::new(HPos::Left, VPos::Center)),
+    ))
+    .map_err(err)
+}
+
+/// Stagger marker rows so that markers closer than `gap` px do not overlap.
+fn stagger(xs: &[i32], gap: i32, rows: usize) -> Vec<usize> {
+    let mut last: Vec<Option<i32>> = vec![None; rows];
+    xs.iter()
+        .map(|&x| {
+            let row = (0..rows)
+                .find(|&r| last[r].is_none_or(|l| x - l >= gap))
+                .unwrap_or_else(|| {
+                    (0..rows)
+                        .min_by_key(|&r| last[r].unwrap_or(i32::MIN))
+                        .unwrap_or(0)
+                });
+            last[row] = Some(x);
+            row
+        })
+        .collect()
+}
+
+/// Draw a plot against path distance.
+pub fn s_plot(spec: &SPlot) -> Result<Figure, String> {
+    let (y0, y1) = (spec.y[0], spec.y[1]);
+    if spec.log_y {
+        draw_s_plot(spec, (y0..y1).log_scale())
+    } else {
+        draw_s_plot(spec, y0..y1)
+    }
+}
+
+fn draw_s_plot<Y>(spec: &SPlot, y_coord: Y) -> Result<Figure, String>
+where
+    Y: AsRangedCoord<Value = f64>,
+    Y::CoordDescType: ValueFormatter<f64>,
+{
+    let mut svg = String::new();
+    let (w, h) = spec.size;
+    // A path of one point still gets a 1 mm axis.
+    let x_max = spec.length.max(1.0);
+    let mut pins = Vec::new();
+    {
+        let root = SVGBackend::with_string(&mut svg, spec.size).into_drawing_area();
+        root.fill(&WHITE).map_err(err)?;
+        let mut chart = ChartBuilder::on(&root)
+            .margin_top(8)
+            .margin_right(14)
+            .margin_left(6)
+            .margin_bottom(4)
+            .x_label_area_size(26)
+            .y_label_area_size(58)
+            .build_cartesian_2d(0.0..x_max, y_coord)
+            .map_err(err)?;
+        chart
+            .configure_mesh()
+            .light_line_style(TRANSPARENT)
+            .bold_line_style(GRID.stroke_width(1))
+            .axis_style(INK.stroke_width(1))
+            .x_labels(if w > 700 { 12 } else { 6 })
+            .y_labels(5)
+            .label_style(font(11.0))
+            .axis_desc_style(font(11.0))
+            .y_desc(spec.y_desc.as_str())
+            .x_label_formatter(&|v| s_tick(*v, x_max))
+            .y_label_formatter(&|v| tick(*v, spec.y[1] - spec.y[0], spec.log_y))
+            .draw()
+            .map_err(err)?;
+        let (xr, yr) = chart.plotting_area().get_pixel_range();
+        // The x axis is linear from 0 to x_max across the plotting area's pixels.
+        let (xa, xb) = (xr.start, xr.end);
+        let xpx =
+            move |s: f64| xa + ((s / x_max).clamp(0.0, 1.0) * (xb - xa) as f64).round() as i32;
+        let band = |a: f64, b: f64, colour: RGBAColor| -> Result<(), String> {
+            let (l, r) = (xpx(a), xpx(b));
+            let (l, r) = if r - l < 3 { (l - 1, l + 2) } else { (l, r) };
+            root.draw(&Rectangle::new(
+                [(l, yr.start), (r, yr.end)],
+                colour.filled(),
+            ))
+            .map_err(err)
+        };
+        for ([a, b], colour) in &spec.bands {
+            let ya = chart.backend_coord(&(0.0, *a)).1.clamp(yr.start, yr.end);
+            let yb = chart.backend_coord(&(0.0, *b)).1.clamp(yr.start, yr.end);
+            if ya != yb {
+                root.draw(&Rectangle::new(
+                    [(xr.start, ya.min(yb)), (xr.end, ya.max(yb))],
+                    colour.filled(),
+                ))
+                .map_err(err)?;
+            }
+        }
+        for g in spec.gaps {
+            band(g[0], g[1], GREY.mix(0.28))?;
+        }
+        for m in &spec.marks {
+            band(m.s[0], m.s[1], error_colour(m.error).mix(0.22))?;
+        }
+        // Waypoints: full-height lines while they are sparse; where they would grey the
+        // plot over (more than one per 12 px on average), short ticks on the axis instead.
+        let mut wx: Vec<i32> = spec.waypoints.iter().map(|(s, _)| xpx(*s)).collect();
+        wx.dedup();
+        let sparse = (wx.len() as i32) * 12 <= xr.end - xr.start;
+        let top = if sparse { yr.start } else { yr.end - 7 };
+        for &x in &wx {
+            root.draw(&PathElement::new(
+                vec![(x, top), (x, yr.end)],
+                GREY.mix(if sparse { 0.55 } else { 0.8 }).stroke_width(1),
+            ))
+            .map_err(err)?;
+        }
+        for rule in &spec.rules {
+            let y = chart.backend_coord(&(0.0, rule.y)).1;
+            if y < yr.start || y > yr.end {
+                continue;
+            }
+            root.draw(&DashedPathElement::new(
+                vec![(xr.start, y), (xr.end, y)],
+                7,
+                4,
+                INK.stroke_width(2),
+            ))
+            .map_err(err)?;
+            root.draw(&Text::new(
+                rule.label.clone(),
+                (xr.end - 4, y - 3),
+                font(11.0).pos(Pos::new(HPos::Right, VPos::Bottom)),
+            ))
+            .map_err(err)?;
+        }
+        let mut labels: Vec<(i32, i32)> = Vec::new();
+        for line in &spec.lines {
+            for run in &line.runs {
+                chart
+                    .draw_series(LineSeries::new(
+                        run.iter().copied(),
+                        line.colour.stroke_width(line.width),
+                    ))
+                    .map_err(err)?;
+            }
+            let peak = line
+                .runs
+                .iter()
+                .flatten()
+                .copied()
+                .max_by(|a, b| a.1.total_cmp(&b.1));
+            if let (Some(label), Some(p)) = (&line.label, peak) {
+                let (x, y) = chart.backend_coord(&p);
+                let y = (y - 6).max(yr.start + 10);
+                if labels
+                    .iter()
+                    .all(|&(lx, ly)| (lx - x).abs() > 28 || (ly - y).abs() > 14)
+                {
+                    labels.push((x, y));
+                    // Near the right edge the label goes left of the peak, inside the plot.
+                    let (anchor, lx) = if x > xr.end - 30 {
+                        (HPos::Right, x - 4)
+                    } else {
+                        (HPos::Left, x + 4)
+                    };
+                    root.draw(&Text::new(
+                        label.clone(),
+                        (lx, y),
+                        bold(12.0)
+                            .color(&line.colour)
+                            .pos(Pos::new(anchor, VPos::Bottom)),
+                    ))
+                    .map_err(err)?;
+                }
+            }
+        }
+        if spec.waypoint_names {
+            let mut next_free = i32::MIN;
+            for (s, name) in spec.waypoints {
+                let x = xpx(*s);
+                let text: String = name.chars().take(18).collect();
+                // About 6 px per character at this size.
+                let width = 6 * text.chars().count() as i32;
+                let right = x > xr.end - 80;
+                let (anchor, tx, left_edge) = if right {
+                    (HPos::Right, x - 3, x - 3 - width)
+                } else {
+                    (HPos::Left, x + 3, x)
+                };
+                if left_edge < next_free {
+                    continue;
+                }
+                root.draw(&Text::new(
+                    text.clone(),
+                    (tx, yr.end - 3),
+                    font(10.0)
+                        .color(&RGBColor(0x44, 0x44, 0x44))
+                        .pos(Pos::new(anchor, VPos::Bottom)),
+                ))
+                .map_err(err)?;
+                next_free = left_edge.max(tx) + width + 12;
+            }
+        }
+        let xs: Vec<i32> = spec.marks.iter().map(|m| xpx(m.s[0])).collect();
+        let rows = stagger(&xs, 30, 4);
+        for ((m, &x), &row) in spec.marks.iter().zip(&xs).zip(&rows) {
+            let y = yr.start + 11 + 19 * row as i32;
+            draw_marker(&root, x, y, m.number, m.error)?;
+            pins.push(Pin {
+                number: m.number,
+                x: x as f64 / w as f64,
+                y: y as f64 / h as f64,
+                id: m.id.clone(),
+                title: m.title.clone(),
+            });
+        }
+        root.present().map_err(err)?;
+    }
+    Ok(Figure { svg, pins })
+}
+
+/// A finding drawn on a path view: its stretch (view coordinates, mm) and marker.
+pub struct ViewMark {
+    pub number: usize,
+    pub error: bool,
+    pub stretch: Vec<(f64, f64)>,
+    pub id: Option<String>,
+    pub title: String,
+}
+
+/// A top or side view of the TCP path (mm, equal scales on both axes).
+pub struct View<'a> {
+    pub size: (u32, u32),
+    pub x_desc: &'a str,
+    pub y_desc: &'a str,
+    pub path: Vec<(f64, f64)>,
+    /// Waypoints (x, y, name).
+    pub waypoints: Vec<(f64, f64, String)>,
+    pub marks: Vec<ViewMark>,
+}
+
+const VIEW_LEFT: u32 = 62;
+/// Views name every waypoint up to this many.
+const NAMED_WAYPOINTS: usize = 30;
+const VIEW_BOTTOM: u32 = 40;
+const VIEW_MARGIN: u32 = 12;
+
+/// Ranges for the view such that one mm is the same number of pixels on both axes.
+fn equal_ranges(path: &[(f64, f64)], size: (u32, u32)) -> ([f64; 2], [f64; 2]) {
+    let (mut x0, mut x1, mut y0, mut y1) = (f64::MAX, f64::MIN, f64::MAX, f64::MIN);
+    for &(x, y) in path {
+        x0 = x0.min(x);
+        x1 = x1.max(x);
+        y0 = y0.min(y);
+        y1 = y1.max(y);
+    }
+    if x0 > x1 {
+        return ([-1.0, 1.0], [-1.0, 1.0]);
+    }
+    let pw = (size.0 - VIEW_LEFT - 2 * VIEW_MARGIN) as f64;
+    let ph = (size.1 - VIEW_BOTTOM - 2 * VIEW_MARGIN) as f64;
+    // 10 mm at least: a path that is one point still gets a readable scale.
+    let span = ((x1 - x0) / pw).max((y1 - y0) / ph).max(10.0 / pw.min(ph)) * 1.12;
+    let (cx, cy) = (0.5 * (x0 + x1), 0.5 * (y0 + y1));
+    (
+        [cx - 0.5 * span * pw, cx + 0.5 * span * pw],
+        [cy - 0.5 * span * ph, cy + 0.5 * span * ph],
+    )
+}
+
+/// Draw a view of the TCP path.
+pub fn view(spec: &View) -> Result<Figure, String> {
+    let mut svg = String::new();
+    let (w, h) = spec.size;
+    let mut pins = Vec::new();
+    {
+        let root = SVGBackend::with_string(&mut svg, spec.size).into_drawing_area();
+        root.fill(&WHITE).map_err(err)?;
+        let (xr, yr) = equal_ranges(&spec.path, spec.size);
+        let mut chart = ChartBuilder::on(&root)
+            .margin(VIEW_MARGIN)
+            .x_label_area_size(VIEW_BOTTOM)
+            .y_label_area_size(VIEW_LEFT)
+            .build_cartesian_2d(xr[0]..xr[1], yr[0]..yr[1])
+            .map_err(err)?;
+        chart
+            .configure_mesh()
+            .light_line_style(TRANSPARENT)
+            .bold_line_style(GRID.stroke_width(1))
+            .axis_style(INK.stroke_width(1))
+            .x_labels(6)
+            .y_labels(8)
+            .label_style(font(11.0))
+            .axis_desc_style(font(11.0))
+            .x_desc(spec.x_desc)
+            .y_desc(spec.y_desc)
+            .x_label_formatter(&|v| format!("{v:.0}"))
+            .y_label_formatter(&|v| format!("{v:.0}"))
+            .draw()
+            .map_err(err)?;
+        for m in &spec.marks {
+            if m.stretch.len() > 1 {
+                chart
+                    .draw_series(LineSeries::new(
+                        m.stretch.iter().copied(),
+                        error_colour(m.error).mix(0.5).stroke_width(9),
+                    ))
+                    .map_err(err)?;
+            }
+        }
+        chart
+            .draw_series(LineSeries::new(
+                spec.path.iter().copied(),
+                INK.stroke_width(1),
+            ))
+            .map_err(err)?;
+        // Names of all waypoints while there are few; of the first and last otherwise (a
+        // raster's line ends would bury the view in labels).
+        let name_all = spec.waypoints.len() <= NAMED_WAYPOINTS;
+        let last = spec.waypoints.len().saturating_sub(1);
+        let mut placed: Vec<(i32, i32)> = Vec::new();
+        for (i, (x, y, name)) in spec.waypoints.iter().enumerate() {
+            let (px_, py) = chart.backend_coord(&(*x, *y));
+            if i == 0 {
+                root.draw(&Rectangle::new(
+                    [(px_ - 4, py - 4), (px_ + 4, py + 4)],
+                    INK.filled(),
+                ))
+                .map_err(err)?;
+            } else {
+                root.draw(&Circle::new((px_, py), 3, INK.filled()))
+                    .map_err(err)?;
+            }
+            if (name_all || i == 0 || i == last)
+                && placed
+                    .iter()
+                    .all(|&(a, b)| (a - px_).abs() > 70 || (b - py).abs() > 14)
+            {
+                placed.push((px_, py));
+                let text: String = name.chars().take(24).collect();
+                let (anchor, dx) = if px_ > (w as i32) - 140 {
+                    (HPos::Right, -7)
+                } else {
+                    (HPos::Left, 7)
+                };
+                root.draw(&Text::new(
+                    text,
+                    (px_ + dx, py + 10),
+                    font(11.0).pos(Pos::new(anchor, VPos::Center)),
+                ))
+                .map_err(err)?;
+            }
+        }
+        // Markers sit beside the path with a leader line to where the finding starts, moved
+        // down until they clear the markers already placed.
+        let mut used: Vec<(i32, i32)> = Vec::new();
+        for m in &spec.marks {
+            let Some(&first) = m.stretch.first() else {
+                continue;
+            };
+            let (ax, ay) = chart.backend_coord(&first);
+            let dx = if ax > w as i32 - 60 { -30 } else { 22 };
+            let (mut x, mut y) = (ax + dx, ay - 10);
+            while used
+                .iter()
+                .any(|&(a, b)| (a - x).abs() < 30 && (b - y).abs() < 18)
+            {
+                y += 19;
+            }
+            used.push((x, y));
+            x = x.clamp(10, w as i32 - 24);
+            y = y.clamp(10, h as i32 - 10);
+            root.draw(&PathElement::new(
+                vec![(ax, ay), (x - dx.signum() * 8, y)],
+                INK.stroke_width(1),
+            ))
+            .map_err(err)?;
+            draw_marker(&root, x, y, m.number, m.error)?;
+            pins.push(Pin {
+                number: m.number,
+                x: x as f64 / w as f64,
+                y: y as f64 / h as f64,
+                id: m.id.clone(),
+                title: m.title.clone(),
+            });
+        }
+        root.present().map_err(err)?;
+    }
+    Ok(Figure { svg, pins })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn markers_closer_than_the_gap_go_to_other_rows() {
+        // source: common practice (staggered labels instead of overlapping ones)
+        assert_eq!(stagger(&[0, 10, 100, 105, 110], 30, 4), vec![0, 1, 0, 1, 2]);
+        // More close markers than rows: reuse the row used longest ago.
+        assert_eq!(stagger(&[0, 1, 2], 30, 2), vec![0, 1, 0]);
+    }
+
+    #[test]
+    fn views_keep_one_scale_on_both_axes() {
+        // source: common practice (a plan view is only readable at equal scales)
+        let size = (600, 400);
+        let (x, y) = equal_ranges(&[(0.0, 0.0), (300.0, 20.0)], size);
+        let pw = (size.0 - VIEW_LEFT - 2 * VIEW_MARGIN) as f64;
+        let ph = (size.1 - VIEW_BOTTOM - 2 * VIEW_MARGIN) as f64;
+        let sx = (x[1] - x[0]) / pw;
+        let sy = (y[1] - y[0]) / ph;
+        assert!((sx - sy).abs() < 1e-12, "{sx} vs {sy}");
+        assert!(x[0] < 0.0 && x[1] > 300.0 && y[0] < 0.0 && y[1] > 20.0);
+    }
+
+    #[test]
+    fn plot_text_is_escaped() {
+        // source: SVG/XML escaping of character data (W3C XML 1.0 §2.4)
+        let wp = [(0.0, "a<b&\"c\"".to_string())];
+        let fig = s_plot(&SPlot {
+            size: (400, 200),
+            y_desc: "x <y>".into(),
+            length: 10.0,
+            y: [0.0, 1.0],
+            log_y: false,
+            lines: vec![],
+            rules: vec![],
+            bands: vec![],
+            gaps: &[],
+            waypoints: &wp,
+            waypoint_names: true,
+            marks: vec![],
+        })
+        .unwrap();
+        assert!(fig.svg.contains("a&lt;b&amp;&quot;c&quot;"), "{}", fig.svg);
+        assert!(!fig.svg.contains("<b&"));
+        assert!(fig.svg.contains("x &lt;y&gt;"));
+    }
+}
