@@ -1,13 +1,20 @@
 //! The check, end to end: job + robot → plan → walk (IK per sample) → assessment → report.
 
 use crate::assess::{Assessor, Thresholds};
+use crate::assess::{Finding, Kind, Quantity, Severity};
+use crate::configs::{feasibility, ConfigRow};
 use crate::error::{Error, Result};
+use crate::ik::analytic::{Config, Elbow, OrthoParallel, Shoulder, Wrist};
 use crate::ik::IkOptions;
+use crate::job::ConfigRequest;
 use crate::job::Job;
 use crate::plan::{plan, DEFAULT_MAX_SAMPLES};
 use crate::report::{Report, ReportInputs};
 use crate::robot::{Robot, SingularityModel};
-use crate::solve::{choose_start, SampleRecord, SampleSink, Walker};
+use crate::solve::{
+    best_in_config, choose_start, configuration_score, SampleRecord, SampleSink, StartChoice,
+    Walker,
+};
 
 /// Settings of a check beyond the job.
 #[derive(Debug, Clone, Copy)]
@@ -16,6 +23,9 @@ pub struct CheckOptions {
     pub thresholds: Thresholds,
     /// Refuse plans with more samples than this.
     pub max_samples: u64,
+    /// Use the numerical solver even when the arm has a closed-form one (to compare, or to
+    /// follow the motion through an exact wrist singularity by continuity).
+    pub numeric_only: bool,
 }
 
 impl Default for CheckOptions {
@@ -24,6 +34,7 @@ impl Default for CheckOptions {
             ik: IkOptions::default(),
             thresholds: Thresholds::default(),
             max_samples: DEFAULT_MAX_SAMPLES,
+            numeric_only: false,
         }
     }
 }
@@ -34,6 +45,11 @@ struct Fanout<'s, 'a> {
 }
 
 impl SampleSink for Fanout<'_, '_> {
+    fn begin(&mut self, robot: &Robot, estimated_samples: u64) {
+        for s in self.sinks.iter_mut() {
+            s.begin(robot, estimated_samples);
+        }
+    }
     fn sample(&mut self, robot: &Robot, rec: &SampleRecord) {
         for s in self.sinks.iter_mut() {
             s.sample(robot, rec);
@@ -78,14 +94,43 @@ pub fn check(
     }
     let plan = plan(job, options.max_samples)?;
     let model = SingularityModel::new(&robot);
-    let start = choose_start(
-        &robot,
-        &model,
-        &plan.waypoints_base[0],
-        start_si.as_deref(),
-        options.ik,
-    );
-    let walker = Walker::new(&robot, job, &plan, options.ik);
+    let first = plan.waypoints_base[0];
+    let closed = if options.numeric_only {
+        Err("the numerical solver was asked for (--ik numeric)".to_string())
+    } else {
+        OrthoParallel::from_robot(&robot)
+    };
+    let mut notes: Vec<Finding> = Vec::new();
+    let (start, table) = match &closed {
+        Ok(solver) => {
+            let table = feasibility(&robot, job, &plan, solver, options.ik);
+            let start = choose_closed_start(
+                &robot,
+                &model,
+                solver,
+                &first,
+                start_si.as_deref(),
+                &job.config,
+                &table,
+            );
+            (start, Some(table))
+        }
+        Err(reason) => {
+            if job.config != ConfigRequest::default() {
+                notes.push(note(format!(
+                    "config: ignored, the arm has no closed-form solver ({reason}); the first pose's configuration comes from start_joints or the search"
+                )));
+            }
+            (
+                choose_start(&robot, &model, &first, start_si.as_deref(), options.ik),
+                None,
+            )
+        }
+    };
+    let mut walker = Walker::new(&robot, job, &plan, options.ik);
+    if let (Ok(solver), Some(_)) = (&closed, start.config) {
+        walker = walker.with_closed_form(solver);
+    }
     let mut assessor = Assessor::new(job, &plan, options.thresholds);
     let totals = {
         let mut all: Vec<&mut dyn SampleSink> = Vec::with_capacity(sinks.len() + 1);
@@ -96,8 +141,12 @@ pub fn check(
         let mut fan = Fanout { sinks: &mut all };
         walker.walk(&start, &mut fan)
     };
-    let (findings, extremes) = assessor.finish(&robot);
-    Ok(Report::build(ReportInputs {
+    let (mut findings, extremes) = assessor.finish(&robot);
+    findings.splice(0..0, notes);
+    if let Some(table) = &table {
+        suggest_configurations(&mut findings, table, start.config);
+    }
+    let mut report = Report::build(ReportInputs {
         robot: &robot,
         job,
         plan: &plan,
@@ -106,5 +155,144 @@ pub fn check(
         findings: &findings,
         extremes,
         singularity_threshold: options.thresholds.singularity,
-    }))
+    });
+    report.path.start.config = start.config.map(|c| c.to_string());
+    report.configurations = table;
+    Ok(report)
+}
+
+/// An `input` note not tied to a segment.
+fn note(message: String) -> Finding {
+    Finding {
+        kind: Kind::Input,
+        segment: None,
+        from: None,
+        to: None,
+        samples: None,
+        s: None,
+        t: None,
+        joint: None,
+        value: None,
+        limit: None,
+        quantity: Quantity::Number,
+        deltas: None,
+        worst_sample: None,
+        message,
+    }
+}
+
+/// Does `c` satisfy the path file's `config:` request?
+fn matches(request: &ConfigRequest, c: Config) -> bool {
+    request
+        .shoulder_front
+        .is_none_or(|f| f == (c.shoulder == Shoulder::Front))
+        && request.elbow_up.is_none_or(|u| u == (c.elbow == Elbow::Up))
+        && request
+            .wrist_flip
+            .is_none_or(|f| f == (c.wrist == Wrist::Flip))
+}
+
+/// The first pose with the closed-form solver: from `start_joints` (its configuration,
+/// windings nearest the given joints); else among the configurations matching the `config:`
+/// request, those that run the whole path first, then the best-scoring start
+/// ([`configuration_score`]: margin to limits and singularities).
+fn choose_closed_start(
+    robot: &Robot,
+    model: &SingularityModel,
+    solver: &OrthoParallel,
+    target: &nalgebra::Isometry3<f64>,
+    start_joints: Option<&[f64]>,
+    request: &ConfigRequest,
+    table: &[ConfigRow],
+) -> StartChoice {
+    if let Some(q) = start_joints {
+        let config = solver.config_of(q);
+        let sol = config.and_then(|c| solver.solve_near(target, q, c));
+        return match (config, sol) {
+            (Some(c), Some(sol)) => StartChoice {
+                method: "start_joints",
+                joints: sol.to_vec(),
+                alternatives: 0,
+                config: Some(c),
+            },
+            _ => StartChoice {
+                method: "unreachable",
+                joints: q.to_vec(),
+                alternatives: 0,
+                config,
+            },
+        };
+    }
+    let mut best: Option<(bool, f64, Config, [f64; 6])> = None;
+    let mut alternatives = 0;
+    for row in table {
+        let Some(c) = row.parsed else { continue };
+        if !matches(request, c) {
+            continue;
+        }
+        let Some(q) = best_in_config(robot, model, solver, target, c) else {
+            continue;
+        };
+        alternatives += 1;
+        let key = (row.runs, configuration_score(robot, model, &q));
+        if best.is_none_or(|b| (key.0, key.1) > (b.0, b.1)) {
+            best = Some((key.0, key.1, c, q));
+        }
+    }
+    match best {
+        Some((_, _, c, q)) => StartChoice {
+            method: "search",
+            joints: q.to_vec(),
+            alternatives,
+            config: Some(c),
+        },
+        None => StartChoice {
+            method: "unreachable",
+            joints: robot
+                .joints()
+                .iter()
+                .map(|j| {
+                    if j.lower.is_finite() {
+                        0.5 * (j.lower + j.upper)
+                    } else {
+                        0.0
+                    }
+                })
+                .collect(),
+            alternatives: 0,
+            config: None,
+        },
+    }
+}
+
+/// Add to every stopping error (unreachable, joint limit, jump) which configurations would
+/// run the whole path, or that none does.
+fn suggest_configurations(findings: &mut [Finding], table: &[ConfigRow], used: Option<Config>) {
+    let runs: Vec<&str> = table
+        .iter()
+        .filter(|r| r.runs)
+        .map(|r| r.config.as_str())
+        .collect();
+    let used_runs = used.is_some_and(|u| table.iter().any(|r| r.runs && r.parsed == Some(u)));
+    if used_runs {
+        return;
+    }
+    let hint = if runs.is_empty() {
+        " — no arm configuration runs the whole path: change the path, the tool or the placement"
+            .to_string()
+    } else {
+        format!(
+            " — the whole path runs in configuration {}: start there (config: or start_joints)",
+            runs.join(", ")
+        )
+    };
+    for f in findings.iter_mut().filter(|f| {
+        f.severity() == Severity::Error
+            && matches!(
+                f.kind,
+                Kind::Unreachable | Kind::JointLimit | Kind::JointJump
+            )
+    }) {
+        f.message.push_str(&hint);
+    }
 }

@@ -11,6 +11,7 @@
 
 pub mod assess;
 pub mod check;
+pub mod configs;
 pub mod error;
 pub mod ik;
 pub mod job;

@@ -3,11 +3,12 @@
 
 use armpath::check::{check, CheckOptions};
 use armpath::error::{Error, Result};
+use armpath::ik::analytic::OrthoParallel;
 use armpath::ik::{IkOptions, NumericIk};
 use armpath::job::{self, Overrides};
 use armpath::output;
 use armpath::report::html::HtmlReport;
-use armpath::report::kinematics::{IkReport, IkSolutionReport, PoseReport, RobotInfo};
+use armpath::report::kinematics::{ClosedForm, IkReport, IkSolutionReport, PoseReport, RobotInfo};
 use armpath::report::{render_text, JointsCsv, Style};
 use armpath::robot::{load_urdf, Robot};
 use armpath::solve::SampleSink;
@@ -29,7 +30,7 @@ struct Cli {
 #[derive(Subcommand, Debug)]
 enum Command {
     /// Check a tool path (YAML path file, or CSV waypoints with --robot and --speed).
-    Check(CheckArgs),
+    Check(Box<CheckArgs>),
     /// Show a robot: joints, ranges, speeds, reach and wrist type.
     Robot(RobotArgs),
     /// Forward kinematics: the TCP pose for given joints.
@@ -90,6 +91,10 @@ struct IkArgs {
     /// Seed joints are in radians (m for prismatic joints).
     #[arg(long)]
     rad: bool,
+    /// List every solution inside the joint ranges with its arm configuration and winding
+    /// (closed-form solver; arms with an ortho-parallel base and a spherical wrist).
+    #[arg(long)]
+    all: bool,
     /// Also write the result as JSON to FILE ('-' for standard output).
     #[arg(long, value_name = "FILE")]
     json: Option<PathBuf>,
@@ -132,15 +137,18 @@ struct CheckArgs {
     /// Largest orientation step between samples, angle unit.
     #[arg(long, value_name = "A", allow_negative_numbers = true)]
     angle_step: Option<f64>,
-    /// Length unit of the values given on the command line (and of a CSV file): mm or m.
-    #[arg(long, value_name = "UNIT")]
-    length_unit: Option<String>,
-    /// Angle unit of the values given on the command line (and of a CSV file): deg or rad.
-    #[arg(long, value_name = "UNIT")]
-    angle_unit: Option<String>,
+    /// Units of the values given on the command line (and of a CSV file loaded directly):
+    /// "LENGTH,ANGLE" with LENGTH mm or m and ANGLE deg or rad (default mm,deg). A path file's
+    /// own values keep the file's `units:`.
+    #[arg(long, value_name = "LENGTH,ANGLE")]
+    units: Option<String>,
     /// Singularity measure below which a warning is raised (dimensionless, default 0.01).
     #[arg(long, value_name = "X", allow_negative_numbers = true)]
     singularity_threshold: Option<f64>,
+    /// Inverse kinematics along the path: `auto` (the closed form for arms that have one,
+    /// with the configuration table; else numerical) or `numeric`.
+    #[arg(long, value_name = "MODE", default_value = "auto", value_parser = ["auto", "numeric"])]
+    ik: String,
     /// Refuse paths that would need more samples than N (default 100000000).
     #[arg(long, value_name = "N", allow_negative_numbers = true)]
     max_samples: Option<u64>,
@@ -180,7 +188,7 @@ fn main() -> ExitCode {
         }
     };
     let result = match cli.command {
-        Command::Check(a) => run_check(a),
+        Command::Check(a) => run_check(*a),
         Command::Robot(a) => run_robot(a),
         Command::Fk(a) => run_fk(a),
         Command::Ik(a) => run_ik(a),
@@ -334,7 +342,19 @@ fn is_stdout(p: &Option<PathBuf>) -> bool {
 fn run_robot(a: RobotArgs) -> Result<u8> {
     check_output("--json", &a.json)?;
     let robot = load_urdf(&a.robot, a.tip.as_deref())?;
-    let info = RobotInfo::new(&robot);
+    let mut info = RobotInfo::new(&robot);
+    info.closed_form = Some(match OrthoParallel::from_robot(&robot) {
+        Ok(solver) => ClosedForm {
+            family: Some("ortho-parallel base with spherical wrist"),
+            parameters: Some(solver.parameters()),
+            reason: None,
+        },
+        Err(reason) => ClosedForm {
+            family: None,
+            parameters: None,
+            reason: Some(reason),
+        },
+    });
     if !is_stdout(&a.json) {
         print!("{}", info.render_text());
     }
@@ -389,6 +409,45 @@ fn run_ik(a: IkArgs) -> Result<u8> {
         Translation3::from(Vector3::new(p[0], p[1], p[2]) * 1e-3),
         rot,
     );
+    if a.all {
+        let solver = OrthoParallel::from_robot(&robot).map_err(|reason| {
+            Error::usage(
+                "--all",
+                format!("needs the closed-form solver, which this arm has not: {reason}"),
+            )
+        })?;
+        let solutions = solver.solve(&target);
+        let report = IkReport {
+            solutions: solutions
+                .iter()
+                .map(|s| {
+                    let mut r = IkSolutionReport::new(&robot, &s.joints, &target);
+                    r.config = Some(s.config.to_string());
+                    r.winding = Some(s.winding.iter().map(|&w| w as i32).collect());
+                    let sp = &s.special;
+                    for (on, name) in [
+                        (sp.wrist_singular, "wrist singular"),
+                        (sp.elbow_stretched, "elbow stretched"),
+                        (sp.elbow_folded, "elbow folded"),
+                        (sp.wrist_centre_on_axis1, "wrist centre on axis 1"),
+                    ] {
+                        if on {
+                            r.flags.push(name.to_string());
+                        }
+                    }
+                    r
+                })
+                .collect(),
+            solver: "closed_form",
+        };
+        if !is_stdout(&a.json) {
+            print!("{}", report.render_text(&robot));
+        }
+        if let Some(p) = &a.json {
+            write_json(p, &report)?;
+        }
+        return Ok(if report.solutions.is_empty() { 1 } else { 0 });
+    }
     let ik = NumericIk::new(&robot, IkOptions::default());
     let n = robot.dof();
     let mut q = vec![0.0; n];
@@ -429,15 +488,78 @@ fn run_ik(a: IkArgs) -> Result<u8> {
     Ok(if outcome.converged { 0 } else { 1 })
 }
 
+/// `--units mm,deg` → (length, angle); either part may be left out (`--units m`).
+fn split_units(text: Option<&str>) -> Result<(Option<String>, Option<String>)> {
+    let (mut length, mut angle) = (None, None);
+    for part in text
+        .unwrap_or("")
+        .split(',')
+        .map(str::trim)
+        .filter(|p| !p.is_empty())
+    {
+        match part {
+            "mm" | "m" => length = Some(part.to_string()),
+            "deg" | "rad" => angle = Some(part.to_string()),
+            other => {
+                return Err(Error::usage(
+                    "--units",
+                    format!("'{other}' is not a unit: give LENGTH,ANGLE with LENGTH mm or m and ANGLE deg or rad"),
+                ))
+            }
+        }
+    }
+    Ok((length, angle))
+}
+
+/// Progress on a terminal for long checks. Updated every 4,096 samples so that the bar's
+/// internal lock stays out of the per-sample loop; hidden for short paths.
+struct Progress {
+    bar: Option<indicatif::ProgressBar>,
+    count: u64,
+}
+
+impl Progress {
+    /// Paths below this many samples finish in well under a second: no bar.
+    const MIN_SAMPLES: u64 = 200_000;
+    const EVERY: u64 = 4096;
+}
+
+impl SampleSink for Progress {
+    fn begin(&mut self, _robot: &Robot, estimated_samples: u64) {
+        if estimated_samples >= Self::MIN_SAMPLES {
+            let bar = indicatif::ProgressBar::new(estimated_samples);
+            bar.set_style(
+                indicatif::ProgressStyle::with_template(
+                    "checking {bar:32} {pos}/{len} samples · {elapsed} elapsed, ~{eta} left",
+                )
+                .unwrap_or_else(|_| indicatif::ProgressStyle::default_bar()),
+            );
+            self.bar = Some(bar);
+        }
+    }
+    fn sample(&mut self, _robot: &Robot, _rec: &armpath::solve::SampleRecord) {
+        self.count += 1;
+        if self.count.is_multiple_of(Self::EVERY) {
+            if let Some(b) = &self.bar {
+                if self.count > b.length().unwrap_or(0) {
+                    b.set_length(self.count);
+                }
+                b.set_position(self.count);
+            }
+        }
+    }
+}
+
 fn run_check(a: CheckArgs) -> Result<u8> {
     check_output("--json", &a.json)?;
     check_output("--joints", &a.joints)?;
     check_output("--html", &a.html)?;
+    let (units_length, units_angle) = split_units(a.units.as_deref())?;
     let overrides = Overrides {
         robot: a.robot.clone(),
         tip: a.tip.clone(),
-        units_length: a.length_unit.clone(),
-        units_angle: a.angle_unit.clone(),
+        units_length,
+        units_angle,
         speed: a.speed,
         orientation_speed: a.orientation_speed,
         tool: six("--tool", &a.tool)?,
@@ -467,6 +589,7 @@ fn run_check(a: CheckArgs) -> Result<u8> {
     if let Some(n) = a.max_samples {
         options.max_samples = n;
     }
+    options.numeric_only = a.ik == "numeric";
     // Open outputs before the walk so that a bad output path fails early.
     let mut csv = a.joints.as_deref().map(JointsCsv::create).transpose()?;
     let mut html = a
@@ -474,6 +597,12 @@ fn run_check(a: CheckArgs) -> Result<u8> {
         .as_deref()
         .map(|p| HtmlReport::create(p, &job))
         .transpose()?;
+    // Progress goes to standard error, only on a terminal, never with JSON on stdout.
+    let show_progress = !a.quiet && std::io::stderr().is_terminal() && !is_stdout(&a.json);
+    let mut progress = Progress {
+        bar: None,
+        count: 0,
+    };
     let report = {
         let mut sinks: Vec<&mut dyn SampleSink> = Vec::new();
         if let Some(c) = csv.as_mut() {
@@ -482,8 +611,14 @@ fn run_check(a: CheckArgs) -> Result<u8> {
         if let Some(h) = html.as_mut() {
             sinks.push(h);
         }
+        if show_progress {
+            sinks.push(&mut progress);
+        }
         check(&job, &robot, &options, &mut sinks)?
     };
+    if let Some(b) = progress.bar.take() {
+        b.finish_and_clear();
+    }
     if let Some(c) = csv.take() {
         c.finish()?;
     }

@@ -11,6 +11,7 @@
 //! continues there and the change is reported as a jump) from one that is not reachable at
 //! all (`unreachable`, and the walk continues from the last reached joints).
 
+use crate::ik::analytic::{Config, OrthoParallel};
 use crate::ik::{IkOptions, NumericIk, WarmStart};
 use crate::job::{Job, Motion};
 use crate::plan::{Plan, Segment};
@@ -46,6 +47,9 @@ pub enum Reach {
 pub struct Jump {
     /// Joint change across the jump (rad or m), per joint.
     pub delta: [f64; MAX_DOF],
+    /// With the closed-form solver: the arm configuration ended here and the walk went on in
+    /// another one, (from, to).
+    pub config_change: Option<(Config, Config)>,
 }
 
 /// One solved sample, as the sinks see it. All SI.
@@ -86,6 +90,9 @@ pub struct SampleRecord {
 
 /// Receives every solved sample in path order.
 pub trait SampleSink {
+    /// Called once before the first sample with the plan's estimate of the sample count
+    /// (exact for linear segments, a lower bound for joint segments).
+    fn begin(&mut self, _robot: &Robot, _estimated_samples: u64) {}
     fn sample(&mut self, robot: &Robot, rec: &SampleRecord);
 }
 
@@ -98,6 +105,9 @@ pub struct StartChoice {
     pub joints: Vec<f64>,
     /// Distinct in-range solutions the search found for the first pose (0 when given).
     pub alternatives: usize,
+    /// The arm configuration followed, when the closed-form solver is used.
+    #[serde(skip)]
+    pub config: Option<Config>,
 }
 
 /// Totals of a walk.
@@ -153,6 +163,7 @@ pub fn choose_start(
                 seed.to_vec()
             },
             alternatives: 0,
+            config: None,
         };
     }
     let mut rng = crate::rng::SplitMix64::new(0x57a7_7001);
@@ -191,6 +202,7 @@ pub fn choose_start(
             method: "search",
             joints: best,
             alternatives: found.len(),
+            config: None,
         },
         None => StartChoice {
             method: "unreachable",
@@ -206,8 +218,28 @@ pub fn choose_start(
                 })
                 .collect(),
             alternatives: 0,
+            config: None,
         },
     }
+}
+
+/// The best-scoring in-range solution of configuration `config` at `target` (all in-range
+/// windings considered), or `None` when that configuration cannot reach the pose within the
+/// joint ranges.
+pub fn best_in_config(
+    robot: &Robot,
+    model: &SingularityModel,
+    solver: &OrthoParallel,
+    target: &Isometry3<f64>,
+    config: Config,
+) -> Option<[f64; 6]> {
+    solver
+        .solve(target)
+        .iter()
+        .filter(|s| s.config == config)
+        .map(|s| (configuration_score(robot, model, &s.joints), s.joints))
+        .max_by(|a, b| a.0.total_cmp(&b.0))
+        .map(|(_, q)| q)
 }
 
 /// Walks a plan and feeds the sinks.
@@ -218,6 +250,10 @@ pub struct Walker<'a> {
     model: SingularityModel,
     tracker: NumericIk<'a>,
     limited: NumericIk<'a>,
+    closed: Option<&'a OrthoParallel>,
+    /// Skip the per-sample singularity measure (feasibility walks need only reach, limits
+    /// and jumps).
+    light: bool,
 }
 
 impl<'a> Walker<'a> {
@@ -229,7 +265,22 @@ impl<'a> Walker<'a> {
             model: SingularityModel::new(robot),
             tracker: NumericIk::unlimited(robot, options),
             limited: NumericIk::new(robot, options),
+            closed: None,
+            light: false,
         }
+    }
+
+    /// Follow the path with the closed-form solver, on the branch of the start's
+    /// configuration (see [`StartChoice::config`]).
+    pub fn with_closed_form(mut self, solver: &'a OrthoParallel) -> Self {
+        self.closed = Some(solver);
+        self
+    }
+
+    /// Skip the singularity measure (for quick feasibility walks).
+    pub fn light(mut self) -> Self {
+        self.light = true;
+        self
     }
 
     pub fn model(&self) -> &SingularityModel {
@@ -242,6 +293,7 @@ impl<'a> Walker<'a> {
         let mut state = State {
             prev: None,
             warm: WarmStart::new(),
+            config: start.config,
             index: 0,
             s: 0.0,
             t: 0.0,
@@ -249,6 +301,7 @@ impl<'a> Walker<'a> {
         };
         state.last_good[..n].copy_from_slice(&start.joints);
         state.warm.reset(&start.joints);
+        sink.begin(self.robot, self.plan.estimated_samples);
         // The first sample: waypoint 0.
         let first_target = self.plan.waypoints_base[0];
         let reach = if start.method == "unreachable" {
@@ -274,6 +327,7 @@ impl<'a> Walker<'a> {
                 dt: 0.0,
                 ds: 0.0,
                 check_jump: false,
+                config_change: None,
             },
         );
         for seg in &self.plan.segments {
@@ -290,7 +344,6 @@ impl<'a> Walker<'a> {
     }
 
     fn walk_linear(&self, seg: &Segment, state: &mut State, sink: &mut dyn SampleSink) {
-        let n = self.robot.dof();
         let steps = seg.steps;
         if steps == 0 {
             // A repeated waypoint: the previous sample already stands there.
@@ -301,26 +354,7 @@ impl<'a> Walker<'a> {
         for i in 1..=steps {
             let u = i as f64 / steps as f64;
             let target = seg.pose_at(u);
-            let mut q = [0.0; MAX_DOF];
-            let out = self
-                .tracker
-                .solve_warm(&target, &mut state.warm, &mut q[..n]);
-            let mut reach = Reach::Reached;
-            let (mut pe, mut oe) = (out.position_error, out.orientation_error);
-            if !out.converged {
-                let alt = self.limited.solve_with_restarts(
-                    &target,
-                    &state.last_good[..n],
-                    RESTARTS,
-                    &mut q[..n],
-                );
-                pe = alt.position_error;
-                oe = alt.orientation_error;
-                if !alt.converged {
-                    reach = Reach::Unreachable;
-                    q = state.last_good;
-                }
-            }
+            let (q, reach, pe, oe, change) = self.solve_sample(&target, state);
             self.emit(
                 state,
                 sink,
@@ -336,8 +370,93 @@ impl<'a> Walker<'a> {
                     dt,
                     ds,
                     check_jump: true,
+                    config_change: change,
                 },
             );
+        }
+    }
+
+    /// Joints for one linear-segment sample: (joints, reach, residuals, configuration change).
+    #[allow(clippy::type_complexity)]
+    fn solve_sample(
+        &self,
+        target: &Isometry3<f64>,
+        state: &mut State,
+    ) -> ([f64; MAX_DOF], Reach, f64, f64, Option<(Config, Config)>) {
+        let n = self.robot.dof();
+        let mut q = [0.0; MAX_DOF];
+        if let (Some(solver), Some(config)) = (self.closed, state.config) {
+            // Stay on the configuration's branch, windings nearest the previous joints.
+            if let Some(sol) = solver.solve_near(target, &state.last_good[..n], config) {
+                q[..6].copy_from_slice(&sol);
+                let (pe, oe) = residual(self.robot, &q[..n], target);
+                return (q, Reach::Reached, pe, oe, None);
+            }
+            // The branch ends here (reach boundary of this configuration). Go on in the
+            // configuration whose solution is nearest, if any reaches the pose.
+            let next = solver
+                .solve_all(target)
+                .iter()
+                .map(|s| {
+                    let d = (0..6).fold(0.0f64, |m, k| {
+                        m.max((s.joints[k] - state.last_good[k]).abs())
+                    });
+                    (d, s.config)
+                })
+                .min_by(|a, b| a.0.total_cmp(&b.0))
+                .map(|(_, c)| c);
+            if let Some(other) = next {
+                if let Some(sol) = solver.solve_near(target, &state.last_good[..n], other) {
+                    q[..6].copy_from_slice(&sol);
+                    state.config = Some(other);
+                    let (pe, oe) = residual(self.robot, &q[..n], target);
+                    return (q, Reach::Reached, pe, oe, Some((config, other)));
+                }
+            }
+            // Out of reach in every configuration: how far, from a local numerical solve.
+            let mut probe = [0.0; MAX_DOF];
+            let out = self
+                .limited
+                .solve(target, &state.last_good[..n], &mut probe[..n]);
+            return (
+                state.last_good,
+                Reach::Unreachable,
+                out.position_error,
+                out.orientation_error,
+                None,
+            );
+        }
+        let out = self
+            .tracker
+            .solve_warm(target, &mut state.warm, &mut q[..n]);
+        if out.converged {
+            return (
+                q,
+                Reach::Reached,
+                out.position_error,
+                out.orientation_error,
+                None,
+            );
+        }
+        let alt =
+            self.limited
+                .solve_with_restarts(target, &state.last_good[..n], RESTARTS, &mut q[..n]);
+        if alt.converged {
+            (
+                q,
+                Reach::Reached,
+                alt.position_error,
+                alt.orientation_error,
+                None,
+            )
+        } else {
+            (
+                state.last_good,
+                Reach::Unreachable,
+                alt.position_error,
+                alt.orientation_error,
+                None,
+            )
         }
     }
 
@@ -365,6 +484,7 @@ impl<'a> Walker<'a> {
                     dt: seg.duration,
                     ds: seg.length,
                     check_jump: false,
+                    config_change: None,
                 },
             );
             return;
@@ -416,6 +536,7 @@ impl<'a> Walker<'a> {
                     dt,
                     ds,
                     check_jump: false,
+                    config_change: None,
                 },
             );
         }
@@ -423,10 +544,16 @@ impl<'a> Walker<'a> {
 
     fn emit(&self, state: &mut State, sink: &mut dyn SampleSink, a: EmitArgs) {
         let n = self.robot.dof();
-        let mut jac = Jacobian::zeros();
-        self.robot.chain().fk_jacobian(&a.q[..n], &mut jac);
-        let singularity = self.model.measure(&jac, n);
-        let singularity_class = self.model.classify(self.robot.chain(), &a.q[..n]);
+        let (singularity, singularity_class) = if self.light {
+            (1.0, None)
+        } else {
+            let mut jac = Jacobian::zeros();
+            self.robot.chain().fk_jacobian(&a.q[..n], &mut jac);
+            (
+                self.model.measure(&jac, n),
+                self.model.classify(self.robot.chain(), &a.q[..n]),
+            )
+        };
         let mut joint_speed = [0.0; MAX_DOF];
         let mut tool_angular_speed = 0.0;
         let mut jump = None;
@@ -438,6 +565,17 @@ impl<'a> Walker<'a> {
             let both_reached = prev.reach == Reach::Reached && a.reach == Reach::Reached;
             if both_reached && a.check_jump {
                 jump = self.find_jump(prev, &a.target, &a.q);
+                if let Some(change) = a.config_change {
+                    // A change of configuration is a jump whatever the midpoint test says.
+                    let mut delta = [0.0; MAX_DOF];
+                    for (k, d) in delta.iter_mut().enumerate().take(n) {
+                        *d = a.q[k] - prev.joints[k];
+                    }
+                    jump = Some(Jump {
+                        delta,
+                        config_change: Some(change),
+                    });
+                }
             }
             if both_reached && jump.is_none() && a.dt > 0.0 {
                 for ((v, q), q_prev) in joint_speed.iter_mut().zip(&a.q).zip(&prev.joints).take(n) {
@@ -536,7 +674,10 @@ impl<'a> Walker<'a> {
             for k in 0..n {
                 delta[k] = q[k] - prev.joints[k];
             }
-            Some(Jump { delta })
+            Some(Jump {
+                delta,
+                config_change: None,
+            })
         } else {
             None
         }
@@ -547,6 +688,8 @@ struct State {
     prev: Option<SampleRecord>,
     /// The tracker's warm start: always the last reached joints, evaluated.
     warm: WarmStart,
+    /// Configuration followed by the closed-form solver.
+    config: Option<Config>,
     index: usize,
     s: f64,
     t: f64,
@@ -565,6 +708,7 @@ struct EmitArgs {
     dt: f64,
     ds: f64,
     check_jump: bool,
+    config_change: Option<(Config, Config)>,
 }
 
 fn residual(robot: &Robot, q: &[f64], target: &Isometry3<f64>) -> (f64, f64) {

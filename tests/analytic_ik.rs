@@ -76,10 +76,10 @@ fn axes(robot: &Robot, q: &[f64]) -> ([Vector3<f64>; 6], [Vector3<f64>; 6]) {
 fn wrist_centre(p: &[Vector3<f64>; 6], d: &[Vector3<f64>; 6]) -> Vector3<f64> {
     let mut a = Matrix3::zeros();
     let mut b = Vector3::zeros();
-    for i in 3..6 {
-        let m = Matrix3::identity() - d[i] * d[i].transpose();
+    for (pi, di) in p.iter().zip(d).skip(3) {
+        let m = Matrix3::identity() - di * di.transpose();
         a += m;
-        b += m * p[i];
+        b += m * pi;
     }
     a.try_inverse().unwrap() * b
 }
@@ -556,7 +556,8 @@ fn rounded_axis_angles_are_tolerated_and_their_deviation_reported() {
             )],
         )
     };
-    let robot = tilt(1.5708 - FRAC_PI_2);
+    // π/2 as written with four decimals (1.5708), minus the exact value.
+    let robot = tilt(15_708.0 / 10_000.0 - FRAC_PI_2);
     let solver = OrthoParallel::from_robot(&robot).unwrap();
     let p = solver.parameters();
     assert!(

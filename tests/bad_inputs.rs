@@ -125,7 +125,7 @@ fn yaml_alias_bomb() -> String {
     s.push_str("  - {xyz: [900, 0, 500], rpy: [180, 0, 0], name: &a0 [lol, lol, lol, lol, lol, lol, lol, lol, lol]}\n");
     for i in 1..9 {
         let prev = format!("*a{}", i - 1);
-        let list = vec![prev.as_str(); 9].join(", ");
+        let list = [prev.as_str(); 9].join(", ");
         s.push_str(&format!(
             "  - {{xyz: [900, 0, 500], rpy: [180, 0, 0], name: &a{i} [{list}]}}\n"
         ));
@@ -198,7 +198,7 @@ fn cases() -> Vec<Case> {
             &["robot", "r.urdf"],
             &["r.urdf: joint 'j1' <origin>:", "not a finite number", "fix xyz"],
         ),
-        case("urdf: unknown tip", vec![], &["robot", "arm6.urdf", "--tip", "wrist9"], &["arm6.urdf: tip link 'wrist9':", "choose one of", "flange"]),
+        case("urdf: unknown tip", vec![], &["robot", "arm6.urdf", "--tip", "wrist9"], &["arm6.urdf: tip link 'wrist9':", "choose one of its links", "flange"]),
         case(
             "urdf: several leaves and no tip",
             vec![text("r.urdf", arm6_plus("<link name=\"camera\"/><joint name=\"jc\" type=\"fixed\"><parent link=\"link3\"/><child link=\"camera\"/></joint>"))],
@@ -385,8 +385,18 @@ fn cases() -> Vec<Case> {
         case("cli: negative --angle-step", vec![good()], &["check", "good.yaml", "--angle-step", "-1"], &["--angle-step:", "greater than 0"]),
         case("cli: zero --step", vec![good()], &["check", "good.yaml", "--step", "0"], &["--step:", "greater than 0"]),
         case("cli: --joint-speed-scale above 1", vec![good()], &["check", "good.yaml", "--joint-speed-scale", "1.5"], &["--joint-speed-scale:", "above 1", "(0, 1]"]),
-        case("cli: unknown --length-unit", vec![good()], &["check", "good.yaml", "--length-unit", "inch"], &["--length-unit:", "`inch`", "use mm or m"]),
-        case("cli: unknown --angle-unit", vec![good()], &["check", "good.yaml", "--angle-unit", "grad"], &["--angle-unit:", "use deg or rad"]),
+        case(
+            "cli: unknown unit in --units",
+            vec![good()],
+            &["check", "good.yaml", "--units", "inch,deg"],
+            &["--units:", "'inch' is not a unit", "mm or m"],
+        ),
+        case(
+            "cli: --units with an angle unit misspelt",
+            vec![good()],
+            &["check", "good.yaml", "--units", "mm,grad"],
+            &["--units:", "'grad'", "deg or rad"],
+        ),
         case("cli: negative --max-samples", vec![good()], &["check", "good.yaml", "--max-samples", "-5"], &["'--max-samples <N>'", "see `armpath check --help`"]),
         case("cli: empty --tip", vec![good()], &["check", "good.yaml", "--tip", ""], &["--tip:", "is empty"]),
         case("cli: --json to a folder", vec![good(), ("out", Entry::Folder)], &["check", "good.yaml", "--json", "out"], &["--json:", "out is a folder", "give a file name"]),

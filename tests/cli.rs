@@ -193,3 +193,40 @@ fn text_report_and_joint_csv() {
         report["summary"]["samples"].as_u64().unwrap()
     );
 }
+
+#[test]
+fn absurd_sample_counts_are_refused_with_the_option_that_raises_the_cap() {
+    // Derivation: the demo seam is 460 mm long; a 1 nm step implies 4.6e8 samples, above
+    // the 1e8 cap; with --max-samples 1e9 the plan is accepted (checked here on a shorter
+    // cap only, to keep the test fast: 1 µm step = 4.6e5 samples < 1e6).
+    // source: common practice (refuse runaway work with a named override)
+    let demo = repo("paths/bracket_fillet.yaml").display().to_string();
+    let out = armpath()
+        .args(["check", &demo, "--step", "0.000001"])
+        .timeout(std::time::Duration::from_secs(10))
+        .output()
+        .unwrap();
+    assert_eq!(out.status.code(), Some(2));
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert!(
+        err.contains("--max-samples") && err.contains("sampling"),
+        "{err}"
+    );
+    let out = armpath()
+        .args(["check", &demo, "--step", "0.001", "--max-samples", "100000"])
+        .output()
+        .unwrap();
+    assert_eq!(out.status.code(), Some(2));
+    armpath()
+        .args([
+            "check",
+            &demo,
+            "--step",
+            "0.001",
+            "--max-samples",
+            "1000000",
+            "-q",
+        ])
+        .assert()
+        .code(0);
+}

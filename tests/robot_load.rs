@@ -137,7 +137,8 @@ fn xacro_and_missing_files_are_refused_without_running_anything() {
     let e = load_urdf(&x, None).unwrap_err().to_string();
     assert!(e.contains("xacro") && e.contains("expand"), "{e}");
     let e = load_urdf(&dir.path().join("none.urdf"), None).unwrap_err();
-    assert!(matches!(e, Error::Io { .. }));
+    assert!(matches!(e, Error::Robot { .. }));
+    assert!(e.to_string().contains("does not exist"), "{e}");
     let e = load_urdf(dir.path(), None).unwrap_err().to_string();
     assert!(e.contains("folder"), "{e}");
 }

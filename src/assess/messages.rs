@@ -67,7 +67,7 @@ pub(super) fn finding(robot: &Robot, job: &Job, plan: &Plan, run: &Run) -> Findi
     };
     let message = match run.kind {
         Kind::Unreachable => format!(
-            "the arm cannot reach the path {where_} within its joint limits (closest approach {} and {:.2}° off): \
+            "the arm cannot reach the path {where_} within its joint limits (the nearest pose it reaches is up to {} and {:.2}° away): \
              move the work frame or the part closer to the robot, or check this waypoint and the tool offset",
             show(Quantity::Length, run.value),
             run.orientation_error.to_degrees()
@@ -103,12 +103,20 @@ pub(super) fn finding(robot: &Robot, job: &Job, plan: &Plan, run: &Run) -> Findi
                     format!("{} {:+.1}{}", j.name, qq.display(*d), if qq == Quantity::Angle { "°" } else { " mm" })
                 })
                 .collect();
-            format!(
-                "the joint path jumps {where_} ({}): the arm would have to change configuration mid-path, \
-                 which a linear move cannot do; start in a configuration that runs the whole path, \
-                 or split the path with a joint move at this point",
-                deltas.join(", ")
-            )
+            match run.config_change {
+                Some((from_c, to_c)) => format!(
+                    "the {from_c} configuration cannot reach the path {where_} ({}): the arm would have to change to {to_c} mid-path, \
+                     which a linear move cannot do; start in a configuration that runs the whole path, \
+                     or split the path with a joint move at this point",
+                    deltas.join(", ")
+                ),
+                None => format!(
+                    "the joint path jumps {where_} ({}): the arm would have to change configuration mid-path, \
+                     which a linear move cannot do; start in a configuration that runs the whole path, \
+                     or split the path with a joint move at this point",
+                    deltas.join(", ")
+                ),
+            }
         }
         Kind::Singularity => {
             let class = match run.class {

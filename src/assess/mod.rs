@@ -100,6 +100,8 @@ pub(crate) struct Run {
     pub class: Option<SingularityClass>,
     pub delta: [f64; MAX_DOF],
     pub orientation_error: f64,
+    /// Configuration change at a jump (closed-form solver).
+    pub config_change: Option<(crate::ik::analytic::Config, crate::ik::analytic::Config)>,
     pub seen: bool,
 }
 
@@ -113,6 +115,7 @@ struct Flag {
     class: Option<SingularityClass>,
     delta: [f64; MAX_DOF],
     orientation_error: f64,
+    config_change: Option<(crate::ik::analytic::Config, crate::ik::analytic::Config)>,
 }
 
 impl Flag {
@@ -126,6 +129,7 @@ impl Flag {
             class: None,
             delta: [0.0; MAX_DOF],
             orientation_error: 0.0,
+            config_change: None,
         }
     }
 }
@@ -172,6 +176,7 @@ impl<'a> Assessor<'a> {
                 run.class = f.class.or(run.class);
                 run.delta = f.delta;
                 run.orientation_error = f.orientation_error;
+                run.config_change = f.config_change.or(run.config_change);
             }
             return;
         }
@@ -190,6 +195,7 @@ impl<'a> Assessor<'a> {
             class: f.class,
             delta: f.delta,
             orientation_error: f.orientation_error,
+            config_change: f.config_change,
             seen: true,
         });
     }
@@ -291,6 +297,7 @@ impl SampleSink for Assessor<'_> {
                 .fold(0.0f64, |m, d| m.max(d.abs()));
             let mut f = Flag::new(Kind::JointJump, None, biggest, biggest, 0.0);
             f.delta = jump.delta;
+            f.config_change = jump.config_change;
             self.raise(rec, f);
         }
         if rec.singularity < self.extremes.min_singularity {

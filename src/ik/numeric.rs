@@ -92,6 +92,8 @@ impl WarmStart {
 /// Solve `a x = b` for a symmetric positive-definite 6×6 `a` by Cholesky factorisation,
 /// written out for the fixed size (about three times faster here than the general routine).
 /// `None` when a pivot is not positive (the matrix is not positive definite).
+// Index loops mirror the textbook Cholesky recurrences, which is clearer here than iterators.
+#[allow(clippy::needless_range_loop)]
 #[inline]
 fn solve_spd6(a: &Matrix6<f64>, b: &Vector6<f64>) -> Option<Vector6<f64>> {
     let mut l = [[0.0f64; 6]; 6];
@@ -287,8 +289,8 @@ impl<'r> NumericIk<'r> {
     fn descend(&self, target: &Isometry3<f64>, seed: &[f64], q_out: &mut [f64]) -> IkOutcome {
         let n = self.robot.dof();
         let mut state = WarmStart::new();
-        for i in 0..n {
-            state.q[i] = seed[i].clamp(self.lower[i], self.upper[i]);
+        for (i, (q, s)) in state.q.iter_mut().zip(seed).take(n).enumerate() {
+            *q = s.clamp(self.lower[i], self.upper[i]);
         }
         state.pose = self
             .robot

@@ -84,7 +84,7 @@ const DEFAULT_SPIN_RANGE_DEG: (f64, f64) = (-180.0, 180.0);
 /// directly, `units_length` / `units_angle` are also the units of the CSV values.
 ///
 /// Error locations for bad override values name the option as `--speed`, `--tool`, ... (the
-/// field name in kebab case; `--length-unit` and `--angle-unit` for the unit fields).
+/// field name in kebab case; `--units` for both unit fields).
 #[derive(Debug, Clone, Default)]
 pub struct Overrides {
     /// URDF of the robot, used as given (relative to the working directory).
@@ -121,10 +121,10 @@ impl Overrides {
     pub fn units(&self) -> Result<Units, Error> {
         let mut u = Units::default();
         if let Some(s) = &self.units_length {
-            u.length = LengthUnit::parse(s).map_err(|m| Error::usage("--length-unit", m))?;
+            u.length = LengthUnit::parse(s).map_err(|m| Error::usage("--units", m))?;
         }
         if let Some(s) = &self.units_angle {
-            u.angle = AngleUnit::parse(s).map_err(|m| Error::usage("--angle-unit", m))?;
+            u.angle = AngleUnit::parse(s).map_err(|m| Error::usage("--units", m))?;
         }
         Ok(u)
     }
@@ -1755,7 +1755,7 @@ mod tests {
                     units_length: Some("cm".into()),
                     ..Default::default()
                 },
-                "--length-unit",
+                "--units",
                 "mm or m",
             ),
             (
@@ -1763,7 +1763,7 @@ mod tests {
                     units_angle: Some("grad".into()),
                     ..Default::default()
                 },
-                "--angle-unit",
+                "--units",
                 "deg or rad",
             ),
             (
@@ -2282,5 +2282,28 @@ mod tests {
         let deep64 = format!("{}{}", "[".repeat(63), "]".repeat(63));
         let (_, msg) = input_err(load_text(&format!("{HEAD}waypoints: [{deep64}]\n")));
         assert!(msg.contains("invalid type"), "{msg}");
+    }
+
+    #[test]
+    fn in_memory_text_loads_like_the_file() {
+        // source: common practice (load = read the file, then load_bytes on its contents)
+        let dir = tempfile::tempdir().unwrap();
+        let p = dir.path().join("job.yaml");
+        let text = format!("{HEAD}tool: {{xyz: [0, 0, 100], rpy: [0, 0, 0]}}\n{TWO}");
+        std::fs::write(&p, &text).unwrap();
+        let a = load(&p, &Overrides::default()).unwrap();
+        let b = load_bytes(text.as_bytes(), &p, &Overrides::default()).unwrap();
+        assert_eq!(a.robot, b.robot);
+        assert_eq!(a.waypoints.len(), b.waypoints.len());
+        assert_eq!(a.tool.tip_T_tcp, b.tool.tip_T_tcp);
+        // The extension picks the format for in-memory text too.
+        let ov = Overrides {
+            robot: Some(PathBuf::from("arm.urdf")),
+            speed: Some(20.0),
+            ..Default::default()
+        };
+        let csv = b"x,y,z,roll,pitch,yaw\n0,0,0,180,0,0\n100,0,0,180,0,0\n";
+        let job = load_bytes(csv, Path::new("seam.CSV"), &ov).unwrap();
+        assert_eq!(job.waypoints.len(), 2);
     }
 }

@@ -16,8 +16,20 @@ pub struct RobotInfo {
     pub wrist_centre_mm: Option<[f64; 3]>,
     /// Why the wrist is not spherical.
     pub wrist_note: Option<String>,
-    /// Closed-form solver family, when the arm belongs to one (filled by the caller).
-    pub analytic: Option<serde_json::Value>,
+    /// Whether the closed-form solver applies, with its parameters or the reason it does not
+    /// (filled by the caller).
+    pub closed_form: Option<ClosedForm>,
+}
+
+/// The closed-form IK family of an arm, or why it has none.
+#[derive(Debug, Clone, Serialize)]
+pub struct ClosedForm {
+    /// The family name, or null when the arm is not in it.
+    pub family: Option<&'static str>,
+    /// Its geometric parameters (m, rad), derived from the URDF.
+    pub parameters: Option<crate::ik::analytic::Parameters>,
+    /// The condition that fails, when the arm is not in the family.
+    pub reason: Option<String>,
 }
 
 impl RobotInfo {
@@ -29,7 +41,7 @@ impl RobotInfo {
                 .centre_at_zero
                 .map(|c| [c[0] * 1e3, c[1] * 1e3, c[2] * 1e3]),
             wrist_note: w.reason,
-            analytic: None,
+            closed_form: None,
         }
     }
 
@@ -55,8 +67,30 @@ impl RobotInfo {
             }
             _ => {}
         }
-        if let Some(a) = &self.analytic {
-            let _ = writeln!(o, "  closed-form IK  {a}");
+        match &self.closed_form {
+            Some(ClosedForm {
+                family: Some(f),
+                parameters: Some(p),
+                ..
+            }) => {
+                let _ = writeln!(
+                    o,
+                    "  IK       closed form ({f}): a1 {:.1}, a2 {:.1}, b {:.1}, c1 {:.1}, c2 {:.1}, c3 {:.1}, c4 {:.1} mm",
+                    p.a1 * 1e3,
+                    p.a2 * 1e3,
+                    p.b * 1e3,
+                    p.c1 * 1e3,
+                    p.c2 * 1e3,
+                    p.c3 * 1e3,
+                    p.c4 * 1e3
+                );
+            }
+            Some(ClosedForm {
+                reason: Some(r), ..
+            }) => {
+                let _ = writeln!(o, "  IK       numerical (no closed form: {r})");
+            }
+            _ => {}
         }
         let _ = writeln!(o);
         let _ = writeln!(

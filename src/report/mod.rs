@@ -108,6 +108,8 @@ pub struct StartReport {
     pub joints: Vec<f64>,
     /// Distinct in-range solutions found for the first pose (search only).
     pub alternatives: usize,
+    /// Arm configuration followed (`front/up/noflip` …), for arms with a closed-form solver.
+    pub config: Option<String>,
 }
 
 #[derive(Debug, Clone, Serialize)]
@@ -224,6 +226,9 @@ pub struct Report {
     pub path: PathReport,
     pub summary: Summary,
     pub findings: Vec<FindingReport>,
+    /// For arms with a closed-form solver: each arm configuration, whether the whole path
+    /// runs in it, and if not where it first stops. Null for other arms.
+    pub configurations: Option<Vec<crate::configs::ConfigRow>>,
     pub cautions: Vec<&'static str>,
 }
 
@@ -283,6 +288,7 @@ impl Report {
                         .map(|(j, v)| joint_display(j.kind, *v))
                         .collect(),
                     alternatives: r.start.alternatives,
+                    config: None,
                 },
             },
             summary: Summary {
@@ -306,6 +312,7 @@ impl Report {
                 .iter()
                 .map(|f| FindingReport::new(f, r.robot))
                 .collect(),
+            configurations: None,
             cautions: CAUTIONS.to_vec(),
         }
     }

@@ -60,13 +60,26 @@ pub fn render_text(report: &Report, style: Style) -> String {
         .collect();
     let how = match p.start.method {
         "start_joints" => "from start_joints".to_string(),
+        "search" if p.start.config.is_some() => format!(
+            "best of {} configurations reaching the first pose",
+            p.start.alternatives
+        ),
         "search" => format!(
             "best of {} solutions found for the first pose",
             p.start.alternatives
         ),
         _ => "first pose not reachable".to_string(),
     };
-    let _ = writeln!(o, "  start    {} ({how})", joints.join("  "));
+    let _ = writeln!(
+        o,
+        "  start    {} ({how}){}",
+        joints.join("  "),
+        p.start
+            .config
+            .as_ref()
+            .map(|c| format!(" · configuration {c}"))
+            .unwrap_or_default()
+    );
     let _ = writeln!(
         o,
         "  path     {} waypoints · {} segments · {} samples · {:.1} mm · {:.2} s",
@@ -171,6 +184,38 @@ pub fn render_text(report: &Report, style: Style) -> String {
             );
         }
         let _ = writeln!(o, "       {}", f.message);
+    }
+    if let Some(rows) = &report.configurations {
+        let _ = writeln!(o);
+        let _ = writeln!(o, "  arm configurations (closed-form solver)");
+        for r in rows {
+            let used = p.start.config.as_deref() == Some(r.config.as_str());
+            let status = match (&r.first_failure, r.runs) {
+                (_, true) => "runs the whole path".to_string(),
+                (Some(f), false) if f.kind == "unreachable" && f.s_mm == 0.0 => {
+                    "cannot reach the first waypoint within the joint ranges".to_string()
+                }
+                (Some(f), false) => format!(
+                    "stops: {} at s = {:.1} mm (seg {} {} → {}){}",
+                    f.kind,
+                    f.s_mm,
+                    f.segment,
+                    f.from,
+                    f.to,
+                    f.joint
+                        .as_ref()
+                        .map(|j| format!(", {j}"))
+                        .unwrap_or_default()
+                ),
+                (None, false) => "does not run".to_string(),
+            };
+            let _ = writeln!(
+                o,
+                "   {} {:<16} {status}",
+                if used { "▸" } else { " " },
+                r.config
+            );
+        }
     }
     let _ = writeln!(o);
     let _ = writeln!(o, "  cautions");

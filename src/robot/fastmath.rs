@@ -88,7 +88,7 @@ mod tests {
             1e-300,
             -2.5,
             7.0,
-            0.7853981633974483,
+            std::f64::consts::FRAC_PI_4,
         ];
         let mut xs = [0.0; 8];
         xs.copy_from_slice(&edges);

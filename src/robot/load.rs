@@ -147,8 +147,8 @@ fn check_xml_structure(text: &str) -> std::result::Result<(), (usize, String)> {
             (
                 line_at(lt),
                 format!(
-                    "{what} starting here is never closed: the file is cut short or a `>` is \
-                     missing"
+                    "is not valid URDF: {what} starting here is never closed: the file is cut \
+                     short or a `>` is missing"
                 ),
             )
         };
@@ -208,8 +208,8 @@ fn check_xml_structure(text: &str) -> std::result::Result<(), (usize, String)> {
                         return Err((
                             line_at(lt),
                             format!(
-                                "</{name}> closes <{o}>, opened on line {}: close the elements \
-                                 in the order they were opened",
+                                "is not valid URDF: </{name}> closes <{o}>, opened on line {}: \
+                                 close the elements in the order they were opened",
                                 line_at(at)
                             ),
                         ))
@@ -217,7 +217,9 @@ fn check_xml_structure(text: &str) -> std::result::Result<(), (usize, String)> {
                     None => {
                         return Err((
                             line_at(lt),
-                            format!("</{name}> closes no open element: remove it"),
+                            format!(
+                                "is not valid URDF: </{name}> closes no open element: remove it"
+                            ),
                         ))
                     }
                 }
@@ -240,8 +242,8 @@ fn check_xml_structure(text: &str) -> std::result::Result<(), (usize, String)> {
         Some((name, at)) => Err((
             line_at(*at),
             format!(
-                "<{name}> opened here is never closed: the file is cut short or `</{name}>` is \
-                 missing"
+                "is not valid URDF: <{name}> opened here is never closed: the file is cut short \
+                 or `</{name}>` is missing"
             ),
         )),
         None => Ok(()),
@@ -335,7 +337,7 @@ fn build(urdf: &urdf_rs::Robot, path: &Path, tip: Option<&str>) -> Result<Robot>
                     path,
                     format!("tip link '{t}'"),
                     format!(
-                        "is not a link of this robot: choose one of {}",
+                        "is not a link of this robot: choose one of its links: {}",
                         all.join(", ")
                     ),
                 ));
@@ -485,4 +487,74 @@ fn build(urdf: &urdf_rs::Robot, path: &Path, tip: Option<&str>) -> Result<Robot>
         infos,
         Chain::new(joints, pending),
     ))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn scan(text: &str) -> std::result::Result<(), (usize, String)> {
+        check_xml_structure(text)
+    }
+
+    #[test]
+    fn well_formed_xml_passes_the_structure_scan() {
+        // source: XML 1.0 (W3C), sections 2.5 comments, 2.7 CDATA, 2.6 processing
+        // instructions, 2.8 document type declaration, 3.1 start-tags (quoted attribute
+        // values may hold '>' and '/')
+        for text in [
+            include_str!("../../robots/arm6.urdf"),
+            include_str!("../../robots/arm7.urdf"),
+            "<robot name=\"r\"/>",
+            "<?xml version=\"1.0\"?><!-- a <b> c --><robot name=\"r\"><link name=\"a\"/></robot>",
+            "<robot name='a>b/'><link name=\"x/>\"></link></robot>",
+            "<!DOCTYPE robot [<!ELEMENT robot ANY> <!ATTLIST robot name CDATA \">\">]><robot/>",
+            "<robot><![CDATA[</robot> <x>]]></robot>",
+            "<robot\n  name=\"r\"\n><link\nname=\"a\"\n/></robot >",
+        ] {
+            assert_eq!(scan(text), Ok(()), "{text}");
+        }
+    }
+
+    #[test]
+    fn structure_faults_are_located() {
+        // source: the inputs below, whose faulty line is known by construction
+        let cut =
+            "<robot name=\"r\">\n<link name=\"a\"/>\n<joint name=\"j\">\n<parent link=\"a\"/>\n";
+        let (line, msg) = scan(cut).unwrap_err();
+        assert_eq!(line, 3);
+        assert!(
+            msg.contains("<joint>") && msg.contains("never closed"),
+            "{msg}"
+        );
+        let (line, msg) = scan("<robot>\n<link name=\"a").unwrap_err();
+        assert_eq!(line, 2);
+        assert!(msg.contains("<link") && msg.contains("cut short"), "{msg}");
+        let (line, msg) = scan("<robot>\n<link>\n</joint>\n</robot>").unwrap_err();
+        assert_eq!(line, 3);
+        assert!(
+            msg.contains("</joint> closes <link>, opened on line 2"),
+            "{msg}"
+        );
+        let (line, msg) = scan("<robot/>\n</robot>").unwrap_err();
+        assert_eq!(line, 2);
+        assert!(msg.contains("closes no open element"), "{msg}");
+        let (line, msg) = scan("<robot>\n<!-- unfinished\n</robot>").unwrap_err();
+        assert_eq!(line, 2);
+        assert!(msg.contains("comment"), "{msg}");
+    }
+
+    #[test]
+    fn nesting_beyond_the_limit_is_refused_in_linear_time() {
+        // source: MAX_XML_DEPTH; one level below it passes, one above fails
+        let nest = |n: usize| format!("{}{}", "<a>".repeat(n), "</a>".repeat(n));
+        assert_eq!(scan(&nest(MAX_XML_DEPTH)), Ok(()));
+        let (line, msg) = scan(&nest(MAX_XML_DEPTH + 1)).unwrap_err();
+        assert_eq!(line, 1);
+        assert!(msg.contains("nest more than 64"), "{msg}");
+        // A million levels are refused at once rather than parsed.
+        let start = std::time::Instant::now();
+        assert!(scan(&nest(1_000_000)).is_err());
+        assert!(start.elapsed() < std::time::Duration::from_secs(2));
+    }
 }

@@ -2,7 +2,8 @@
 //! plot, the ranges, limits and shaded bands, and where each finding is marked.
 
 use super::data::{position_at, PlotData, TracePoint};
-use super::plots::{self, Figure, Line, Mark, Rule, SPlot, View, ViewMark};
+use super::plots::{self, Figure, Line, Mark, Rule, SPlot};
+use super::views::{self, View, ViewMark};
 use crate::assess::Severity;
 use crate::report::{FindingReport, Report};
 use plotters::style::Color;
@@ -379,7 +380,7 @@ fn views(
                 })
             })
             .collect();
-        plots::view(&View {
+        views::view(&View {
             size: VIEW,
             x_desc,
             y_desc,

@@ -7,9 +7,11 @@
 //! an output file for the command line.
 
 mod data;
+mod envelope;
 mod figures;
 mod page;
 mod plots;
+mod views;
 
 pub use data::{
     position_at, Bucket, Envelope, PlotData, PlotJoint, Trace, TracePoint, BUCKETS, TRACE_POINTS,

@@ -31,64 +31,8 @@ pub fn escape(text: &str) -> String {
     o
 }
 
-const STYLE: &str = r#"
-:root{--ink:#1a1a1a;--muted:#555;--rule:#cfcfcf;--err:#D55E00;--warn:#E69F00;--blue:#0072B2;--soft:#f4f6f8}
-*{box-sizing:border-box}
-html{-webkit-print-color-adjust:exact;print-color-adjust:exact}
-body{margin:0;background:#fff;color:var(--ink);font:14px/1.45 system-ui,-apple-system,"Segoe UI",sans-serif}
-main{max-width:1200px;margin:0 auto;padding:20px 20px 40px}
-h1{font-size:22px;margin:0 0 2px;font-weight:650;letter-spacing:.01em}
-h2{font-size:17px;margin:30px 0 10px;padding-bottom:4px;border-bottom:2px solid var(--ink)}
-h3{font-size:14px;margin:18px 0 6px}
-.sub{color:var(--muted);margin:0}
-code,.mono{font-family:ui-monospace,"DejaVu Sans Mono",monospace;font-size:12.5px}
-nav{margin:10px 0 0;font-size:13px}nav a{margin-right:14px}
-a{color:var(--blue)}
-.top{display:grid;grid-template-columns:260px 1fr;gap:18px;margin-top:16px;align-items:stretch}
-.verdict{border:3px solid var(--ink);padding:14px 16px;display:flex;flex-direction:column;justify-content:center}
-.verdict .word{font-size:34px;font-weight:800;letter-spacing:.08em;line-height:1.1}
-.verdict .count{margin-top:6px}
-.v-fail{border-color:var(--err);background:repeating-linear-gradient(135deg,#fff 0 10px,#fbe7dc 10px 20px)}
-.v-fail .word{color:#a33f00}
-.v-warn{border-color:var(--warn);border-style:dashed;background:#fff7e6}
-.v-warn .word{color:#7a5200}
-.v-pass{border-color:var(--blue);background:#eef5fb}
-.v-pass .word{color:var(--blue)}
-.keys{display:grid;grid-template-columns:repeat(2,minmax(0,1fr));gap:0 24px;margin:0;border-top:1px solid var(--rule)}
-.keys div{display:flex;gap:10px;padding:5px 0;border-bottom:1px solid var(--rule)}
-.keys dt{color:var(--muted);min-width:150px}.keys dd{margin:0;font-weight:600}
-table{border-collapse:collapse;width:100%;font-size:13px}
-th,td{text-align:left;vertical-align:top;padding:5px 8px;border-bottom:1px solid var(--rule)}
-th{background:var(--soft);font-weight:650;border-bottom:1.5px solid var(--ink)}
-td.num{text-align:right;white-space:nowrap;font-variant-numeric:tabular-nums}
-tr:target{background:#fff1c7}
-tr{scroll-margin-top:30vh}
-.sev{white-space:nowrap;font-weight:700}
-.sev-e{color:#a33f00}.sev-w{color:#7a5200}
-.shape-e{color:var(--err)}.shape-w{color:var(--warn)}
-.msg{color:#333;max-width:460px}
-.legend{display:flex;flex-wrap:wrap;gap:6px 18px;font-size:12.5px;color:#333;margin:6px 0 4px}
-.sw{display:inline-block;width:22px;height:12px;vertical-align:-1px;margin-right:5px;border:1px solid #999}
-.sw.line{height:0;border:0;border-top:3px solid}
-.sw.dash{height:0;border:0;border-top:2px dashed var(--ink)}
-figure{margin:8px 0 14px;break-inside:avoid}
-figcaption{font-size:12.5px;color:#333;margin:0 0 3px}
-figcaption b{color:var(--ink)}
-.canvas{position:relative;line-height:0}
-.canvas svg{width:100%;height:auto;display:block}
-.pin{position:absolute;width:28px;height:28px;margin:-14px 0 0 -14px;border-radius:50%;scroll-margin:40vh}
-.pin:hover{outline:2px solid var(--ink)}
-.pin:target{outline:3px solid var(--blue);outline-offset:3px;background:rgba(0,114,178,.16)}
-.grid3{display:grid;grid-template-columns:repeat(3,minmax(0,1fr));gap:0 10px}
-.grid2{display:grid;grid-template-columns:repeat(2,minmax(0,1fr));gap:0 10px}
-.sr{position:absolute;width:1px;height:1px;overflow:hidden;clip:rect(0 0 0 0)}
-.note{color:var(--muted);font-size:12.5px}
-.fail-note{border-left:4px solid var(--err);padding:4px 10px;background:#fff}
-.cautions{border:2px solid var(--ink);padding:10px 16px 10px 34px;margin:0}
-.cautions li{margin:3px 0}
-footer{margin-top:26px;color:var(--muted);font-size:12px;border-top:1px solid var(--rule);padding-top:8px}
-@media print{main{max-width:none;padding:0}nav{display:none}h2{break-after:avoid}}
-"#;
+/// The page style (inline in every page).
+const STYLE: &str = include_str!("style.css");
 
 fn severity_cell(s: Severity) -> &'static str {
     match s {
@@ -183,13 +127,13 @@ pub fn render(report: &Report, data: &PlotData) -> String {
         s.verdict.name().to_uppercase(),
         escape(&p.file)
     );
-    let _ = write!(
+    let _ = writeln!(
         o,
         "<header><h1>Path check: <span class=\"mono\">{}</span></h1>\
          <p class=\"sub\">robot {} · {} joints · {} wrist · armpath {}</p>\
          <nav><a href=\"#findings\">Findings</a><a href=\"#along\">Along the path</a>\
          <a href=\"#views\">Path views</a><a href=\"#settings\">Settings</a>\
-         <a href=\"#cautions\">Cautions</a></nav></header>\n",
+         <a href=\"#cautions\">Cautions</a></nav></header>",
         escape(&p.file),
         escape(&r.name),
         r.dof,

@@ -1,5 +1,5 @@
 //! The figures of the page, drawn with plotters into SVG strings: plots against path
-//! distance and the top and side views of the TCP path. Colours come from the Okabe–Ito
+//! distance (the views of the TCP path are in `views`). Colours come from the Okabe–Ito
 //! palette (distinguishable with the common colour-vision deficiencies); severity is carried
 //! by shape as well (▲ filled triangle = error, ○ hollow circle = warning), never by colour
 //! alone. Finding markers are returned as [`Pin`]s so that the page can put links on them.
@@ -18,8 +18,8 @@ pub const GREEN: RGBColor = RGBColor(0x00, 0x9E, 0x73);
 pub const PURPLE: RGBColor = RGBColor(0xCC, 0x79, 0xA7);
 pub const SKY: RGBColor = RGBColor(0x56, 0xB4, 0xE9);
 pub const INK: RGBColor = RGBColor(0x1A, 0x1A, 0x1A);
-const GREY: RGBColor = RGBColor(0x77, 0x77, 0x77);
-const GRID: RGBColor = RGBColor(0xE4, 0xE4, 0xE4);
+pub(super) const GREY: RGBColor = RGBColor(0x77, 0x77, 0x77);
+pub(super) const GRID: RGBColor = RGBColor(0xE4, 0xE4, 0xE4);
 
 /// Line colours of joints 1..7 in the speed plot: the palette without the two severity
 /// colours first, then those (their lines are labelled by name all the same).
@@ -38,7 +38,7 @@ fn px(size: f64) -> f64 {
     size * 1.24
 }
 
-fn font(size: f64) -> TextStyle<'static> {
+pub(super) fn font(size: f64) -> TextStyle<'static> {
     ("sans-serif", px(size)).into_font().color(&INK)
 }
 
@@ -82,7 +82,7 @@ fn s_tick(mm: f64, length: f64) -> String {
     }
 }
 
-fn err<E: std::fmt::Display>(e: E) -> String {
+pub(super) fn err<E: std::fmt::Display>(e: E) -> String {
     e.to_string()
 }
 
@@ -151,7 +151,7 @@ pub struct SPlot<'a> {
 
 /// Draw a finding marker centred at pixel (x, y): filled triangle for an error, hollow circle
 /// for a warning, its number beside it.
-fn draw_marker(
+pub(super) fn draw_marker(
     root: &DrawingArea<SVGBackend, Shift>,
     x: i32,
     y: i32,
@@ -159,9 +159,12 @@ fn draw_marker(
     error: bool,
 ) -> Result<(), String> {
     if error {
-        root.draw(&TriangleMarker::new((x, y), 7, VERMILLION.filled()))
+        let tri = vec![(x, y - 8), (x - 7, y + 5), (x + 7, y + 5)];
+        root.draw(&Polygon::new(tri.clone(), VERMILLION.filled()))
             .map_err(err)?;
-        root.draw(&TriangleMarker::new((x, y), 7, INK.stroke_width(1)))
+        let mut outline = tri;
+        outline.push((x, y - 8));
+        root.draw(&PathElement::new(outline, INK.stroke_width(1)))
             .map_err(err)?;
     } else {
         root.draw(&Circle::new((x, y), 6, WHITE.filled()))
@@ -221,7 +224,8 @@ where
         let root = SVGBackend::with_string(&mut svg, spec.size).into_drawing_area();
         root.fill(&WHITE).map_err(err)?;
         let mut chart = ChartBuilder::on(&root)
-            .margin_top(8)
+            // Waypoint names stand above the frame, like a second axis.
+            .margin_top(if spec.waypoint_names { 20 } else { 8 })
             .margin_right(14)
             .margin_left(6)
             .margin_bottom(4)
@@ -365,7 +369,7 @@ where
                 }
                 root.draw(&Text::new(
                     text.clone(),
-                    (tx, yr.end - 3),
+                    (tx, yr.start - 4),
                     font(10.0)
                         .color(&RGBColor(0x44, 0x44, 0x44))
                         .pos(Pos::new(anchor, VPos::Bottom)),
@@ -392,176 +396,6 @@ where
     Ok(Figure { svg, pins })
 }
 
-/// A finding drawn on a path view: its stretch (view coordinates, mm) and marker.
-pub struct ViewMark {
-    pub number: usize,
-    pub error: bool,
-    pub stretch: Vec<(f64, f64)>,
-    pub id: Option<String>,
-    pub title: String,
-}
-
-/// A top or side view of the TCP path (mm, equal scales on both axes).
-pub struct View<'a> {
-    pub size: (u32, u32),
-    pub x_desc: &'a str,
-    pub y_desc: &'a str,
-    pub path: Vec<(f64, f64)>,
-    /// Waypoints (x, y, name).
-    pub waypoints: Vec<(f64, f64, String)>,
-    pub marks: Vec<ViewMark>,
-}
-
-const VIEW_LEFT: u32 = 62;
-/// Views name every waypoint up to this many.
-const NAMED_WAYPOINTS: usize = 30;
-const VIEW_BOTTOM: u32 = 40;
-const VIEW_MARGIN: u32 = 12;
-
-/// Ranges for the view such that one mm is the same number of pixels on both axes.
-fn equal_ranges(path: &[(f64, f64)], size: (u32, u32)) -> ([f64; 2], [f64; 2]) {
-    let (mut x0, mut x1, mut y0, mut y1) = (f64::MAX, f64::MIN, f64::MAX, f64::MIN);
-    for &(x, y) in path {
-        x0 = x0.min(x);
-        x1 = x1.max(x);
-        y0 = y0.min(y);
-        y1 = y1.max(y);
-    }
-    if x0 > x1 {
-        return ([-1.0, 1.0], [-1.0, 1.0]);
-    }
-    let pw = (size.0 - VIEW_LEFT - 2 * VIEW_MARGIN) as f64;
-    let ph = (size.1 - VIEW_BOTTOM - 2 * VIEW_MARGIN) as f64;
-    // 10 mm at least: a path that is one point still gets a readable scale.
-    let span = ((x1 - x0) / pw).max((y1 - y0) / ph).max(10.0 / pw.min(ph)) * 1.12;
-    let (cx, cy) = (0.5 * (x0 + x1), 0.5 * (y0 + y1));
-    (
-        [cx - 0.5 * span * pw, cx + 0.5 * span * pw],
-        [cy - 0.5 * span * ph, cy + 0.5 * span * ph],
-    )
-}
-
-/// Draw a view of the TCP path.
-pub fn view(spec: &View) -> Result<Figure, String> {
-    let mut svg = String::new();
-    let (w, h) = spec.size;
-    let mut pins = Vec::new();
-    {
-        let root = SVGBackend::with_string(&mut svg, spec.size).into_drawing_area();
-        root.fill(&WHITE).map_err(err)?;
-        let (xr, yr) = equal_ranges(&spec.path, spec.size);
-        let mut chart = ChartBuilder::on(&root)
-            .margin(VIEW_MARGIN)
-            .x_label_area_size(VIEW_BOTTOM)
-            .y_label_area_size(VIEW_LEFT)
-            .build_cartesian_2d(xr[0]..xr[1], yr[0]..yr[1])
-            .map_err(err)?;
-        chart
-            .configure_mesh()
-            .light_line_style(TRANSPARENT)
-            .bold_line_style(GRID.stroke_width(1))
-            .axis_style(INK.stroke_width(1))
-            .x_labels(6)
-            .y_labels(8)
-            .label_style(font(11.0))
-            .axis_desc_style(font(11.0))
-            .x_desc(spec.x_desc)
-            .y_desc(spec.y_desc)
-            .x_label_formatter(&|v| format!("{v:.0}"))
-            .y_label_formatter(&|v| format!("{v:.0}"))
-            .draw()
-            .map_err(err)?;
-        for m in &spec.marks {
-            if m.stretch.len() > 1 {
-                chart
-                    .draw_series(LineSeries::new(
-                        m.stretch.iter().copied(),
-                        error_colour(m.error).mix(0.5).stroke_width(9),
-                    ))
-                    .map_err(err)?;
-            }
-        }
-        chart
-            .draw_series(LineSeries::new(
-                spec.path.iter().copied(),
-                INK.stroke_width(1),
-            ))
-            .map_err(err)?;
-        // Names of all waypoints while there are few; of the first and last otherwise (a
-        // raster's line ends would bury the view in labels).
-        let name_all = spec.waypoints.len() <= NAMED_WAYPOINTS;
-        let last = spec.waypoints.len().saturating_sub(1);
-        let mut placed: Vec<(i32, i32)> = Vec::new();
-        for (i, (x, y, name)) in spec.waypoints.iter().enumerate() {
-            let (px_, py) = chart.backend_coord(&(*x, *y));
-            if i == 0 {
-                root.draw(&Rectangle::new(
-                    [(px_ - 4, py - 4), (px_ + 4, py + 4)],
-                    INK.filled(),
-                ))
-                .map_err(err)?;
-            } else {
-                root.draw(&Circle::new((px_, py), 3, INK.filled()))
-                    .map_err(err)?;
-            }
-            if (name_all || i == 0 || i == last)
-                && placed
-                    .iter()
-                    .all(|&(a, b)| (a - px_).abs() > 70 || (b - py).abs() > 14)
-            {
-                placed.push((px_, py));
-                let text: String = name.chars().take(24).collect();
-                let (anchor, dx) = if px_ > (w as i32) - 140 {
-                    (HPos::Right, -7)
-                } else {
-                    (HPos::Left, 7)
-                };
-                root.draw(&Text::new(
-                    text,
-                    (px_ + dx, py + 10),
-                    font(11.0).pos(Pos::new(anchor, VPos::Center)),
-                ))
-                .map_err(err)?;
-            }
-        }
-        // Markers sit beside the path with a leader line to where the finding starts, moved
-        // down until they clear the markers already placed.
-        let mut used: Vec<(i32, i32)> = Vec::new();
-        for m in &spec.marks {
-            let Some(&first) = m.stretch.first() else {
-                continue;
-            };
-            let (ax, ay) = chart.backend_coord(&first);
-            let dx = if ax > w as i32 - 60 { -30 } else { 22 };
-            let (mut x, mut y) = (ax + dx, ay - 10);
-            while used
-                .iter()
-                .any(|&(a, b)| (a - x).abs() < 30 && (b - y).abs() < 18)
-            {
-                y += 19;
-            }
-            used.push((x, y));
-            x = x.clamp(10, w as i32 - 24);
-            y = y.clamp(10, h as i32 - 10);
-            root.draw(&PathElement::new(
-                vec![(ax, ay), (x - dx.signum() * 8, y)],
-                INK.stroke_width(1),
-            ))
-            .map_err(err)?;
-            draw_marker(&root, x, y, m.number, m.error)?;
-            pins.push(Pin {
-                number: m.number,
-                x: x as f64 / w as f64,
-                y: y as f64 / h as f64,
-                id: m.id.clone(),
-                title: m.title.clone(),
-            });
-        }
-        root.present().map_err(err)?;
-    }
-    Ok(Figure { svg, pins })
-}
-
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -572,19 +406,6 @@ mod tests {
         assert_eq!(stagger(&[0, 10, 100, 105, 110], 30, 4), vec![0, 1, 0, 1, 2]);
         // More close markers than rows: reuse the row used longest ago.
         assert_eq!(stagger(&[0, 1, 2], 30, 2), vec![0, 1, 0]);
-    }
-
-    #[test]
-    fn views_keep_one_scale_on_both_axes() {
-        // source: common practice (a plan view is only readable at equal scales)
-        let size = (600, 400);
-        let (x, y) = equal_ranges(&[(0.0, 0.0), (300.0, 20.0)], size);
-        let pw = (size.0 - VIEW_LEFT - 2 * VIEW_MARGIN) as f64;
-        let ph = (size.1 - VIEW_BOTTOM - 2 * VIEW_MARGIN) as f64;
-        let sx = (x[1] - x[0]) / pw;
-        let sy = (y[1] - y[0]) / ph;
-        assert!((sx - sy).abs() < 1e-12, "{sx} vs {sy}");
-        assert!(x[0] < 0.0 && x[1] > 300.0 && y[0] < 0.0 && y[1] > 20.0);
     }
 
     #[test]
