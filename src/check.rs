@@ -45,6 +45,10 @@ struct Fanout<'s, 'a> {
 }
 
 impl SampleSink for Fanout<'_, '_> {
+    fn done(&self) -> bool {
+        // The main walk always runs to the end: every sink sees the whole path.
+        false
+    }
     fn begin(&mut self, robot: &Robot, estimated_samples: u64) {
         for s in self.sinks.iter_mut() {
             s.begin(robot, estimated_samples);

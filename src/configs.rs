@@ -44,6 +44,9 @@ struct FirstStop {
 }
 
 impl SampleSink for FirstStop {
+    fn done(&self) -> bool {
+        self.first.is_some()
+    }
     fn sample(&mut self, robot: &Robot, rec: &SampleRecord) {
         if self.first.is_some() {
             return;

@@ -13,6 +13,7 @@ pub mod assess;
 pub mod check;
 pub mod configs;
 pub mod error;
+pub mod fix;
 pub mod ik;
 pub mod job;
 pub mod output;

@@ -37,6 +37,11 @@ enum Command {
     Fk(FkArgs),
     /// Inverse kinematics: joints for a TCP pose.
     Ik(IkArgs),
+    /// Search speeds, arm configuration and tool spin that make a path pass; write the
+    /// amended path file and compare the check before and after.
+    Fix(armpath::fix::cli::FixArgs),
+    /// Check the path with the work frame moved over a grid of placements.
+    Place(armpath::fix::cli::PlaceArgs),
 }
 
 #[derive(Args, Debug)]
@@ -192,6 +197,8 @@ fn main() -> ExitCode {
         Command::Robot(a) => run_robot(a),
         Command::Fk(a) => run_fk(a),
         Command::Ik(a) => run_ik(a),
+        Command::Fix(a) => armpath::fix::cli::run_fix(a),
+        Command::Place(a) => armpath::fix::cli::run_place(a),
     };
     match result {
         Ok(code) => ExitCode::from(code),
@@ -227,7 +234,7 @@ fn one_line_usage_error(e: &clap::Error) -> String {
         .map(|t| format!("{t}; "))
         .unwrap_or_default();
     let command = match std::env::args().nth(1).as_deref() {
-        Some(c @ ("check" | "robot" | "fk" | "ik")) => format!("armpath {c}"),
+        Some(c @ ("check" | "robot" | "fk" | "ik" | "fix" | "place")) => format!("armpath {c}"),
         _ => "armpath".to_string(),
     };
     format!("{what}: {tip}see `{command} --help` for the options")

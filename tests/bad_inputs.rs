@@ -225,6 +225,14 @@ fn cases() -> Vec<Case> {
             &["robot", "r.urdf"],
             &["r.urdf: joint 'j' <axis>:", "zero"],
         ),
+        // Found by the `urdf` fuzz target (docs/fuzzing.md): the XML reader panicked on an
+        // attribute name with an empty namespace prefix under a default namespace.
+        case(
+            "urdf: attribute name starting with ':' (fuzz find)",
+            vec![text("r.urdf", one_joint("revolute", LIMIT).replace("<robot name=\"r\">", "<robot name=\"r\" xmlns=\"urn:x\">").replace("<link name=\"b\"/>", "<link name=\"b\" xmlns=\"0\":upper=\"0.5\"/>"))],
+            &["robot", "r.urdf"],
+            &["r.urdf: line 4:", "starts with ':'", "remove the colon"],
+        ),
         case("urdf: planar joint", vec![text("r.urdf", one_joint("planar", LIMIT))], &["robot", "r.urdf"], &["r.urdf: joint 'j':", "Planar", "revolute, continuous, prismatic and fixed"]),
         case("urdf: floating joint", vec![text("r.urdf", one_joint("floating", LIMIT))], &["robot", "r.urdf"], &["r.urdf: joint 'j':", "Floating", "replace it"]),
         case(

@@ -182,6 +182,20 @@ fn check_xml_structure(text: &str) -> std::result::Result<(), (usize, String)> {
                 .find(|c: char| c.is_whitespace() || c == '>' || c == '/')
                 .map_or(b.len(), |k| name_start + k);
             let name = &text[name_start..name_end];
+            // A name that starts with ':' has an empty namespace prefix, which namespace-aware
+            // XML forbids; the XML reader accepts it and then panics when it writes the
+            // element back out, so it is refused here.
+            let colon_name = || {
+                (
+                    line_at(lt),
+                    "is not valid URDF: an element or attribute name in this tag starts with \
+                     ':': remove the colon or write the prefix before it"
+                        .to_string(),
+                )
+            };
+            if name.starts_with(':') {
+                return Err(colon_name());
+            }
             // Find the tag's end outside quoted attribute values.
             let (mut j, mut quote) = (name_end, None);
             loop {
@@ -196,6 +210,12 @@ fn check_xml_structure(text: &str) -> std::result::Result<(), (usize, String)> {
                     (Some(_), Some(_)) => {}
                     (Some(&c), None) if c == b'"' || c == b'\'' => quote = Some(c),
                     (Some(b'>'), None) => break,
+                    // An attribute name begins after whitespace or a closing quote.
+                    (Some(b':'), None)
+                        if matches!(b[j - 1], b' ' | b'\t' | b'\r' | b'\n' | b'"' | b'\'') =>
+                    {
+                        return Err(colon_name())
+                    }
                     _ => {}
                 }
                 j += 1;
@@ -542,6 +562,22 @@ mod tests {
         let (line, msg) = scan("<robot>\n<!-- unfinished\n</robot>").unwrap_err();
         assert_eq!(line, 2);
         assert!(msg.contains("comment"), "{msg}");
+        // Names with an empty namespace prefix (found by the `urdf` fuzz target: the XML
+        // reader panicked on `xmlns="0":upper="0.5"`).
+        for text in [
+            "<robot xmlns=\"urn:x\">\n<limit xmlns=\"0\":upper=\"0.5\"/></robot>",
+            "<robot xmlns=\"urn:x\">\n<limit :upper=\"0.5\"/></robot>",
+            "<robot>\n<:limit/></robot>",
+        ] {
+            let (line, msg) = scan(text).unwrap_err();
+            assert_eq!(line, 2, "{text}");
+            assert!(msg.contains("starts with ':'"), "{msg}");
+        }
+        // A colon inside a name or a value is fine.
+        assert_eq!(
+            scan("<robot xmlns:xacro=\"urn:x\" a=\":b\"><xacro:p/></robot>"),
+            Ok(())
+        );
     }
 
     #[test]

@@ -1,0 +1,265 @@
+//! From diagnosis to fix: search the levers a programmer has when a path fails and hand back
+//! an amended path that passes.
+//!
+//! - [`speed`]: the largest TCP speed per segment from one check walk (joint and tool angular
+//!   speeds scale with the TCP speed on a linear segment), and proposals where the programmed
+//!   speed is too high (one speed over each run of process segments).
+//! - Configuration: from the check's configuration table (arms with a closed-form solver),
+//!   the arm configuration that runs the whole path; when the one the check chose does not
+//!   and another does, the amended file asks for it (`config:`).
+//! - [`spin`]: with `tool.free_spin`, a spin angle about the tool z axis per sample, chosen
+//!   together with the arm configuration by dynamic programming for the largest margins.
+//! - [`place`]: the work frame moved over a grid of placements, each checked.
+//!
+//! `fix` re-checks the amended path in-process and reports before and after side by side.
+//! The amended file is re-emitted from the job ([`emit`] explains the choices).
+
+pub mod cli;
+pub mod emit;
+mod heatmap;
+pub mod place;
+pub mod speed;
+pub mod spin;
+mod text;
+
+pub use heatmap::svg as placement_map;
+pub use text::render_fix_text;
+
+use crate::check::{check, CheckOptions};
+use crate::error::{Error, Result};
+use crate::job::{self, Job, Overrides};
+use crate::report::{Report, Summary, CAUTIONS};
+use crate::robot::load_urdf;
+use crate::solve::SampleSink;
+use serde::Serialize;
+use speed::{RatioSink, SegmentSpeed};
+use std::path::{Path, PathBuf};
+
+/// One segment's speed row in display units (the file's length unit per second).
+#[derive(Debug, Clone, Serialize)]
+pub struct SpeedRow {
+    pub segment: usize,
+    pub from: String,
+    pub to: String,
+    pub motion: crate::job::Motion,
+    pub process: bool,
+    pub programmed: f64,
+    /// Worst speed over allowed speed at the programmed speed (≤ 1 within limits).
+    pub ratio: f64,
+    pub limited_by: String,
+    pub max_speed: Option<f64>,
+    pub proposed: Option<f64>,
+    pub note: Option<String>,
+}
+
+/// What the configuration search found.
+#[derive(Debug, Clone, Serialize)]
+pub struct ConfigOutcome {
+    /// The configuration the check followed (closed-form arms only).
+    pub used: Option<String>,
+    /// Configurations that run the whole path.
+    pub running: Vec<String>,
+    /// The configuration written into the amended file, when it differs from `used`.
+    pub chosen: Option<String>,
+}
+
+/// The result of `armpath fix`.
+#[derive(Debug, Clone, Serialize)]
+pub struct FixReport {
+    pub file: String,
+    /// The amended path file, when anything was amended.
+    pub amended_file: Option<String>,
+    /// Speed unit of `speeds` (`mm/s` or `m/s`).
+    pub speed_unit: String,
+    pub speeds: Vec<SpeedRow>,
+    pub configuration: ConfigOutcome,
+    pub spin: Option<spin::SpinOutcome>,
+    /// What was changed, one line each.
+    pub changes: Vec<String>,
+    pub before: Summary,
+    /// The re-check of the amended path (`None` when nothing was amended).
+    pub after: Option<Summary>,
+    pub cautions: Vec<&'static str>,
+}
+
+impl FixReport {
+    /// 0 when the amended path (or the original, if unchanged) has no error findings, else 1.
+    pub fn exit_code(&self) -> i32 {
+        let s = self.after.as_ref().unwrap_or(&self.before);
+        if s.errors > 0 {
+            1
+        } else {
+            0
+        }
+    }
+}
+
+/// Default amended-file name: `NAME.fixed.yaml` beside the input.
+pub fn default_out(path: &Path) -> PathBuf {
+    let stem = path
+        .file_stem()
+        .map(|s| s.to_string_lossy().into_owned())
+        .unwrap_or_else(|| "path".into());
+    path.with_file_name(format!("{stem}.fixed.yaml"))
+}
+
+/// Check `job` with extra sinks (the robot is loaded from the job).
+fn run_check(
+    job: &Job,
+    options: &CheckOptions,
+    sinks: &mut [&mut dyn SampleSink],
+) -> Result<Report> {
+    let robot = load_urdf(&job.robot, job.tip.as_deref())?;
+    check(job, &robot, options, sinks)
+}
+
+/// Run the fix search on the path file `path` and write the amended file to `out`.
+pub fn fix(path: &Path, out: &Path, options: &CheckOptions) -> Result<FixReport> {
+    let job = job::load(path, &Overrides::default())?;
+    let mut robot = load_urdf(&job.robot, job.tip.as_deref())?;
+    let mut amended = job.clone();
+    let mut changes = Vec::new();
+
+    // Spin first: it changes the orientations, hence the joint path the speeds come from.
+    let mut spin_outcome = None;
+    if job.tool.free_spin {
+        robot.set_tool(job.tool.tip_T_tcp);
+        let found = spin::search(&job, &robot, options)?;
+        if let Some(s) = &found {
+            if s.changed {
+                amended = s.job.clone();
+                changes.push(format!(
+                    "tool spin about its z axis: {} … {} {} over the path, in configuration {} ({} waypoints, {} added)",
+                    emit::num(s.outcome.min_spin, 1),
+                    emit::num(s.outcome.max_spin, 1),
+                    job.units.angle.name(),
+                    s.outcome.config,
+                    amended.waypoints.len(),
+                    s.outcome.added_waypoints
+                ));
+            }
+        }
+        spin_outcome = found.map(|s| s.outcome);
+    }
+
+    // The walk the speeds come from: the (possibly spun) path at the programmed speeds. Without
+    // a spin change it is also the check before.
+    let mut ratios = RatioSink::new(&amended);
+    let base = run_check(&amended, options, &mut [&mut ratios])?;
+    let before = if changes.is_empty() {
+        base.clone()
+    } else {
+        run_check(&job, options, &mut [])?
+    };
+    let plan = crate::plan::plan(&amended, options.max_samples)?;
+    robot.set_tool(amended.tool.tip_T_tcp);
+    let speeds: Vec<SegmentSpeed> = speed::proposals(&amended, &plan, &robot, &ratios);
+
+    // Configuration: keep the check's when it runs the path, else the first that does.
+    let running: Vec<String> = base
+        .configurations
+        .iter()
+        .flatten()
+        .filter(|r| r.runs)
+        .map(|r| r.config.clone())
+        .collect();
+    let used = base.path.start.config.clone();
+    let mut chosen = None;
+    if spin_outcome.is_none() {
+        if let Some(first) = running.first() {
+            if used.as_ref().is_none_or(|u| !running.contains(u)) {
+                set_config(&mut amended, first);
+                changes.push(format!(
+                    "arm configuration {first} (runs the whole path{})",
+                    used.as_ref()
+                        .map(|u| format!("; {u} does not"))
+                        .unwrap_or_default()
+                ));
+                chosen = Some(first.clone());
+            }
+        }
+    }
+
+    let n_speed = speed::apply(&mut amended, &speeds);
+    let l = job.units.length_to_m();
+    for s in speeds.iter().filter(|s| s.proposed.is_some()) {
+        if let Some(v) = s.proposed {
+            if (v - s.programmed).abs() > 1e-12 {
+                changes.push(format!(
+                    "segment {} ({} → {}): speed {} → {} {}",
+                    s.segment,
+                    s.from,
+                    s.to,
+                    emit::num(s.programmed / l, 4),
+                    emit::num(v / l, 4),
+                    job.units.speed_name()
+                ));
+            }
+        }
+    }
+    let _ = n_speed;
+
+    let (amended_file, after) = if changes.is_empty() {
+        (None, None)
+    } else {
+        let mut header = vec![
+            format!("Amended by armpath fix from {}.", path.display()),
+            "A simulated kinematic check is not a safety assessment: verify on the real cell, first runs at reduced speed.".to_string(),
+        ];
+        header.extend(changes.iter().map(|c| format!("- {c}")));
+        let text = emit::path_file(&amended, &header);
+        crate::output::write_all(out, text.as_bytes())?;
+        let reloaded = job::load(out, &Overrides::default()).map_err(|e| {
+            Error::input(
+                out,
+                "amended file",
+                format!("the amended path could not be read back ({e}); please report this"),
+            )
+        })?;
+        let after = run_check(&reloaded, options, &mut [])?;
+        (Some(out.display().to_string()), Some(after.summary))
+    };
+    Ok(FixReport {
+        file: path.display().to_string(),
+        amended_file,
+        speed_unit: job.units.speed_name(),
+        speeds: speeds
+            .iter()
+            .map(|s| SpeedRow {
+                segment: s.segment,
+                from: s.from.clone(),
+                to: s.to.clone(),
+                motion: s.motion,
+                process: s.process,
+                programmed: s.programmed / l,
+                ratio: s.ratio,
+                limited_by: s.limited_by.clone(),
+                max_speed: s.max_speed.map(|v| v / l),
+                proposed: s.proposed.map(|v| v / l),
+                note: s.note.clone(),
+            })
+            .collect(),
+        configuration: ConfigOutcome {
+            used,
+            running,
+            chosen,
+        },
+        spin: spin_outcome,
+        changes,
+        before: before.summary,
+        after,
+        cautions: CAUTIONS.to_vec(),
+    })
+}
+
+/// Ask for configuration `config` (`front/up/noflip`) in the amended job. `start_joints`
+/// would override it, so they are dropped.
+fn set_config(job: &mut Job, config: &str) {
+    let parts: Vec<&str> = config.split('/').collect();
+    if parts.len() == 3 {
+        job.config.shoulder_front = Some(parts[0] == "front");
+        job.config.elbow_up = Some(parts[1] == "up");
+        job.config.wrist_flip = Some(parts[2] == "flip");
+        job.start_joints = None;
+    }
+}

@@ -1,0 +1,283 @@
+//! Placement search: the work frame moved over a grid of offsets, the path checked at each.
+//!
+//! Offsets are given in the path file's units and added to `work_frame`: `dx, dy, dz` to its
+//! origin in the robot base frame, `dyaw` as a turn about the base z axis through the
+//! work-frame origin (the part turned on the table, the path turning with it). Every
+//! placement is a full check (closed-form configuration table and the walk, no sinks), run in
+//! parallel over the cores with `rayon`; the checks are independent, so the result does not
+//! depend on the number of threads.
+//!
+//! Ranking: verdict first (pass, then warn, then fail), then fewer errors, then the larger
+//! margin `min(smallest limit margin / half range, smallest singularity measure / 0.1)` — the
+//! same two terms and scaling the start-pose choice uses ([`crate::solve::configuration_score`]),
+//! then the smaller offset (the placement closest to the programmed one).
+
+use crate::check::{check, CheckOptions};
+use crate::error::{Error, Result};
+use crate::job::Job;
+use crate::report::Verdict;
+use crate::robot::Robot;
+use nalgebra::{Isometry3, Translation3, UnitQuaternion, Vector3};
+use rayon::prelude::*;
+use std::fmt::Write;
+
+/// Grids with more placements than this are refused: at a few milliseconds per check on the
+/// demo paths, 100 000 placements already take minutes; a finer grid should be a second,
+/// narrower run around the best placements of a coarse one.
+pub const MAX_PLACEMENTS: usize = 100_000;
+
+/// A grid axis `FROM:TO:STEP` in file units (deg or rad for yaw).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Axis {
+    pub from: f64,
+    pub to: f64,
+    pub step: f64,
+}
+
+impl Axis {
+    /// Just the value 0 (an axis not searched).
+    pub const ZERO: Axis = Axis {
+        from: 0.0,
+        to: 0.0,
+        step: 1.0,
+    };
+
+    /// Parse `FROM:TO:STEP` (FROM ≤ TO, STEP > 0), or a single value `V`. `option` names the
+    /// flag in messages.
+    pub fn parse(option: &str, text: &str) -> Result<Axis> {
+        let parts: Vec<&str> = text.split(':').map(str::trim).collect();
+        let bad = |what: String| {
+            Error::usage(
+                option,
+                format!("'{text}' {what}: give FROM:TO:STEP, e.g. -100:100:10, or one value"),
+            )
+        };
+        let nums: Vec<f64> = parts
+            .iter()
+            .map(|p| {
+                p.parse::<f64>()
+                    .ok()
+                    .filter(|v| v.is_finite())
+                    .ok_or_else(|| bad(format!("has '{p}', which is not a finite number")))
+            })
+            .collect::<Result<_>>()?;
+        let axis = match nums.as_slice() {
+            [v] => Axis {
+                from: *v,
+                to: *v,
+                step: 1.0,
+            },
+            [f, t, s] => Axis {
+                from: *f,
+                to: *t,
+                step: *s,
+            },
+            _ => return Err(bad(format!("has {} parts", nums.len()))),
+        };
+        if axis.step <= 0.0 {
+            return Err(bad("has a step that is not positive".into()));
+        }
+        if axis.from > axis.to {
+            return Err(bad("runs from a larger to a smaller value".into()));
+        }
+        if (axis.to - axis.from) / axis.step > MAX_PLACEMENTS as f64 {
+            return Err(bad(format!("has more than {MAX_PLACEMENTS} values")));
+        }
+        Ok(axis)
+    }
+
+    /// The values FROM, FROM + STEP, … up to TO (TO included when on the grid, within a
+    /// millionth of a step to absorb decimal rounding).
+    pub fn values(&self) -> Vec<f64> {
+        let n = ((self.to - self.from) / self.step + 1e-6).floor() as usize;
+        (0..=n).map(|i| self.from + self.step * i as f64).collect()
+    }
+}
+
+/// One placement: offsets in file units and the check's result.
+#[derive(Debug, Clone, serde::Serialize)]
+pub struct Placement {
+    pub dx: f64,
+    pub dy: f64,
+    pub dz: f64,
+    pub dyaw: f64,
+    pub verdict: Verdict,
+    pub errors: usize,
+    pub warnings: usize,
+    /// Smallest singularity measure along the path (0 singular … 1).
+    pub min_singularity: Option<f64>,
+    /// Smallest joint-limit margin over half the joint's range (1 = mid-range).
+    pub min_limit_margin: Option<f64>,
+    /// Ranking margin (see module docs); larger is better.
+    pub score: f64,
+}
+
+impl Placement {
+    fn verdict_rank(&self) -> u8 {
+        match self.verdict {
+            Verdict::Pass => 2,
+            Verdict::Warn => 1,
+            Verdict::Fail => 0,
+        }
+    }
+
+    /// Is `self` a better placement than `other`?
+    pub fn better_than(&self, other: &Placement) -> bool {
+        self.rank_cmp(other) == std::cmp::Ordering::Greater
+    }
+
+    /// Ordering by the ranking of the module docs (Greater = better).
+    pub fn rank_cmp(&self, other: &Placement) -> std::cmp::Ordering {
+        let dist = |p: &Placement| p.dx * p.dx + p.dy * p.dy + p.dz * p.dz + p.dyaw * p.dyaw;
+        self.verdict_rank()
+            .cmp(&other.verdict_rank())
+            .then(other.errors.cmp(&self.errors))
+            .then(self.score.total_cmp(&other.score))
+            .then(dist(other).total_cmp(&dist(self)))
+    }
+}
+
+/// The grid of a search, file units.
+#[derive(Debug, Clone, Copy)]
+pub struct Grid {
+    pub x: Axis,
+    pub y: Axis,
+    pub z: Axis,
+    pub yaw: Axis,
+}
+
+impl Grid {
+    /// Number of placements.
+    pub fn len(&self) -> usize {
+        self.x.values().len()
+            * self.y.values().len()
+            * self.z.values().len()
+            * self.yaw.values().len()
+    }
+
+    pub fn is_empty(&self) -> bool {
+        self.len() == 0
+    }
+}
+
+/// The job with the work frame moved by the offsets (file units).
+pub fn moved(job: &Job, dx: f64, dy: f64, dz: f64, dyaw: f64) -> Job {
+    let l = job.units.length_to_m();
+    let a = job.units.angle_to_rad();
+    let mut j = job.clone();
+    let w = job.base_T_work;
+    let origin = w.translation.vector + Vector3::new(dx, dy, dz) * l;
+    let turn = UnitQuaternion::from_axis_angle(&Vector3::z_axis(), dyaw * a);
+    j.base_T_work = Isometry3::from_parts(Translation3::from(origin), turn * w.rotation);
+    j
+}
+
+/// Check every placement of `grid`; `tick` is called once per finished placement (from any
+/// thread). Placements come back in grid order (x slowest, yaw fastest).
+pub fn search(
+    job: &Job,
+    robot: &Robot,
+    grid: &Grid,
+    options: &CheckOptions,
+    tick: &(dyn Fn() + Sync),
+) -> Result<Vec<Placement>> {
+    if grid.len() > MAX_PLACEMENTS {
+        return Err(Error::usage(
+            "--x/--y/--z/--yaw",
+            format!(
+                "the grid has {} placements, more than {MAX_PLACEMENTS}: use coarser steps or narrower ranges",
+                grid.len()
+            ),
+        ));
+    }
+    let mut points = Vec::with_capacity(grid.len());
+    for &dx in &grid.x.values() {
+        for &dy in &grid.y.values() {
+            for &dz in &grid.z.values() {
+                for &dyaw in &grid.yaw.values() {
+                    points.push((dx, dy, dz, dyaw));
+                }
+            }
+        }
+    }
+    let threshold = 0.1;
+    points
+        .par_iter()
+        .map(|&(dx, dy, dz, dyaw)| {
+            let j = moved(job, dx, dy, dz, dyaw);
+            let report = check(&j, robot, options, &mut []);
+            tick();
+            let report = report?;
+            let s = report.summary;
+            let sing = s.min_singularity.map(|m| (m / threshold).min(1.0));
+            let score = match (s.min_limit_margin_ratio, sing) {
+                (Some(a), Some(b)) => a.min(b),
+                (Some(a), None) => a,
+                (None, Some(b)) => b,
+                (None, None) => 0.0,
+            };
+            Ok(Placement {
+                dx,
+                dy,
+                dz,
+                dyaw,
+                verdict: s.verdict,
+                errors: s.errors,
+                warnings: s.warnings,
+                min_singularity: s.min_singularity,
+                min_limit_margin: s.min_limit_margin_ratio,
+                score,
+            })
+        })
+        .collect()
+}
+
+/// The placements as CSV text (file units; a header line first).
+pub fn csv_text(job: &Job, placements: &[Placement]) -> String {
+    let (l, a) = (job.units.length.name(), job.units.angle.name());
+    let mut out = format!(
+        "dx_{l},dy_{l},dz_{l},dyaw_{a},verdict,errors,warnings,min_singularity,min_limit_margin_ratio,score\n"
+    );
+    let o = |v: Option<f64>| v.map(|x| format!("{x:.6}")).unwrap_or_default();
+    for p in placements {
+        let _ = writeln!(
+            out,
+            "{},{},{},{},{},{},{},{},{},{:.6}",
+            super::emit::num(p.dx, 9),
+            super::emit::num(p.dy, 9),
+            super::emit::num(p.dz, 9),
+            super::emit::num(p.dyaw, 9),
+            p.verdict.name(),
+            p.errors,
+            p.warnings,
+            o(p.min_singularity),
+            o(p.min_limit_margin),
+            p.score
+        );
+    }
+    out
+}
+
+/// The best `n` placements, best first.
+pub fn best(placements: &[Placement], n: usize) -> Vec<Placement> {
+    let mut v = placements.to_vec();
+    v.sort_by(|a, b| b.rank_cmp(a));
+    v.truncate(n);
+    v
+}
+
+/// The best placement of each (dx, dy) cell over z and yaw, for the top view.
+pub fn best_per_cell(placements: &[Placement]) -> Vec<Placement> {
+    let mut cells: Vec<Placement> = Vec::new();
+    for p in placements {
+        match cells.iter_mut().find(|c| c.dx == p.dx && c.dy == p.dy) {
+            Some(c) => {
+                if p.better_than(c) {
+                    *c = p.clone();
+                }
+            }
+            None => cells.push(p.clone()),
+        }
+    }
+    cells
+}

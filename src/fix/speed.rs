@@ -1,0 +1,210 @@
+//! Largest TCP speed per segment, from one check walk at the programmed speeds.
+//!
+//! Method. On a linear segment the TCP follows the same poses whatever the speed; only the
+//! time changes, and `u` grows uniformly in time (see [`crate::plan`]). The joint path is
+//! therefore the same and every joint speed, like the tool angular speed, scales with
+//! `1 / duration`. One walk at the programmed speed gives, per segment, the worst ratio
+//! `r = max(joint speed / (velocity × joint_speed_scale), tool angular speed / limit)`; the
+//! segment stays within every limit when its duration grows to `duration × r`, i.e. at the
+//! TCP speed `length / (duration × r)`. Where the duration comes from the TCP speed
+//! (`length / speed`) this is `speed / r`. A segment that does not move the TCP (a pure
+//! reorientation) cannot be slowed through its TCP speed: it is reported, not changed.
+//!
+//! Joint moves are timed by the solver from the joint speeds themselves and never exceed
+//! them; they get no proposal.
+//!
+//! Process segments (`process: true`) must keep one speed along a run of consecutive process
+//! segments: when any of them must slow down, the whole run gets the smallest speed allowed
+//! over the run (or its slowest programmed speed, if lower).
+//!
+//! Proposals are rounded down to 0.1 mm/s (1e-4 m/s, the same in a metre file: 0.0001 m/s):
+//! finer than any controller's speed setting matters, and rounding down keeps the proposal
+//! inside the limit. Below 1 mm/s three significant digits are kept instead.
+
+use crate::job::{Job, Motion};
+use crate::plan::Plan;
+use crate::robot::Robot;
+use crate::solve::{SampleRecord, SampleSink};
+
+/// Proposals are made only for segments whose ratio exceeds 1 by more than this: the
+/// assessment's own tolerance on speeds is of the same order, and a ratio within 1e-9 of 1 is
+/// rounding, not a finding.
+const RATIO_TOLERANCE: f64 = 1e-9;
+
+/// The worst speed ratio seen on each segment.
+#[derive(Debug, Clone)]
+pub struct RatioSink {
+    /// Per segment: (worst ratio, what sets it: joint index or `None` = tool angular speed).
+    pub worst: Vec<(f64, Option<Option<usize>>)>,
+    tool_angular_speed: f64,
+    joint_speed_scale: f64,
+}
+
+impl RatioSink {
+    pub fn new(job: &Job) -> Self {
+        RatioSink {
+            worst: vec![(0.0, None); job.waypoints.len().saturating_sub(1)],
+            tool_angular_speed: job.limits.tool_angular_speed,
+            joint_speed_scale: job.limits.joint_speed_scale,
+        }
+    }
+}
+
+impl SampleSink for RatioSink {
+    fn sample(&mut self, robot: &Robot, rec: &SampleRecord) {
+        if rec.motion != Motion::Linear || rec.dt <= 0.0 {
+            return;
+        }
+        let Some(slot) = self.worst.get_mut(rec.segment) else {
+            return;
+        };
+        let w = rec.tool_angular_speed / self.tool_angular_speed;
+        if w > slot.0 {
+            *slot = (w, Some(None));
+        }
+        for (k, j) in robot.joints().iter().enumerate() {
+            let allowed = j.velocity * self.joint_speed_scale;
+            let r = rec.joint_speed[k].abs() / allowed;
+            if r.is_finite() && r > slot.0 {
+                *slot = (r, Some(Some(k)));
+            }
+        }
+    }
+}
+
+/// The speed finding of one segment (SI: m/s).
+#[derive(Debug, Clone, serde::Serialize)]
+pub struct SegmentSpeed {
+    pub segment: usize,
+    pub from: String,
+    pub to: String,
+    pub motion: Motion,
+    pub process: bool,
+    /// Programmed TCP speed (m/s).
+    pub programmed: f64,
+    /// Worst ratio of speed to allowed speed over the segment at the programmed speed.
+    pub ratio: f64,
+    /// What sets the ratio: a joint name, `tool angular speed`, or `-` when nothing moves.
+    pub limited_by: String,
+    /// Largest TCP speed within every limit (m/s); `None` when the TCP speed does not set it
+    /// (joint move, pure reorientation) or nothing limits it.
+    pub max_speed: Option<f64>,
+    /// Proposed TCP speed (m/s) when the programmed one is too high.
+    pub proposed: Option<f64>,
+    /// Why no proposal could be made although the segment is too fast.
+    pub note: Option<String>,
+}
+
+/// Round a speed (m/s) down to the proposal precision (see module docs).
+pub fn round_down(v: f64) -> f64 {
+    let step = if v >= 1e-3 {
+        1e-4
+    } else if v > 0.0 {
+        10f64.powf(v.log10().floor() - 2.0)
+    } else {
+        return 0.0;
+    };
+    // The small nudge keeps a value that is a whole number of steps (up to rounding) on its
+    // own step instead of one below.
+    ((v / step) * (1.0 + 1e-12)).floor() * step
+}
+
+/// Largest speeds and proposals for every segment of `plan` from the ratios of one walk.
+pub fn proposals(job: &Job, plan: &Plan, robot: &Robot, sink: &RatioSink) -> Vec<SegmentSpeed> {
+    let mut out: Vec<SegmentSpeed> = plan
+        .segments
+        .iter()
+        .map(|seg| {
+            let (ratio, by) = sink.worst.get(seg.index).copied().unwrap_or((0.0, None));
+            let limited_by = match by {
+                Some(Some(k)) => robot.joints()[k].name.clone(),
+                Some(None) => "tool angular speed".to_string(),
+                None => "-".to_string(),
+            };
+            let linear = seg.motion == Motion::Linear;
+            let max_speed = (linear && seg.length > 0.0 && ratio > 0.0 && seg.duration > 0.0)
+                .then(|| seg.length / (seg.duration * ratio));
+            let too_fast = linear && ratio > 1.0 + RATIO_TOLERANCE;
+            let note = (too_fast && seg.length <= 0.0).then(|| {
+                "the segment only turns the tool: lower orientation_speed instead of the TCP speed"
+                    .to_string()
+            });
+            SegmentSpeed {
+                segment: seg.index,
+                from: job.waypoints[seg.index].name.clone(),
+                to: job.waypoints[seg.index + 1].name.clone(),
+                motion: seg.motion,
+                process: seg.process,
+                programmed: seg.speed,
+                ratio,
+                limited_by,
+                max_speed,
+                proposed: if too_fast {
+                    max_speed.map(round_down)
+                } else {
+                    None
+                },
+                note,
+            }
+        })
+        .collect();
+    // Process runs: one speed over consecutive linear process segments.
+    let mut k = 0;
+    while k < out.len() {
+        if !(out[k].process && out[k].motion == Motion::Linear) {
+            k += 1;
+            continue;
+        }
+        let start = k;
+        while k < out.len() && out[k].process && out[k].motion == Motion::Linear {
+            k += 1;
+        }
+        let run = &out[start..k];
+        if run.iter().all(|s| s.proposed.is_none()) {
+            continue;
+        }
+        let slowest_programmed = run
+            .iter()
+            .map(|s| s.programmed)
+            .fold(f64::INFINITY, f64::min);
+        let smallest_allowed = run
+            .iter()
+            .filter_map(|s| s.max_speed)
+            .fold(f64::INFINITY, f64::min);
+        let speed = round_down(smallest_allowed).min(slowest_programmed);
+        for s in out[start..k].iter_mut() {
+            s.proposed = Some(speed);
+        }
+    }
+    out
+}
+
+/// Set the proposed speeds on the waypoints (the waypoint ending each segment carries its
+/// speed). Returns how many segments changed.
+pub fn apply(job: &mut Job, speeds: &[SegmentSpeed]) -> usize {
+    let mut changed = 0;
+    for s in speeds {
+        if let Some(v) = s.proposed {
+            if (v - s.programmed).abs() > 1e-12 {
+                job.waypoints[s.segment + 1].speed = Some(v);
+                changed += 1;
+            }
+        }
+    }
+    changed
+}
+
+#[cfg(test)]
+mod tests {
+    use super::round_down;
+
+    #[test]
+    fn rounding_goes_down_to_a_tenth_of_a_millimetre_per_second() {
+        // source: common practice (floor to the display precision)
+        assert!((round_down(0.046_666) - 0.0466).abs() < 1e-12);
+        assert!((round_down(0.0466) - 0.0466).abs() < 1e-12);
+        assert!(round_down(0.000_123_4) <= 0.000_123_4);
+        assert!((round_down(0.000_123_4) - 0.000_123).abs() < 1e-12);
+        assert_eq!(round_down(0.0), 0.0);
+    }
+}

@@ -1,0 +1,136 @@
+//! Terminal text of `armpath fix`: what was changed, the per-segment speeds, and the check
+//! before and after side by side.
+
+use super::emit::num as num_fixed;
+use super::FixReport;
+
+/// A number with at most `d` decimals, trailing zeros dropped.
+fn num(v: f64, d: usize) -> String {
+    num_fixed(v, d)
+}
+use crate::report::Summary;
+use std::fmt::Write;
+
+fn opt(v: Option<f64>, decimals: usize) -> String {
+    v.map(|x| format!("{x:.decimals$}"))
+        .unwrap_or_else(|| "-".into())
+}
+
+/// Rows of the before/after table: label and the value of a summary.
+fn rows(s: &Summary) -> Vec<(&'static str, String)> {
+    vec![
+        ("verdict", s.verdict.name().to_string()),
+        ("errors", s.errors.to_string()),
+        ("warnings", s.warnings.to_string()),
+        ("duration (s)", format!("{:.2}", s.duration_s)),
+        (
+            "largest joint speed / allowed",
+            format!(
+                "{:.3}{}",
+                s.max_joint_speed_ratio,
+                s.max_joint_speed_joint
+                    .as_ref()
+                    .map(|j| format!(" ({j})"))
+                    .unwrap_or_default()
+            ),
+        ),
+        (
+            "largest tool angular speed (deg/s)",
+            format!("{:.1}", s.max_tool_angular_speed_deg_s),
+        ),
+        ("smallest singularity measure", opt(s.min_singularity, 4)),
+        (
+            "smallest limit margin / half range",
+            opt(s.min_limit_margin_ratio, 3),
+        ),
+    ]
+}
+
+/// The report as terminal text.
+pub fn render_fix_text(r: &FixReport) -> String {
+    let mut out = String::new();
+    let _ = writeln!(out, "armpath fix  {}", r.file);
+    let _ = writeln!(out);
+    let _ = writeln!(out, "Segment speeds ({}):", r.speed_unit);
+    let _ = writeln!(
+        out,
+        "  {:>3}  {:<28} {:>11} {:>9} {:>13}  {:<20} {:>10}",
+        "seg", "from → to", "programmed", "ratio", "largest ok", "limited by", "proposed"
+    );
+    for s in &r.speeds {
+        let route = format!("{} → {}", s.from, s.to);
+        let kind = match (s.motion, s.process) {
+            (crate::job::Motion::Joint, _) => " (joint move)",
+            (_, true) => " (process)",
+            _ => "",
+        };
+        let _ = writeln!(
+            out,
+            "  {:>3}  {:<28} {:>11} {:>9.3} {:>13}  {:<20} {:>10}",
+            s.segment,
+            format!("{route}{kind}"),
+            num(s.programmed, 4),
+            s.ratio,
+            s.max_speed.map(|v| num(v, 2)).unwrap_or_else(|| "-".into()),
+            s.limited_by,
+            s.proposed.map(|v| num(v, 4)).unwrap_or_else(|| "-".into())
+        );
+        if let Some(n) = &s.note {
+            let _ = writeln!(out, "       note: {n}");
+        }
+    }
+    let _ = writeln!(out);
+    let c = &r.configuration;
+    if let Some(used) = &c.used {
+        let _ = writeln!(
+            out,
+            "Arm configuration: the check follows {used}; runs the whole path: {}",
+            if c.running.is_empty() {
+                "none".to_string()
+            } else {
+                c.running.join(", ")
+            }
+        );
+    }
+    if let Some(s) = &r.spin {
+        let _ = writeln!(
+            out,
+            "Tool spin: {} … {} {} in configuration {}; smallest margin {:.3} (singularity {:.4}, limit margin {:.3})",
+            num(s.min_spin, 1),
+            num(s.max_spin, 1),
+            s.angle_unit,
+            s.config,
+            s.margin,
+            s.min_singularity,
+            s.min_limit_margin
+        );
+    }
+    let _ = writeln!(out);
+    if r.changes.is_empty() {
+        let _ = writeln!(out, "Nothing to amend: no lever above improves the path.");
+    } else {
+        let _ = writeln!(out, "Amended:");
+        for ch in &r.changes {
+            let _ = writeln!(out, "  - {ch}");
+        }
+        if let Some(f) = &r.amended_file {
+            let _ = writeln!(out, "  written to {f}");
+        }
+    }
+    let _ = writeln!(out);
+    let before = rows(&r.before);
+    let after = r.after.as_ref().map(rows);
+    let _ = writeln!(out, "  {:<36} {:>16} {:>16}", "", "before", "after");
+    for (i, (label, b)) in before.iter().enumerate() {
+        let a = after
+            .as_ref()
+            .map(|a| a[i].1.clone())
+            .unwrap_or_else(|| "(unchanged)".into());
+        let _ = writeln!(out, "  {label:<36} {b:>16} {a:>16}");
+    }
+    let _ = writeln!(out);
+    for c in &r.cautions {
+        let _ = writeln!(out, "caution: {c}");
+    }
+    out
+}

@@ -1,0 +1,248 @@
+//! `armpath fix` and `armpath place` on purpose-built paths whose fixes are known in advance
+//! (derivation beside each test); every amended path is re-checked by `armpath check`.
+#![allow(non_snake_case)]
+
+mod common;
+use armpath::robot::load_urdf;
+use assert_cmd::Command;
+use common::*;
+use nalgebra::{Isometry3, Translation3, UnitQuaternion, Vector3};
+use std::path::Path;
+
+/// arm6 geometry (m), from the header of robots/arm6.urdf.
+const A1: f64 = 0.15;
+const A2: f64 = 0.12;
+const C1: f64 = 0.45;
+const C2: f64 = 0.60;
+const C3: f64 = 0.68;
+const C4: f64 = 0.10;
+
+/// Run `armpath ARGS`; returns (exit code, stdout, stderr).
+fn run(args: &[&str]) -> (i32, String, String) {
+    let out = Command::cargo_bin("armpath")
+        .unwrap()
+        .args(args)
+        .output()
+        .unwrap();
+    (
+        out.status.code().unwrap(),
+        String::from_utf8_lossy(&out.stdout).into_owned(),
+        String::from_utf8_lossy(&out.stderr).into_owned(),
+    )
+}
+
+fn read_json(p: &Path) -> serde_json::Value {
+    serde_json::from_str(&std::fs::read_to_string(p).unwrap()).unwrap()
+}
+
+/// `xyz: [..], quat: [..]` (mm) of a TCP pose of arm6 with a straight 180 mm tool at joints
+/// `q_deg`, moved by `shift_mm` along base axes and turned by `roll_deg` about the tool z axis.
+fn pose_at(q_deg: &[f64], shift_mm: [f64; 3], roll_deg: f64) -> String {
+    let mut robot = load_urdf(&repo("robots/arm6.urdf"), None).unwrap();
+    robot.set_tool(Isometry3::from_parts(
+        Translation3::new(0.0, 0.0, 0.18),
+        UnitQuaternion::identity(),
+    ));
+    let q: Vec<f64> = q_deg.iter().map(|d| d.to_radians()).collect();
+    let pose = robot.chain().fk(&q);
+    let r =
+        pose.rotation * UnitQuaternion::from_axis_angle(&Vector3::z_axis(), roll_deg.to_radians());
+    let t = pose.translation.vector * 1e3 + Vector3::from(shift_mm);
+    format!(
+        "xyz: [{:.9}, {:.9}, {:.9}], quat: [{:.12}, {:.12}, {:.12}, {:.12}]",
+        t.x, t.y, t.z, r.w, r.i, r.j, r.k
+    )
+}
+
+/// The start pose of the roll tests: arm in its vertical plane (j1 = j4 = 0), wrist bent
+/// 45°, j6 near zero.
+const Q0: [f64; 6] = [0.0, 30.0, -20.0, 0.0, 45.0, 0.2];
+
+/// A 10 mm move along base x while the tool turns 90° about its own axis, then (optionally)
+/// 10 mm more without turning; both segments marked `process` when asked.
+fn roll_line(second: bool, process: bool) -> String {
+    let p = if process { ", process: true" } else { "" };
+    let mut y = format!(
+        "robot: {}\ntool: {{xyz: [0, 0, 180], rpy: [0, 0, 0]}}\nspeed: 100\n\
+         limits: {{tool_angular_speed: 2000, joint_speed_scale: 1}}\n\
+         waypoints:\n  - {{name: a, {}}}\n  - {{name: b, {}{p}}}\n",
+        arm6(),
+        pose_at(&Q0, [0.0; 3], 0.0),
+        pose_at(&Q0, [10.0, 0.0, 0.0], 90.0)
+    );
+    if second {
+        y += &format!(
+            "  - {{name: c, {}{p}}}\n",
+            pose_at(&Q0, [20.0, 0.0, 0.0], 90.0)
+        );
+    }
+    y
+}
+
+#[test]
+fn roll_too_fast_for_j6_passes_at_the_speed_from_j6s_limit() {
+    // Derivation: with j1 = j4 = 0 every other joint axis but j6 is parallel to base y, so a
+    // move in the arm's vertical plane keeping the tool axis fixed leaves the product of the
+    // first five joint rotations constant, and turning the tool about its own axis (the
+    // flange axis, on which the tool sits) turns j6 alone, one to one. The segment turns 90°
+    // in 10 mm; at 100 mm/s that is 0.1 s, so j6 runs at 900 deg/s against its 420 deg/s:
+    // ratio 900/420 = 2.1429, largest speed 100 × 420/900 = 46.667 mm/s, proposed (rounded
+    // down to 0.1 mm/s) 46.6 mm/s. j2, j3 and j5 move at about 0.1 m/s / 0.6 m ≈ 10 deg/s,
+    // far inside their limits, so j6 sets the speed.
+    // source: robots/arm6.urdf (j6 velocity 7.330383 rad/s = 420 deg/s, joint axes);
+    // common practice (speed = angle / time at constant rate)
+    let (dir, file) = path_file(&roll_line(false, false));
+    let (code0, before) = check_json(&file, &[]);
+    assert_eq!(code0, 1, "{before:#}");
+    let out = dir.path().join("fixed.yaml");
+    let json = dir.path().join("fix.json");
+    let (code, stdout, stderr) = run(&[
+        "fix",
+        file.to_str().unwrap(),
+        "--out",
+        out.to_str().unwrap(),
+        "--json",
+        json.to_str().unwrap(),
+    ]);
+    assert_eq!(code, 0, "{stdout}{stderr}");
+    assert!(
+        stdout.contains("before") && stdout.contains("after"),
+        "{stdout}"
+    );
+    let r = read_json(&json);
+    let s = &r["speeds"][0];
+    assert_eq!(s["limited_by"], "j6", "{r:#}");
+    assert!((f64_of(&s["ratio"]) - 900.0 / 420.0).abs() < 1e-3, "{s:#}");
+    assert!((f64_of(&s["max_speed"]) - 100.0 * 420.0 / 900.0).abs() < 0.05);
+    assert!((f64_of(&s["proposed"]) - 46.6).abs() < 1e-9, "{s:#}");
+    assert_eq!(r["before"]["verdict"], "fail");
+    assert_eq!(r["after"]["errors"], 0);
+    // The amended file, re-checked by `check`, passes with j6 just inside its limit.
+    let (code2, after) = check_json(&out, &[]);
+    assert_eq!(code2, 0, "{after:#}");
+    assert!(findings(&after, "joint_speed").is_empty(), "{after:#}");
+    assert_eq!(after["summary"]["verdict"], "pass", "{after:#}");
+    let ratio = f64_of(&after["summary"]["max_joint_speed_ratio"]);
+    assert!(
+        (ratio - 46.6 / (100.0 * 420.0 / 900.0)).abs() < 1e-3,
+        "j6 at 46.6 mm/s: {ratio}"
+    );
+}
+
+#[test]
+fn a_process_run_keeps_one_speed() {
+    // Derivation: as above the first segment allows 46.667 mm/s (j6); the second moves 10 mm
+    // without turning, its joints far below their limits at 100 mm/s. Both are process
+    // segments, so the run keeps one speed: the smallest allowed, 46.6 mm/s, on both.
+    // source: robots/arm6.urdf; common practice (constant travel speed on a process seam)
+    let (dir, file) = path_file(&roll_line(true, true));
+    let out = dir.path().join("fixed.yaml");
+    let json = dir.path().join("fix.json");
+    let (code, stdout, stderr) = run(&[
+        "fix",
+        file.to_str().unwrap(),
+        "--out",
+        out.to_str().unwrap(),
+        "--json",
+        json.to_str().unwrap(),
+    ]);
+    assert_eq!(code, 0, "{stdout}{stderr}");
+    let r = read_json(&json);
+    assert!(f64_of(&r["speeds"][1]["ratio"]) < 1.0, "{r:#}");
+    for k in 0..2 {
+        assert!(
+            (f64_of(&r["speeds"][k]["proposed"]) - 46.6).abs() < 1e-9,
+            "{r:#}"
+        );
+    }
+    let (code2, after) = check_json(&out, &[]);
+    assert_eq!(code2, 0, "{after:#}");
+    let text = std::fs::read_to_string(&out).unwrap();
+    assert_eq!(text.matches("speed: 46.6").count(), 2, "{text}");
+}
+
+#[test]
+fn beyond_reach_passes_once_the_work_frame_moves_the_derived_distance_closer() {
+    // Derivation: the nozzle points straight down along a line at z_tcp = 0.9 m from x = 0.7
+    // to 1.5 m. The wrist centre sits L_tool + c4 above the TCP and at most
+    // c2 + sqrt(a2² + c3²) from the shoulder point (a1, c1), so the last reachable x is
+    //   x_max = a1 + sqrt((c2 + sqrt(a2² + c3²))² − (z_tcp + L_tool + c4 − c1)²) ≈ 1.2142 m,
+    // and the path runs only when the work frame moves at least 1.5 − x_max ≈ 285.8 mm
+    // towards the robot (−x). The grid's placements at or beyond that shift must be free of
+    // errors, those short of it must fail. 20 mm/s keeps the joint speeds near the stretched
+    // elbow low.
+    // source: robots/arm6.urdf geometry; planar two-link reach (Craig 2005, ch. 4 workspace)
+    let (z_tcp, l_tool) = (0.9, 0.18);
+    let arm = C2 + (A2 * A2 + C3 * C3).sqrt();
+    let dz = z_tcp + l_tool + C4 - C1;
+    let x_max = A1 + (arm * arm - dz * dz).sqrt();
+    let needed_mm = (1.5 - x_max) * 1e3;
+    let yaml = format!(
+        "robot: {}\ntool: {{xyz: [0, 0, 180], rpy: [0, 0, 0]}}\nwork_frame: {{xyz: [700, 0, 900], rpy: [0, 0, 0]}}\nspeed: 20\n\
+         waypoints:\n  - {{name: near, xyz: [0, 0, 0], rpy: [180, 0, 0]}}\n  - {{name: far, xyz: [800, 0, 0], rpy: [180, 0, 0]}}\n",
+        arm6()
+    );
+    let (dir, file) = path_file(&yaml);
+    let from = -((needed_mm / 10.0).ceil() * 10.0) - 30.0;
+    let to = -((needed_mm / 10.0).floor() * 10.0) + 30.0;
+    let csv = dir.path().join("grid.csv");
+    let map = dir.path().join("grid.svg");
+    let x = format!("{from}:{to}:10");
+    let (code, stdout, stderr) = run(&[
+        "place",
+        file.to_str().unwrap(),
+        "--x",
+        &x,
+        "--y",
+        "-20:20:20",
+        "--csv",
+        csv.to_str().unwrap(),
+        "--map",
+        map.to_str().unwrap(),
+    ]);
+    assert_eq!(code, 0, "{stdout}{stderr}");
+    let text = std::fs::read_to_string(&csv).unwrap();
+    let mut rows = 0;
+    let mut closest_passing = f64::NEG_INFINITY;
+    for line in text.lines().skip(1) {
+        let f: Vec<&str> = line.split(',').collect();
+        let dx: f64 = f[0].parse().unwrap();
+        let errors: usize = f[5].parse().unwrap();
+        assert!(
+            (dx + needed_mm).abs() > 1.0,
+            "grid too close to the boundary"
+        );
+        if dx < -needed_mm {
+            assert_eq!(errors, 0, "dx {dx} is beyond the needed shift: {line}");
+            closest_passing = closest_passing.max(dx);
+        } else {
+            assert!(errors > 0, "dx {dx} is short of the needed shift: {line}");
+            assert_eq!(f[4], "fail");
+        }
+        rows += 1;
+    }
+    assert_eq!(rows, 9 * 3);
+    let svg = std::fs::read_to_string(&map).unwrap();
+    assert!(svg.starts_with("<svg") && svg.contains("pass (ring)"));
+    // Re-check the closest passing placement with `check`.
+    let wf = format!("{},0,900,0,0,0", 700.0 + closest_passing);
+    let (code2, report) = check_json(&file, &["--work-frame", &wf]);
+    assert_eq!(code2, 0, "{report:#}");
+    assert!(findings(&report, "unreachable").is_empty());
+}
+
+#[test]
+fn invalid_grids_are_usage_errors() {
+    // source: common practice (usage errors exit 2 with the option named)
+    let file = repo("paths/bracket_fillet.yaml");
+    for (x, what) in [
+        ("0:100", "2 parts"),
+        ("0:100:0", "step that is not positive"),
+        ("100:0:10", "larger to a smaller"),
+        ("a:1:1", "not a finite number"),
+    ] {
+        let (code, _out, err) = run(&["place", file.to_str().unwrap(), "--x", x, "--y", "0"]);
+        assert_eq!(code, 2, "{x}: {err}");
+        assert!(err.contains("--x") && err.contains(what), "{x}: {err}");
+    }
+}
