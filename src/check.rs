@@ -131,7 +131,8 @@ pub fn check(
             )
         }
     };
-    let mut walker = Walker::new(&robot, job, &plan, options.ik);
+    let mut walker = Walker::new(&robot, job, &plan, options.ik)
+        .with_singularity_threshold(options.thresholds.singularity);
     if let (Ok(solver), Some(_)) = (&closed, start.config) {
         walker = walker.with_closed_form(solver);
     }

@@ -259,6 +259,8 @@ pub struct Walker<'a> {
     /// Skip the per-sample singularity measure (feasibility walks need only reach, limits
     /// and jumps).
     light: bool,
+    /// Singularity classes are computed below this measure (and at new minima).
+    class_below: f64,
 }
 
 impl<'a> Walker<'a> {
@@ -272,7 +274,14 @@ impl<'a> Walker<'a> {
             limited: NumericIk::new(robot, options),
             closed: None,
             light: false,
+            class_below: crate::assess::DEFAULT_SINGULARITY_THRESHOLD,
         }
+    }
+
+    /// The singularity warning threshold, below which each sample's class is named.
+    pub fn with_singularity_threshold(mut self, threshold: f64) -> Self {
+        self.class_below = threshold;
+        self
     }
 
     /// Follow the path with the closed-form solver, on the branch of the start's
@@ -299,6 +308,7 @@ impl<'a> Walker<'a> {
             prev: None,
             warm: WarmStart::new(),
             config: start.config,
+            min_measure: f64::INFINITY,
             index: 0,
             s: 0.0,
             t: 0.0,
@@ -566,10 +576,16 @@ impl<'a> Walker<'a> {
         } else {
             let mut jac = Jacobian::zeros();
             self.robot.chain().fk_jacobian(&a.q[..n], &mut jac);
-            (
-                self.model.measure(&jac, n),
-                self.model.classify(self.robot.chain(), &a.q[..n]),
-            )
+            let m = self.model.measure(&jac, n);
+            // The class is read where a finding or the path's minimum needs it: below the
+            // warning threshold or at a new smallest measure.
+            let class = if m < self.class_below || m < state.min_measure {
+                self.model.classify(self.robot.chain(), &a.q[..n])
+            } else {
+                None
+            };
+            state.min_measure = state.min_measure.min(m);
+            (m, class)
         };
         let mut joint_speed = [0.0; MAX_DOF];
         let mut tool_angular_speed = 0.0;
@@ -707,6 +723,8 @@ struct State {
     warm: WarmStart,
     /// Configuration followed by the closed-form solver.
     config: Option<Config>,
+    /// Smallest singularity measure so far.
+    min_measure: f64,
     index: usize,
     s: f64,
     t: f64,

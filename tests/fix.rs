@@ -163,23 +163,24 @@ fn a_process_run_keeps_one_speed() {
 
 #[test]
 fn beyond_reach_passes_once_the_work_frame_moves_the_derived_distance_closer() {
-    // Derivation: the nozzle points straight down along a line at z_tcp = 0.9 m from x = 0.7
-    // to 1.5 m. The wrist centre sits L_tool + c4 above the TCP and at most
+    // Derivation: the nozzle points straight down along a line at z_tcp = 0.5 m from x = 1.1
+    // to 1.8 m (the near end stays well inside the reach after every shift of the grid; at
+    // this height the stretched arm needs j5 ≈ 105°, clear of its 125° limit). The wrist centre sits L_tool + c4 above the TCP and at most
     // c2 + sqrt(a2² + c3²) from the shoulder point (a1, c1), so the last reachable x is
-    //   x_max = a1 + sqrt((c2 + sqrt(a2² + c3²))² − (z_tcp + L_tool + c4 − c1)²) ≈ 1.2142 m,
-    // and the path runs only when the work frame moves at least 1.5 − x_max ≈ 285.8 mm
+    //   x_max = a1 + sqrt((c2 + sqrt(a2² + c3²))² − (z_tcp + L_tool + c4 − c1)²) ≈ 1.3976 m,
+    // and the path runs only when the work frame moves at least 1.8 − x_max ≈ 402.4 mm
     // towards the robot (−x). The grid's placements at or beyond that shift must be free of
     // errors, those short of it must fail. 20 mm/s keeps the joint speeds near the stretched
     // elbow low.
     // source: robots/arm6.urdf geometry; planar two-link reach (Craig 2005, ch. 4 workspace)
-    let (z_tcp, l_tool) = (0.9, 0.18);
+    let (z_tcp, l_tool) = (0.5, 0.18);
     let arm = C2 + (A2 * A2 + C3 * C3).sqrt();
     let dz = z_tcp + l_tool + C4 - C1;
     let x_max = A1 + (arm * arm - dz * dz).sqrt();
-    let needed_mm = (1.5 - x_max) * 1e3;
+    let needed_mm = (1.8 - x_max) * 1e3;
     let yaml = format!(
-        "robot: {}\ntool: {{xyz: [0, 0, 180], rpy: [0, 0, 0]}}\nwork_frame: {{xyz: [700, 0, 900], rpy: [0, 0, 0]}}\nspeed: 20\n\
-         waypoints:\n  - {{name: near, xyz: [0, 0, 0], rpy: [180, 0, 0]}}\n  - {{name: far, xyz: [800, 0, 0], rpy: [180, 0, 0]}}\n",
+        "robot: {}\ntool: {{xyz: [0, 0, 180], rpy: [0, 0, 0]}}\nwork_frame: {{xyz: [1100, 0, 500], rpy: [0, 0, 0]}}\nspeed: 20\n\
+         waypoints:\n  - {{name: near, xyz: [0, 0, 0], rpy: [180, 0, 0]}}\n  - {{name: far, xyz: [700, 0, 0], rpy: [180, 0, 0]}}\n",
         arm6()
     );
     let (dir, file) = path_file(&yaml);
@@ -221,11 +222,11 @@ fn beyond_reach_passes_once_the_work_frame_moves_the_derived_distance_closer() {
         }
         rows += 1;
     }
-    assert_eq!(rows, 9 * 3);
+    assert_eq!(rows, (((to - from) / 10.0).round() as usize + 1) * 3);
     let svg = std::fs::read_to_string(&map).unwrap();
     assert!(svg.starts_with("<svg") && svg.contains("pass (ring)"));
     // Re-check the closest passing placement with `check`.
-    let wf = format!("{},0,900,0,0,0", 700.0 + closest_passing);
+    let wf = format!("{},0,500,0,0,0", 1100.0 + closest_passing);
     let (code2, report) = check_json(&file, &["--work-frame", &wf]);
     assert_eq!(code2, 0, "{report:#}");
     assert!(findings(&report, "unreachable").is_empty());

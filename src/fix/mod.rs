@@ -254,7 +254,7 @@ pub fn fix(path: &Path, out: &Path, options: &CheckOptions) -> Result<FixReport>
 
 /// Ask for configuration `config` (`front/up/noflip`) in the amended job. `start_joints`
 /// would override it, so they are dropped.
-fn set_config(job: &mut Job, config: &str) {
+pub(crate) fn set_config(job: &mut Job, config: &str) {
     let parts: Vec<&str> = config.split('/').collect();
     if parts.len() == 3 {
         job.config.shoulder_front = Some(parts[0] == "front");

@@ -454,7 +454,15 @@ impl OrthoParallel {
     /// Sines and cosines of θ1, θ2 and θ2 + θ3 are formed algebraically from the wrist centre
     /// (no trigonometric calls besides the atan2 that yields each output angle and one acos
     /// per shoulder branch): that is what keeps all eight solutions near a microsecond.
-    fn raw(&self, base_T_tcp: &Isometry3<f64>, free: Free, out: &mut [Raw; 8]) -> usize {
+    /// `only`: compute just that configuration's shoulder and elbow branch (both wrist
+    /// solutions of it come along; they cost nothing extra), as path following needs.
+    fn raw(
+        &self,
+        base_T_tcp: &Isometry3<f64>,
+        free: Free,
+        out: &mut [Raw; 8],
+        only: Option<Config>,
+    ) -> usize {
         let g = &self.model.geometry;
         let (t, q) = (&base_T_tcp.translation.vector, base_T_tcp.rotation.coords);
         if !(t.iter().all(|v| v.is_finite()) && q.iter().all(|v| v.is_finite())) {
@@ -487,6 +495,9 @@ impl OrthoParallel {
         let (sin_psi, cos_psi) = (g.a2 / g.k, g.c3 / g.k);
         let mut n = 0;
         for shoulder in [Shoulder::Front, Shoulder::Back] {
+            if only.is_some_and(|c| c.shoulder != shoulder) {
+                continue;
+            }
             // x1: the wrist centre's coordinate along link 1's x (toward axis 2); its y is b.
             let x1 = match shoulder {
                 Shoulder::Front => root,
@@ -526,6 +537,9 @@ impl OrthoParallel {
                 Shoulder::Back => [-1.0, 1.0],
             };
             for (sigma, elbow) in sigmas.into_iter().zip([Elbow::Up, Elbow::Down]) {
+                if only.is_some_and(|c| c.elbow != elbow) {
+                    continue;
+                }
                 let sp = sigma * sin3;
                 // Upper arm direction (sin θ2, cos θ2): the shoulder-to-wrist direction turned
                 // back by the triangle angle at the shoulder, atan2(k·sinφ3, c2 + k·cosφ3).
@@ -619,7 +633,7 @@ impl OrthoParallel {
     /// reach ([`Solutions::raw_count`] = 0) or reachable only outside the limits.
     pub fn solve(&self, base_T_tcp: &Isometry3<f64>) -> Solutions {
         let mut raw = [Raw::EMPTY; 8];
-        let n = self.raw(base_T_tcp, self.default_free(), &mut raw);
+        let n = self.raw(base_T_tcp, self.default_free(), &mut raw, None);
         let mut out = Solutions::new();
         out.raw_count = n as u8;
         let mut ks = [[0i8; MAX_WINDINGS + 1]; 6];
@@ -667,7 +681,7 @@ impl OrthoParallel {
     /// the principal value; `within_limits` tells whether all six are in range.
     pub fn solve_all(&self, base_T_tcp: &Isometry3<f64>) -> Solutions {
         let mut raw = [Raw::EMPTY; 8];
-        let n = self.raw(base_T_tcp, self.default_free(), &mut raw);
+        let n = self.raw(base_T_tcp, self.default_free(), &mut raw, None);
         let mut out = Solutions::new();
         out.raw_count = n as u8;
         let mut ks = [0i8; MAX_WINDINGS + 1];
@@ -721,7 +735,7 @@ impl OrthoParallel {
             theta4: t_ref[3] - if config.wrist == Wrist::Flip { PI } else { 0.0 },
         };
         let mut raw = [Raw::EMPTY; 8];
-        let n = self.raw(base_T_tcp, free, &mut raw);
+        let n = self.raw(base_T_tcp, free, &mut raw, Some(config));
         let sol = raw[..n].iter().find(|s| s.config == config)?;
         let base = self.principal(&sol.theta);
         Some(std::array::from_fn(|i| {
