@@ -247,3 +247,60 @@ fn invalid_grids_are_usage_errors() {
         assert!(err.contains("--x") && err.contains(what), "{x}: {err}");
     }
 }
+
+#[test]
+fn a_line_through_a_wrist_singularity_passes_after_a_modest_tool_spin() {
+    // Derivation: at the zero joint pose of arm6 the forearm (axis 4) and the flange axis
+    // (axis 6) both point along base +x: θ5 = 0, a wrist singularity (Siciliano et al. 2009,
+    // §3.3). The tool here is tilted 20° about its y axis on the flange, 120 mm out, so the
+    // TCP at the zero pose is at (1050, 0, 930) mm with rpy (180, 70, 180) (the same pose as
+    // `armpath fk robots/arm6.urdf --joints 0,0,0,0,0,0 --tool 0,0,120,0,20,0`). The line
+    // runs through that pose along y at constant orientation, so at its midpoint the arm is
+    // exactly singular and the check fails (the wrist has to turn half a turn at once).
+    // Spinning the tool by φ about its own axis swings the flange axis round a 20° cone
+    // about the tool axis: the angle between flange axis and base x becomes
+    // α = acos(cos²20° + sin²20°·cos φ) (spherical law of cosines), e.g. 28° at φ = 90°, so a
+    // spin within ±90° already keeps the wrist bent by tens of degrees along the whole line.
+    // source: robots/arm6.urdf geometry; Siciliano et al. 2009 §3.3 (wrist singularity);
+    // spherical law of cosines (common practice)
+    let yaml = format!(
+        "robot: {}\ntool: {{xyz: [0, 0, 120], rpy: [0, 20, 0], free_spin: true}}\nspeed: 25\n\
+         waypoints:\n  - {{name: left, xyz: [1050, -200, 930], rpy: [180, 70, 180]}}\n  - {{name: right, xyz: [1050, 200, 930], rpy: [180, 70, 180]}}\n",
+        arm6()
+    );
+    let (dir, file) = path_file(&yaml);
+    let (code0, before) = check_json(&file, &[]);
+    assert_eq!(code0, 1, "{before:#}");
+    assert!(f64_of(&before["summary"]["min_singularity"]) < 1e-3);
+    let out = dir.path().join("fixed.yaml");
+    let json = dir.path().join("fix.json");
+    let (code, stdout, stderr) = run(&[
+        "fix",
+        file.to_str().unwrap(),
+        "--out",
+        out.to_str().unwrap(),
+        "--json",
+        json.to_str().unwrap(),
+    ]);
+    assert_eq!(code, 0, "{stdout}{stderr}");
+    let r = read_json(&json);
+    let spin = &r["spin"];
+    assert_eq!(spin["applied"], true, "{r:#}");
+    for k in ["min_spin", "max_spin"] {
+        assert!(
+            f64_of(&spin[k]).abs() <= 90.0 + 1e-9,
+            "modest spin: {spin:#}"
+        );
+    }
+    assert!(
+        f64_of(&spin["min_spin"]) != 0.0 || f64_of(&spin["max_spin"]) != 0.0,
+        "a spin was needed: {spin:#}"
+    );
+    // Re-checked by `check`: passes, the wrist well away from the singularity.
+    let (code2, after) = check_json(&out, &[]);
+    assert_eq!(code2, 0, "{after:#}");
+    assert!(findings(&after, "singularity").is_empty(), "{after:#}");
+    assert!(f64_of(&after["summary"]["min_singularity"]) > 0.01);
+    let text = std::fs::read_to_string(&out).unwrap();
+    assert!(text.contains("config: {shoulder:"), "{text}");
+}

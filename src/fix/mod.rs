@@ -120,36 +120,45 @@ pub fn fix(path: &Path, out: &Path, options: &CheckOptions) -> Result<FixReport>
     let mut amended = job.clone();
     let mut changes = Vec::new();
 
-    // Spin first: it changes the orientations, hence the joint path the speeds come from.
+    let before = run_check(&job, options, &mut [])?;
+    // Spin first: it changes the orientations, hence the joint path the speeds come from. The
+    // spun path is kept only when its check is better: fewer errors, or as many and a margin
+    // larger by more than 0.01 (a tenth of the singularity-measure scale, so that rounding
+    // noise does not replace the programmed orientations).
     let mut spin_outcome = None;
+    let mut spun = false;
     if job.tool.free_spin {
         robot.set_tool(job.tool.tip_T_tcp);
-        let found = spin::search(&job, &robot, options)?;
-        if let Some(s) = &found {
+        if let Some(mut s) = spin::search(&job, &robot, options)? {
             if s.changed {
-                amended = s.job.clone();
-                changes.push(format!(
-                    "tool spin about its z axis: {} … {} {} over the path, in configuration {} ({} waypoints, {} added)",
-                    emit::num(s.outcome.min_spin, 1),
-                    emit::num(s.outcome.max_spin, 1),
-                    job.units.angle.name(),
-                    s.outcome.config,
-                    amended.waypoints.len(),
-                    s.outcome.added_waypoints
-                ));
+                let trial = run_check(&s.job, options, &mut [])?;
+                let (t, b) = (&trial.summary, &before.summary);
+                if t.errors < b.errors || (t.errors == b.errors && margin(t) > margin(b) + 0.01) {
+                    amended = s.job.clone();
+                    spun = true;
+                    s.outcome.applied = true;
+                    changes.push(format!(
+                        "tool spin about its z axis: {} … {} {} over the path, in configuration {} ({} waypoints, {} added)",
+                        emit::num(s.outcome.min_spin, 1),
+                        emit::num(s.outcome.max_spin, 1),
+                        job.units.angle.name(),
+                        s.outcome.config,
+                        amended.waypoints.len(),
+                        s.outcome.added_waypoints
+                    ));
+                }
             }
+            spin_outcome = Some(s.outcome);
         }
-        spin_outcome = found.map(|s| s.outcome);
     }
 
-    // The walk the speeds come from: the (possibly spun) path at the programmed speeds. Without
-    // a spin change it is also the check before.
+    // The walk the speeds come from: the (possibly spun) path at the programmed speeds.
     let mut ratios = RatioSink::new(&amended);
-    let base = run_check(&amended, options, &mut [&mut ratios])?;
-    let before = if changes.is_empty() {
-        base.clone()
+    let base = if spun {
+        run_check(&amended, options, &mut [&mut ratios])?
     } else {
-        run_check(&job, options, &mut [])?
+        // Without a spin the same walk as the check before, with the ratio sink.
+        run_check(&job, options, &mut [&mut ratios])?
     };
     let plan = crate::plan::plan(&amended, options.max_samples)?;
     robot.set_tool(amended.tool.tip_T_tcp);
@@ -165,7 +174,7 @@ pub fn fix(path: &Path, out: &Path, options: &CheckOptions) -> Result<FixReport>
         .collect();
     let used = base.path.start.config.clone();
     let mut chosen = None;
-    if spin_outcome.is_none() {
+    if !spun {
         if let Some(first) = running.first() {
             if used.as_ref().is_none_or(|u| !running.contains(u)) {
                 set_config(&mut amended, first);
@@ -250,6 +259,13 @@ pub fn fix(path: &Path, out: &Path, options: &CheckOptions) -> Result<FixReport>
         after,
         cautions: CAUTIONS.to_vec(),
     })
+}
+
+/// The ranking margin of a check: the smaller of the limit margin over half the range and
+/// the singularity measure over 0.1 (as [`crate::solve::configuration_score`]).
+fn margin(s: &Summary) -> f64 {
+    let sing = s.min_singularity.map(|m| (m / 0.1).min(1.0)).unwrap_or(1.0);
+    s.min_limit_margin_ratio.unwrap_or(1.0).min(sing)
 }
 
 /// Ask for configuration `config` (`front/up/noflip`) in the amended job. `start_joints`

@@ -29,8 +29,16 @@
 //! The amended path carries the spin at every waypoint (`work_T_tcp · Rz(spin)`). Between
 //! waypoints the check interpolates the orientation along the geodesic, which for an
 //! unchanged programmed orientation is the linear spin ramp; extra waypoints are inserted
-//! where the found profile departs from that ramp by more than half the grid step (a
-//! Douglas–Peucker simplification of the spin over each segment).
+//! where the found profile departs from that ramp by more than the grid step (a
+//! Douglas–Peucker simplification of the spin over each segment: within one grid step the
+//! search cannot tell two profiles apart anyway).
+//!
+//! Layers: one grid step of spin must fit between layers at the allowed spin rate (the
+//! smaller of `spin_rate` and the tool angular speed limit less the programmed turn rate of
+//! the segment, since the two rotations add at worst), so on a linear segment the layers are
+//! every `stride = ⌈step / (rate · dt)⌉` samples and the spin ramps linearly between them.
+//! The joint-speed test of an edge uses the joint change over the whole stride; the
+//! re-check of the amended path by `check` is the final word on every sample.
 
 use crate::check::CheckOptions;
 use crate::error::Result;
@@ -65,6 +73,8 @@ pub struct SpinOutcome {
     pub min_limit_margin: f64,
     /// Waypoints added to follow the spin profile.
     pub added_waypoints: usize,
+    /// The spun path was kept (its check beat the programmed path's).
+    pub applied: bool,
 }
 
 /// A spin search result: the amended job and the outcome.
@@ -85,6 +95,9 @@ struct Sample {
     waypoint: Option<usize>,
     /// Joint moves are timed by the joints themselves: no joint-speed test on the edge.
     joint_move: bool,
+    /// Largest spin rate into this layer (rad/s): `spin_rate`, and for a linear segment the
+    /// tool angular speed limit less the programmed turn rate (the two add at worst).
+    rate: f64,
 }
 
 #[derive(Clone, Copy)]
@@ -95,6 +108,17 @@ struct State {
     limit: f64,
     /// (quantised bottleneck margin, accumulated spin change), predecessor spin index.
     value: Option<(i64, f64, usize)>,
+}
+
+/// The best path found so far over the configurations.
+struct Best {
+    bottleneck: i64,
+    change: f64,
+    config: Config,
+    /// The states along the path.
+    path: Vec<State>,
+    /// The spin (rad) at each sample.
+    spins: Vec<f64>,
 }
 
 /// The bottleneck margin in steps of 0.001 (ties within that are decided by spin change).
@@ -111,6 +135,8 @@ pub fn search(job: &Job, robot: &Robot, options: &CheckOptions) -> Result<Option
     };
     let model = SingularityModel::new(robot);
     let pl = plan(job, options.max_samples)?;
+    let step = GRID_STEP_DEG.to_radians();
+    let spin_rate = job.tool.spin_rate.unwrap_or(f64::INFINITY);
     let mut samples = vec![Sample {
         pose: pl.waypoints_base[0],
         dt: 0.0,
@@ -118,6 +144,7 @@ pub fn search(job: &Job, robot: &Robot, options: &CheckOptions) -> Result<Option
         u: 0.0,
         waypoint: Some(0),
         joint_move: false,
+        rate: spin_rate,
     }];
     for seg in &pl.segments {
         if seg.motion == Motion::Joint {
@@ -128,25 +155,45 @@ pub fn search(job: &Job, robot: &Robot, options: &CheckOptions) -> Result<Option
                 u: 1.0,
                 waypoint: Some(seg.index + 1),
                 joint_move: true,
+                rate: spin_rate,
             });
             continue;
         }
         // A repeated waypoint has no steps: keep it as a zero-time layer (spin unchanged).
         let steps = seg.steps.max(1);
-        for i in 1..=steps {
-            let u = i as f64 / steps as f64;
+        let dt = seg.duration / steps as f64;
+        let turn_rate = if seg.duration > 0.0 {
+            seg.geodesic.angle() / seg.duration
+        } else {
+            0.0
+        };
+        let rate = spin_rate
+            .min(job.limits.tool_angular_speed - turn_rate)
+            .max(0.0);
+        // Layers every `stride` samples, so that one grid step of spin fits the rate between
+        // layers; the spin ramps linearly in between.
+        let stride = if rate > 0.0 && dt > 0.0 {
+            ((step / (rate * dt)).ceil() as usize).clamp(1, steps)
+        } else {
+            steps
+        };
+        let mut i = 0;
+        while i < steps {
+            let next = (i + stride).min(steps);
+            let u = next as f64 / steps as f64;
             samples.push(Sample {
                 pose: seg.pose_at(u),
-                dt: seg.duration / steps as f64,
+                dt: dt * (next - i) as f64,
                 segment: seg.index,
                 u,
-                waypoint: (i == steps).then_some(seg.index + 1),
+                waypoint: (next == steps).then_some(seg.index + 1),
                 joint_move: false,
+                rate,
             });
+            i = next;
         }
     }
     let (lo, hi) = job.tool.spin_range;
-    let step = GRID_STEP_DEG.to_radians();
     let mut spins: Vec<f64> = Vec::new();
     let mut k = (lo / step).ceil() as i64;
     while (k as f64) * step <= hi + 1e-12 {
@@ -170,15 +217,14 @@ pub fn search(job: &Job, robot: &Robot, options: &CheckOptions) -> Result<Option
         .iter()
         .map(|j| j.velocity * scale * (1.0 + 1e-9))
         .collect();
-    let mut best: Option<(i64, f64, Config, Vec<State>, Vec<f64>)> = None;
+    let mut best: Option<Best> = None;
     for config in Config::ALL {
         // layers[i][s]: the state of spin s at sample i.
         let mut layers: Vec<Vec<State>> = Vec::with_capacity(samples.len());
         for (i, smp) in samples.iter().enumerate() {
             let mut layer = Vec::with_capacity(ns);
             for (s, &spin) in spins.iter().enumerate() {
-                let target = smp.pose
-                    * UnitQuaternion::from_axis_angle(&Vector3::z_axis(), spin);
+                let target = smp.pose * UnitQuaternion::from_axis_angle(&Vector3::z_axis(), spin);
                 let prev_q = (i > 0)
                     .then(|| &layers[i - 1])
                     .map(|l: &Vec<State>| l[s])
@@ -188,36 +234,35 @@ pub fn search(job: &Job, robot: &Robot, options: &CheckOptions) -> Result<Option
                     Some(p) if !smp.joint_move => solver.solve_near(&target, &p, config),
                     _ => best_in_config(robot, &model, &solver, &target, config),
                 };
-                let state = match q.filter(|q| {
-                    robot.joints().iter().zip(q).all(|(j, v)| j.contains(*v))
-                }) {
-                    Some(q) => {
-                        let margin = configuration_score(robot, &model, &q);
-                        let mut limit: f64 = 1.0;
-                        for (j, &v) in robot.joints().iter().zip(&q) {
-                            let half = 0.5 * (j.upper - j.lower);
-                            if half.is_finite() && half > 0.0 {
-                                limit = limit.min(j.margin(v) / half);
+                let state =
+                    match q.filter(|q| robot.joints().iter().zip(q).all(|(j, v)| j.contains(*v))) {
+                        Some(q) => {
+                            let margin = configuration_score(robot, &model, &q);
+                            let mut limit: f64 = 1.0;
+                            for (j, &v) in robot.joints().iter().zip(&q) {
+                                let half = 0.5 * (j.upper - j.lower);
+                                if half.is_finite() && half > 0.0 {
+                                    limit = limit.min(j.margin(v) / half);
+                                }
+                            }
+                            let mut jac = crate::robot::Jacobian::zeros();
+                            robot.chain().fk_jacobian(&q, &mut jac);
+                            State {
+                                q,
+                                margin,
+                                singularity: model.measure(&jac, robot.dof()),
+                                limit,
+                                value: None,
                             }
                         }
-                        let mut jac = crate::robot::Jacobian::zeros();
-                        robot.chain().fk_jacobian(&q, &mut jac);
-                        State {
-                            q,
-                            margin,
-                            singularity: model.measure(&jac, robot.dof()),
-                            limit,
+                        None => State {
+                            q: [0.0; 6],
+                            margin: f64::NAN,
+                            singularity: 0.0,
+                            limit: 0.0,
                             value: None,
-                        }
-                    }
-                    None => State {
-                        q: [0.0; 6],
-                        margin: f64::NAN,
-                        singularity: 0.0,
-                        limit: 0.0,
-                        value: None,
-                    },
-                };
+                        },
+                    };
                 layer.push(state);
             }
             // Values.
@@ -235,10 +280,8 @@ pub fn search(job: &Job, robot: &Robot, options: &CheckOptions) -> Result<Option
                 for (p, st) in prev.iter().enumerate() {
                     let Some((b, c, _)) = st.value else { continue };
                     let dspin = (spins[s] - spins[p]).abs();
-                    if let Some(rate) = job.tool.spin_rate {
-                        if dspin > rate * smp.dt + 1e-12 {
-                            continue;
-                        }
+                    if dspin > smp.rate * smp.dt + 1e-12 {
+                        continue;
                     }
                     if !smp.joint_move {
                         let ok = (0..6).all(|k| {
@@ -268,7 +311,7 @@ pub fn search(job: &Job, robot: &Robot, options: &CheckOptions) -> Result<Option
         };
         if best
             .as_ref()
-            .is_none_or(|x| b > x.0 || (b == x.0 && c < x.1))
+            .is_none_or(|x| b > x.bottleneck || (b == x.bottleneck && c < x.change))
         {
             // Trace back the spin indices.
             let mut path = vec![last[s_end]; layers.len()];
@@ -280,13 +323,25 @@ pub fn search(job: &Job, robot: &Robot, options: &CheckOptions) -> Result<Option
             }
             path[0] = layers[0][idx[0]];
             let profile: Vec<f64> = idx.iter().map(|&s| spins[s]).collect();
-            best = Some((b, c, config, path, profile));
+            best = Some(Best {
+                bottleneck: b,
+                change: c,
+                config,
+                path,
+                spins: profile,
+            });
         }
     }
-    let Some((_, _, config, path, spin_of)) = best else {
+    let Some(Best {
+        config,
+        path,
+        spins: spin_of,
+        ..
+    }) = best
+    else {
         return Ok(None);
     };
-    let (amended, added) = amend(job, &pl, &samples, &spin_of, step * 0.5);
+    let (amended, added) = amend(job, &pl, &samples, &spin_of, step);
     let a = job.units.angle_to_rad();
     let waypoint_spins: Vec<f64> = samples
         .iter()
@@ -313,6 +368,7 @@ pub fn search(job: &Job, robot: &Robot, options: &CheckOptions) -> Result<Option
                 .fold(f64::INFINITY, f64::min),
             min_limit_margin: path.iter().map(|s| s.limit).fold(f64::INFINITY, f64::min),
             added_waypoints: added,
+            applied: false,
         },
     }))
 }

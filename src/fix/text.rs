@@ -95,14 +95,21 @@ pub fn render_fix_text(r: &FixReport) -> String {
     if let Some(s) = &r.spin {
         let _ = writeln!(
             out,
-            "Tool spin: {} … {} {} in configuration {}; smallest margin {:.3} (singularity {:.4}, limit margin {:.3})",
+            "Tool spin found: {} … {} {} in configuration {}; smallest margin {:.3} (singularity {:.4}, limit margin {:.3}){}",
             num(s.min_spin, 1),
             num(s.max_spin, 1),
             s.angle_unit,
             s.config,
             s.margin,
             s.min_singularity,
-            s.min_limit_margin
+            s.min_limit_margin,
+            if s.applied {
+                ""
+            } else if s.min_spin == 0.0 && s.max_spin == 0.0 {
+                " — no spin needed"
+            } else {
+                " — not applied: the programmed orientations check as well or better"
+            }
         );
     }
     let _ = writeln!(out);

@@ -108,7 +108,7 @@ pub fn render_text(report: &Report, style: Style) -> String {
         (Some(m), Some(at)) => format!(
             "{m:.4}{} at s = {at:.1} mm (warn below {})",
             s.min_singularity_class
-                .map(|c| format!(" ({c})"))
+                .map(|c| format!(" (nearest kind: {c})"))
                 .unwrap_or_default(),
             p.singularity_threshold
         ),
@@ -211,7 +211,7 @@ pub fn render_text(report: &Report, style: Style) -> String {
             };
             let _ = writeln!(
                 o,
-                "   {} {:<16} {status}",
+                "   {} {:<17} {status}",
                 if used { "▸" } else { " " },
                 r.config
             );
