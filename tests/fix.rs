@@ -304,3 +304,48 @@ fn a_line_through_a_wrist_singularity_passes_after_a_modest_tool_spin() {
     let text = std::fs::read_to_string(&out).unwrap();
     assert!(text.contains("config: {shoulder:"), "{text}");
 }
+
+#[test]
+fn without_free_spin_fix_asks_for_a_configuration_that_runs_the_path() {
+    // The demo panel raster, its spray gun declared not free to spin and the first pose
+    // forced onto the noflip wrist: the check follows that wrist and fails. `fix` must ask
+    // for a configuration that its own configuration table lists as running the whole path,
+    // write it as `config:`, and the amended file must pass `check`.
+    // source: internal consistency of the check's configuration table (no independent value)
+    let text = std::fs::read_to_string(repo("paths/panel_raster.yaml"))
+        .unwrap()
+        .replace("robot: ../robots/arm6.urdf", &format!("robot: {}", arm6()))
+        .replace(", free_spin: true", "")
+        .replace("speed: 300\n", "speed: 300\nconfig: {wrist: noflip}\n");
+    let (dir, file) = path_file(&text);
+    let (code0, before) = check_json(&file, &[]);
+    assert_eq!(code0, 1, "{before:#}");
+    let out = dir.path().join("fixed.yaml");
+    let json = dir.path().join("fix.json");
+    let (code, stdout, stderr) = run(&[
+        "fix",
+        file.to_str().unwrap(),
+        "--out",
+        out.to_str().unwrap(),
+        "--json",
+        json.to_str().unwrap(),
+    ]);
+    assert_eq!(code, 0, "{stdout}{stderr}");
+    let r = read_json(&json);
+    let chosen = r["configuration"]["chosen"].as_str().unwrap().to_string();
+    let running: Vec<&str> = before["configurations"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .filter(|row| row["runs"] == true)
+        .map(|row| row["config"].as_str().unwrap())
+        .collect();
+    assert!(
+        running.contains(&chosen.as_str()),
+        "{chosen} not in {running:?}"
+    );
+    assert!(r["spin"].is_null());
+    let (code2, after) = check_json(&out, &[]);
+    assert_eq!(code2, 0, "{after:#}");
+    assert_eq!(after["path"]["start"]["config"], chosen.as_str());
+}

@@ -74,6 +74,8 @@ pub struct FixReport {
     pub speeds: Vec<SpeedRow>,
     pub configuration: ConfigOutcome,
     pub spin: Option<spin::SpinOutcome>,
+    /// Why a free-spin tool got no spin profile.
+    pub spin_note: Option<String>,
     /// What was changed, one line each.
     pub changes: Vec<String>,
     pub before: Summary,
@@ -115,6 +117,17 @@ fn run_check(
 
 /// Run the fix search on the path file `path` and write the amended file to `out`.
 pub fn fix(path: &Path, out: &Path, options: &CheckOptions) -> Result<FixReport> {
+    if let (Ok(a), Ok(b)) = (std::fs::canonicalize(path), std::fs::canonicalize(out)) {
+        if a == b {
+            return Err(Error::usage(
+                "--out",
+                format!(
+                    "{} is the input file: write the amended path to another file",
+                    out.display()
+                ),
+            ));
+        }
+    }
     let job = job::load(path, &Overrides::default())?;
     let mut robot = load_urdf(&job.robot, job.tip.as_deref())?;
     let mut amended = job.clone();
@@ -126,6 +139,7 @@ pub fn fix(path: &Path, out: &Path, options: &CheckOptions) -> Result<FixReport>
     // larger by more than 0.01 (a tenth of the singularity-measure scale, so that rounding
     // noise does not replace the programmed orientations).
     let mut spin_outcome = None;
+    let mut spin_note = None;
     let mut spun = false;
     if job.tool.free_spin {
         robot.set_tool(job.tool.tip_T_tcp);
@@ -149,6 +163,13 @@ pub fn fix(path: &Path, out: &Path, options: &CheckOptions) -> Result<FixReport>
                 }
             }
             spin_outcome = Some(s.outcome);
+        } else {
+            spin_note = Some(
+                "no spin profile found: no configuration runs the path within the spin range and \
+                 rates, the path is too long for the search (sample it more coarsely), or the arm \
+                 has no closed-form solver"
+                    .to_string(),
+            );
         }
     }
 
@@ -254,6 +275,7 @@ pub fn fix(path: &Path, out: &Path, options: &CheckOptions) -> Result<FixReport>
             chosen,
         },
         spin: spin_outcome,
+        spin_note,
         changes,
         before: before.summary,
         after,

@@ -49,7 +49,7 @@ use crate::robot::{Robot, SingularityModel};
 use crate::solve::{best_in_config, configuration_score};
 use nalgebra::{Isometry3, UnitQuaternion, Vector3};
 
-/// Spin grid step (rad); see module docs.
+/// Spin grid step (deg); see module docs.
 const GRID_STEP_DEG: f64 = 5.0;
 
 /// Largest number of (sample, spin, configuration) states searched: about 100 MB of state

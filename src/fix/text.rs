@@ -112,6 +112,9 @@ pub fn render_fix_text(r: &FixReport) -> String {
             }
         );
     }
+    if let Some(n) = &r.spin_note {
+        let _ = writeln!(out, "Tool spin: {n}");
+    }
     let _ = writeln!(out);
     if r.changes.is_empty() {
         let _ = writeln!(out, "Nothing to amend: no lever above improves the path.");
