@@ -1,7 +1,7 @@
 //! The check, end to end: job + robot → plan → walk (IK per sample) → assessment → report.
 
 use crate::assess::{Assessor, Thresholds};
-use crate::assess::{Finding, Kind, Quantity, Severity};
+use crate::assess::{Finding, Kind, Severity};
 use crate::configs::{feasibility, ConfigRow};
 use crate::error::{Error, Result};
 use crate::ik::analytic::{Config, Elbow, OrthoParallel, Shoulder, Wrist};
@@ -168,22 +168,7 @@ pub fn check(
 
 /// An `input` note not tied to a segment.
 fn note(message: String) -> Finding {
-    Finding {
-        kind: Kind::Input,
-        segment: None,
-        from: None,
-        to: None,
-        samples: None,
-        s: None,
-        t: None,
-        joint: None,
-        value: None,
-        limit: None,
-        quantity: Quantity::Number,
-        deltas: None,
-        worst_sample: None,
-        message,
-    }
+    Finding::input(None, None, None, message)
 }
 
 /// Does `c` satisfy the path file's `config:` request?
@@ -253,17 +238,7 @@ fn choose_closed_start(
         },
         None => StartChoice {
             method: "unreachable",
-            joints: robot
-                .joints()
-                .iter()
-                .map(|j| {
-                    if j.lower.is_finite() {
-                        0.5 * (j.lower + j.upper)
-                    } else {
-                        0.0
-                    }
-                })
-                .collect(),
+            joints: robot.mid_range(),
             alternatives: 0,
             config: None,
         },

@@ -464,17 +464,7 @@ fn run_ik(a: IkArgs) -> Result<u8> {
             ik.solve(&target, &seed, &mut q)
         }
         None => {
-            let mid: Vec<f64> = robot
-                .joints()
-                .iter()
-                .map(|j| {
-                    if j.lower.is_finite() {
-                        0.5 * (j.lower + j.upper)
-                    } else {
-                        0.0
-                    }
-                })
-                .collect();
+            let mid = robot.mid_range();
             ik.solve_with_restarts(&target, &mid, armpath::solve::RESTARTS, &mut q)
         }
     };

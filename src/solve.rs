@@ -177,13 +177,7 @@ pub fn choose_start(
     for k in 0..RESTARTS * 2 {
         if k == 0 {
             // Mid-range first: the natural "home" guess.
-            for (s, j) in seed.iter_mut().zip(robot.joints()) {
-                *s = if j.lower.is_finite() {
-                    0.5 * (j.lower + j.upper)
-                } else {
-                    0.0
-                };
-            }
+            seed[..n].copy_from_slice(&robot.mid_range());
         } else {
             robot.random_config(&mut rng, &mut seed[..n]);
         }
@@ -211,17 +205,7 @@ pub fn choose_start(
         },
         None => StartChoice {
             method: "unreachable",
-            joints: robot
-                .joints()
-                .iter()
-                .map(|j| {
-                    if j.lower.is_finite() {
-                        0.5 * (j.lower + j.upper)
-                    } else {
-                        0.0
-                    }
-                })
-                .collect(),
+            joints: robot.mid_range(),
             alternatives: 0,
             config: None,
         },

@@ -1,21 +1,7 @@
 //! The small commands and the exit-code contract, through the binary.
 
 mod common;
-use assert_cmd::Command;
 use common::*;
-
-fn armpath() -> Command {
-    Command::cargo_bin("armpath").unwrap()
-}
-
-fn json_of(args: &[&str]) -> (i32, serde_json::Value) {
-    let out = armpath().args(args).output().unwrap();
-    let text = String::from_utf8(out.stdout).unwrap();
-    (
-        out.status.code().unwrap(),
-        serde_json::from_str(&text).unwrap_or_else(|e| panic!("{e}: {text}")),
-    )
-}
 
 #[test]
 fn robot_lists_joints_and_wrist() {

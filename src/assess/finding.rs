@@ -116,6 +116,31 @@ pub struct Finding {
 }
 
 impl Finding {
+    /// An `input` finding on `segment` (or on the file as a whole), with its message.
+    pub fn input(
+        segment: Option<usize>,
+        from: Option<String>,
+        to: Option<String>,
+        message: String,
+    ) -> Self {
+        Finding {
+            kind: Kind::Input,
+            segment,
+            from,
+            to,
+            samples: None,
+            s: None,
+            t: None,
+            joint: None,
+            value: None,
+            limit: None,
+            quantity: Quantity::Number,
+            deltas: None,
+            worst_sample: None,
+            message,
+        }
+    }
+
     pub fn severity(&self) -> Severity {
         self.kind.severity()
     }

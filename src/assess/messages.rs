@@ -186,21 +186,13 @@ pub(super) fn finding(robot: &Robot, job: &Job, plan: &Plan, run: &Run) -> Findi
 /// Input findings: the job's warnings and half-turn orientation changes in the plan.
 pub(super) fn input_findings(job: &Job, plan: &Plan) -> Vec<Finding> {
     let mut out = Vec::new();
-    let make = |segment: Option<usize>, message: String| Finding {
-        kind: Kind::Input,
-        segment,
-        from: segment.map(|s| wp_name(job, s)),
-        to: segment.map(|s| wp_name(job, s + 1)),
-        samples: None,
-        s: None,
-        t: None,
-        joint: None,
-        value: None,
-        limit: None,
-        quantity: Quantity::Number,
-        deltas: None,
-        worst_sample: None,
-        message,
+    let make = |segment: Option<usize>, message: String| {
+        Finding::input(
+            segment,
+            segment.map(|s| wp_name(job, s)),
+            segment.map(|s| wp_name(job, s + 1)),
+            message,
+        )
     };
     for w in &job.warnings {
         let segment = w.waypoint.map(|i| i.saturating_sub(1));

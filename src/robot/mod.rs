@@ -110,6 +110,21 @@ impl Robot {
         self.joints.iter().map(|j| j.kind.is_prismatic()).collect()
     }
 
+    /// The middle of every joint's range (0 for a continuous joint): the natural "home"
+    /// guess for a search and the fallback joints of a pose that cannot be reached.
+    pub fn mid_range(&self) -> Vec<f64> {
+        self.joints
+            .iter()
+            .map(|j| {
+                if j.lower.is_finite() {
+                    0.5 * (j.lower + j.upper)
+                } else {
+                    0.0
+                }
+            })
+            .collect()
+    }
+
     /// True when every value of `q` is inside its joint's range.
     pub fn within_limits(&self, q: &[f64]) -> bool {
         self.joints.iter().zip(q).all(|(j, &v)| j.contains(v))

@@ -55,3 +55,18 @@ pub fn findings<'a>(report: &'a serde_json::Value, kind: &str) -> Vec<&'a serde_
 pub fn f64_of(v: &serde_json::Value) -> f64 {
     v.as_f64().unwrap_or_else(|| panic!("not a number: {v}"))
 }
+
+/// The binary under test.
+pub fn armpath() -> Command {
+    Command::cargo_bin("armpath").unwrap()
+}
+
+/// Run the binary with `args` (which should include `--json -`); (exit code, JSON).
+pub fn json_of(args: &[&str]) -> (i32, serde_json::Value) {
+    let out = armpath().args(args).output().unwrap();
+    let text = String::from_utf8(out.stdout).unwrap();
+    (
+        out.status.code().unwrap(),
+        serde_json::from_str(&text).unwrap_or_else(|e| panic!("{e}: {text}")),
+    )
+}
