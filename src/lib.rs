@@ -7,6 +7,20 @@
 //! Frames are named in identifiers: `base_T_tcp` is the pose of the TCP in the base frame,
 //! composable left to right (`base_T_tcp = base_T_tip * tip_T_tcp`). The capital `T` carries
 //! that meaning, hence the crate-wide allowance of non-snake-case names.
+//!
+//! ```
+//! use armpath::ik::{IkOptions, NumericIk};
+//! use armpath::robot::load_urdf;
+//!
+//! let robot = load_urdf(std::path::Path::new("robots/arm6.urdf"), None).unwrap();
+//! let q_true = [0.1, 0.2, -0.3, 0.4, 0.5, 0.6];
+//! let base_T_tcp = robot.chain().fk(&q_true);
+//! let ik = NumericIk::new(&robot, IkOptions::default());
+//! let mut q = [0.0; 6];
+//! let seed = q_true.map(|v| v + 0.05);
+//! let outcome = ik.solve(&base_T_tcp, &seed, &mut q);
+//! assert!(outcome.converged && outcome.position_error < 1e-5);
+//! ```
 #![allow(non_snake_case)]
 
 pub mod assess;
