@@ -475,11 +475,42 @@ impl<'a> Walker<'a> {
         let n = self.robot.dof();
         let q0 = state.last_good;
         let mut q1 = [0.0; MAX_DOF];
-        let out = self
-            .limited
-            .solve_with_restarts(&seg.end, &q0[..n], RESTARTS, &mut q1[..n]);
-        if !out.converged {
-            let (pe, oe) = (out.position_error, out.orientation_error);
+        let (converged, end_pe, end_oe) = match (self.closed, state.config) {
+            // With the closed form: the in-range solution of the current configuration nearest
+            // the start, else of any configuration (a joint move may change configuration;
+            // the branch followed afterwards is the one the move ends in).
+            (Some(solver), Some(config)) => {
+                let sols = solver.solve(&seg.end);
+                let dist = |s: &&crate::ik::analytic::AnalyticSolution| {
+                    (0..6).fold(0.0f64, |m, k| m.max((s.joints[k] - q0[k]).abs()))
+                };
+                let pick = sols
+                    .iter()
+                    .filter(|s| s.config == config)
+                    .min_by(|a, b| dist(a).total_cmp(&dist(b)))
+                    .or_else(|| sols.iter().min_by(|a, b| dist(a).total_cmp(&dist(b))));
+                match pick {
+                    Some(sol) => {
+                        q1[..6].copy_from_slice(&sol.joints);
+                        state.config = Some(sol.config);
+                        let (pe, oe) = residual(self.robot, &q1[..n], &seg.end);
+                        (true, pe, oe)
+                    }
+                    None => {
+                        let out = self.limited.solve(&seg.end, &q0[..n], &mut q1[..n]);
+                        (false, out.position_error, out.orientation_error)
+                    }
+                }
+            }
+            _ => {
+                let out =
+                    self.limited
+                        .solve_with_restarts(&seg.end, &q0[..n], RESTARTS, &mut q1[..n]);
+                (out.converged, out.position_error, out.orientation_error)
+            }
+        };
+        if !converged {
+            let (pe, oe) = (end_pe, end_oe);
             self.emit(
                 state,
                 sink,
@@ -528,7 +559,7 @@ impl<'a> Walker<'a> {
             let ds = (pose.translation.vector - prev_p).norm();
             prev_p = pose.translation.vector;
             let (pe, oe) = if i == steps {
-                (out.position_error, out.orientation_error)
+                (end_pe, end_oe)
             } else {
                 (0.0, 0.0)
             };

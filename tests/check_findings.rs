@@ -3,17 +3,7 @@
 #![allow(non_snake_case)]
 
 mod common;
-use armpath::robot::load_urdf;
 use common::*;
-use nalgebra::{Isometry3, Translation3, UnitQuaternion, Vector3};
-
-/// arm6 geometry (m), from the header of robots/arm6.urdf.
-const A1: f64 = 0.15;
-const A2: f64 = 0.12;
-const C1: f64 = 0.45;
-const C2: f64 = 0.60;
-const C3: f64 = 0.68;
-const C4: f64 = 0.10;
 
 #[test]
 fn unreachable_starts_at_the_reach_boundary_from_link_lengths() {
@@ -83,24 +73,11 @@ fn tool_angular_speed_is_angle_over_time() {
 /// Waypoints (base frame, mm / quaternion) that roll the tool about its own axis at the pose
 /// FK(q0), in `steps` rolls of `step_deg` each.
 fn roll_waypoints(q0_deg: &[f64], steps: usize, step_deg: f64) -> String {
-    let mut robot = load_urdf(&repo("robots/arm6.urdf"), None).unwrap();
-    robot.set_tool(Isometry3::from_parts(
-        Translation3::new(0.0, 0.0, 0.18),
-        UnitQuaternion::identity(),
-    ));
-    let q: Vec<f64> = q0_deg.iter().map(|d| d.to_radians()).collect();
-    let pose = robot.chain().fk(&q);
     let mut out = String::from("waypoints:\n");
     for k in 0..=steps {
-        let r = pose.rotation
-            * UnitQuaternion::from_axis_angle(
-                &Vector3::z_axis(),
-                (step_deg * k as f64).to_radians(),
-            );
-        let t = pose.translation.vector * 1e3;
         out += &format!(
-            "  - {{name: r{k}, xyz: [{:.9}, {:.9}, {:.9}], quat: [{:.12}, {:.12}, {:.12}, {:.12}]}}\n",
-            t.x, t.y, t.z, r.w, r.i, r.j, r.k
+            "  - {{name: r{k}, {}}}\n",
+            arm6_pose(q0_deg, [0.0; 3], step_deg * k as f64)
         );
     }
     out

@@ -3,27 +3,12 @@
 #![allow(non_snake_case)]
 
 mod common;
-use armpath::robot::load_urdf;
-use assert_cmd::Command;
 use common::*;
-use nalgebra::{Isometry3, Translation3, UnitQuaternion, Vector3};
 use std::path::Path;
-
-/// arm6 geometry (m), from the header of robots/arm6.urdf.
-const A1: f64 = 0.15;
-const A2: f64 = 0.12;
-const C1: f64 = 0.45;
-const C2: f64 = 0.60;
-const C3: f64 = 0.68;
-const C4: f64 = 0.10;
 
 /// Run `armpath ARGS`; returns (exit code, stdout, stderr).
 fn run(args: &[&str]) -> (i32, String, String) {
-    let out = Command::cargo_bin("armpath")
-        .unwrap()
-        .args(args)
-        .output()
-        .unwrap();
+    let out = armpath().args(args).output().unwrap();
     (
         out.status.code().unwrap(),
         String::from_utf8_lossy(&out.stdout).into_owned(),
@@ -33,25 +18,6 @@ fn run(args: &[&str]) -> (i32, String, String) {
 
 fn read_json(p: &Path) -> serde_json::Value {
     serde_json::from_str(&std::fs::read_to_string(p).unwrap()).unwrap()
-}
-
-/// `xyz: [..], quat: [..]` (mm) of a TCP pose of arm6 with a straight 180 mm tool at joints
-/// `q_deg`, moved by `shift_mm` along base axes and turned by `roll_deg` about the tool z axis.
-fn pose_at(q_deg: &[f64], shift_mm: [f64; 3], roll_deg: f64) -> String {
-    let mut robot = load_urdf(&repo("robots/arm6.urdf"), None).unwrap();
-    robot.set_tool(Isometry3::from_parts(
-        Translation3::new(0.0, 0.0, 0.18),
-        UnitQuaternion::identity(),
-    ));
-    let q: Vec<f64> = q_deg.iter().map(|d| d.to_radians()).collect();
-    let pose = robot.chain().fk(&q);
-    let r =
-        pose.rotation * UnitQuaternion::from_axis_angle(&Vector3::z_axis(), roll_deg.to_radians());
-    let t = pose.translation.vector * 1e3 + Vector3::from(shift_mm);
-    format!(
-        "xyz: [{:.9}, {:.9}, {:.9}], quat: [{:.12}, {:.12}, {:.12}, {:.12}]",
-        t.x, t.y, t.z, r.w, r.i, r.j, r.k
-    )
 }
 
 /// The start pose of the roll tests: arm in its vertical plane (j1 = j4 = 0), wrist bent
@@ -67,13 +33,13 @@ fn roll_line(second: bool, process: bool) -> String {
          limits: {{tool_angular_speed: 2000, joint_speed_scale: 1}}\n\
          waypoints:\n  - {{name: a, {}}}\n  - {{name: b, {}{p}}}\n",
         arm6(),
-        pose_at(&Q0, [0.0; 3], 0.0),
-        pose_at(&Q0, [10.0, 0.0, 0.0], 90.0)
+        arm6_pose(&Q0, [0.0; 3], 0.0),
+        arm6_pose(&Q0, [10.0, 0.0, 0.0], 90.0)
     );
     if second {
         y += &format!(
             "  - {{name: c, {}{p}}}\n",
-            pose_at(&Q0, [20.0, 0.0, 0.0], 90.0)
+            arm6_pose(&Q0, [20.0, 0.0, 0.0], 90.0)
         );
     }
     y

@@ -70,3 +70,31 @@ pub fn json_of(args: &[&str]) -> (i32, serde_json::Value) {
         serde_json::from_str(&text).unwrap_or_else(|e| panic!("{e}: {text}")),
     )
 }
+
+/// arm6 geometry (m), from the header of robots/arm6.urdf.
+pub const A1: f64 = 0.15;
+pub const A2: f64 = 0.12;
+pub const C1: f64 = 0.45;
+pub const C2: f64 = 0.60;
+pub const C3: f64 = 0.68;
+pub const C4: f64 = 0.10;
+
+/// `xyz: [..], quat: [..]` (mm) of a TCP pose of arm6 with a straight 180 mm tool at joints
+/// `q_deg`, moved by `shift_mm` along base axes and turned by `roll_deg` about the tool z axis.
+pub fn arm6_pose(q_deg: &[f64], shift_mm: [f64; 3], roll_deg: f64) -> String {
+    use nalgebra::{Isometry3, Translation3, UnitQuaternion, Vector3};
+    let mut robot = armpath::robot::load_urdf(&repo("robots/arm6.urdf"), None).unwrap();
+    robot.set_tool(Isometry3::from_parts(
+        Translation3::new(0.0, 0.0, 0.18),
+        UnitQuaternion::identity(),
+    ));
+    let q: Vec<f64> = q_deg.iter().map(|d| d.to_radians()).collect();
+    let pose = robot.chain().fk(&q);
+    let r =
+        pose.rotation * UnitQuaternion::from_axis_angle(&Vector3::z_axis(), roll_deg.to_radians());
+    let t = pose.translation.vector * 1e3 + Vector3::from(shift_mm);
+    format!(
+        "xyz: [{:.9}, {:.9}, {:.9}], quat: [{:.12}, {:.12}, {:.12}, {:.12}]",
+        t.x, t.y, t.z, r.w, r.i, r.j, r.k
+    )
+}
