@@ -559,6 +559,8 @@ fn rounded_axis_angles_are_tolerated_and_their_deviation_reported() {
     // π/2 as written with four decimals (1.5708), minus the exact value.
     let robot = tilt(15_708.0 / 10_000.0 - FRAC_PI_2);
     let solver = OrthoParallel::from_robot(&robot).unwrap();
+    // The singularity classes accept what the closed form accepts (one axis tolerance).
+    assert!(armpath::robot::SingularityModel::new(&robot).classifies());
     let p = solver.parameters();
     assert!(
         p.model_deviation_rad > 1e-7 && p.model_deviation_rad < 1e-4,

@@ -9,7 +9,7 @@ mod wrist;
 pub use chain::{manipulability, scaled_jjt, Chain, ChainJoint, Jacobian, JointKind, MAX_DOF};
 pub use load::{from_urdf_str, load_urdf};
 pub use singularity::{SingularityClass, SingularityModel};
-pub use wrist::{spherical_wrist, WristCheck};
+pub use wrist::{spherical_wrist, WristCheck, AXIS_ANGLE_TOLERANCE};
 
 use nalgebra::Isometry3;
 use std::path::PathBuf;

@@ -52,8 +52,8 @@ impl SingularityModel {
                 chain.joint_frames(&[0.0; 6], &mut frames[..6]);
                 let z2 = frames[1].rotation * chain.joints()[1].axis.into_inner();
                 let z3 = frames[2].rotation * chain.joints()[2].axis.into_inner();
-                // Axes 2 and 3 parallel within 1e-6 rad: URDF angle rounding is far below.
-                if z2.cross(&z3).norm() < 1e-6 {
+                // Axes 2 and 3 parallel within the tolerance the closed-form detection uses.
+                if z2.cross(&z3).norm() < super::AXIS_ANGLE_TOLERANCE {
                     wrist_centre_in_j4 = Some(frames[3].inverse_transform_point(&c.into()).coords);
                 }
             }

@@ -17,6 +17,13 @@ pub struct WristCheck {
     pub reason: Option<String>,
 }
 
+/// Largest deviation (rad) from exact perpendicularity or parallelism of two axes that still
+/// counts as exact, in every arm-family test (the closed-form solver's detection and the
+/// singularity classes). URDF files often write π/2 rounded to four or five decimals (1.5708 is
+/// off by 3.7e-6 rad); 1e-5 rad (0.0006°) accepts that and refuses every real design deviation
+/// (those are whole degrees or at least hundredths).
+pub const AXIS_ANGLE_TOLERANCE: f64 = 1e-5;
+
 /// Axes that miss a common point by less than this fraction of the reach count as meeting:
 /// URDF origins are written with ~6–9 significant digits, so 1e-6 of the reach (1 µm on a
 /// 1 m arm) is above rounding and far below any real wrist offset.

@@ -23,15 +23,13 @@
 //! c3 ≥ 0); axis 5 the URDF's own sense (sign +1; this fixes which branch is "noflip");
 //! axis 6 from the wrist centre toward the flange (c4 ≥ 0).
 
-use super::{model_fk, Geometry};
+use super::geometry::{model_fk, Geometry};
 use crate::robot::{spherical_wrist, Robot};
 use nalgebra::{Isometry3, Matrix3, Rotation3, Translation3, UnitQuaternion, Vector3};
 
-/// Largest deviation (rad) from exact perpendicularity or parallelism of two axes that still
-/// counts as exact. URDF files often write π/2 rounded to four or five decimals (1.5708 is
-/// off by 3.7e-6 rad); 1e-5 rad (0.0006°) accepts that and refuses every real design deviation
-/// (those are whole degrees or at least hundredths).
-pub(super) const ANGLE_TOLERANCE: f64 = 1e-5;
+/// The one tolerance on axis angles, shared with the singularity classes so that an arm the
+/// closed form accepts also gets its singularities classified.
+use crate::robot::AXIS_ANGLE_TOLERANCE as ANGLE_TOLERANCE;
 
 /// Lengths below this fraction of the reach count as zero (a1 = 0, c3 = 0, ...). It is the
 /// tolerance the spherical-wrist check uses: above the rounding of URDF origins written with
