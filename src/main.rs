@@ -312,6 +312,11 @@ fn six(option: &str, text: &Option<String>) -> Result<Option<[f64; 6]>> {
 fn load_robot(sel: &RobotSel) -> Result<Robot> {
     let mut robot = load_urdf(&sel.robot, sel.tip.as_deref())?;
     if let Some(t) = six("--tool", &sel.tool)? {
+        armpath::robot::check_offset(
+            "--tool",
+            [t[0] * 1e-3, t[1] * 1e-3, t[2] * 1e-3],
+            [t[3].to_radians(), t[4].to_radians(), t[5].to_radians()],
+        )?;
         robot.set_tool(Isometry3::from_parts(
             Translation3::new(t[0] * 1e-3, t[1] * 1e-3, t[2] * 1e-3),
             armpath::rotation::from_rpy(t[3].to_radians(), t[4].to_radians(), t[5].to_radians()),
@@ -351,7 +356,7 @@ fn is_stdout(p: &Option<PathBuf>) -> bool {
 fn run_robot(a: RobotArgs) -> Result<u8> {
     check_output("--json", &a.json)?;
     let robot = load_urdf(&a.robot, a.tip.as_deref())?;
-    let mut info = RobotInfo::new(&robot);
+    let mut info = RobotInfo::new(&robot)?;
     info.closed_form = Some(match OrthoParallel::from_robot(&robot) {
         Ok(solver) => ClosedForm {
             family: Some("ortho-parallel base with spherical wrist"),

@@ -421,6 +421,26 @@ fn ik_refuses_poses_and_seeds_beyond_the_range() {
     }
 }
 
+#[test]
+fn tool_offset_beyond_the_range_is_refused() {
+    // source: armpath's MAX_LENGTH_M (100 m) and MAX_ORIGIN_ANGLE_RAD (two turns); before,
+    // --tool 1e308,... printed a 300-digit TCP position
+    let robot = repo("robots/arm6.urdf").display().to_string();
+    for (tool, expect) in [
+        ("1e308,0,0,0,0,0", "--tool: x = 1e308 mm"),
+        ("0,0,180,0,0,1e308", "--tool: yaw = 1e308 deg"),
+    ] {
+        let out = armpath()
+            .args(["fk", &robot, "--joints", "0,0,0,0,0,0", "--tool", tool])
+            .output()
+            .unwrap();
+        let err = String::from_utf8_lossy(&out.stderr);
+        assert_eq!(out.status.code(), Some(2), "{err}");
+        assert!(out.stdout.is_empty());
+        assert!(err.contains(expect), "{err}");
+    }
+}
+
 #[cfg(unix)]
 #[test]
 fn fifo_as_urdf_is_refused_without_blocking() {

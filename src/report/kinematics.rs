@@ -34,16 +34,23 @@ pub struct ClosedForm {
 }
 
 impl RobotInfo {
-    pub fn new(robot: &Robot) -> Self {
+    /// The robot's facts for display; an error when any computed length is not finite.
+    pub fn new(robot: &Robot) -> Result<Self> {
         let w = spherical_wrist(robot);
-        RobotInfo {
+        let info = RobotInfo {
             robot: RobotReport::new(robot),
             wrist_centre_mm: w
                 .centre_at_zero
                 .map(|c| [c[0] * 1e3, c[1] * 1e3, c[2] * 1e3]),
             wrist_note: w.reason,
             closed_form: None,
-        }
+        };
+        ensure_finite("robot reach (mm)", &[info.robot.reach_mm])?;
+        ensure_finite(
+            "wrist centre (mm)",
+            &info.wrist_centre_mm.unwrap_or_default(),
+        )?;
+        Ok(info)
     }
 
     pub fn render_text(&self) -> String {

@@ -186,33 +186,66 @@ impl Robot {
     }
 }
 
+/// The first of `values` (named by `names`) that is not finite or exceeds `bound` in size.
+fn first_outside<const N: usize>(
+    values: [f64; N],
+    names: [&'static str; N],
+    bound: f64,
+) -> Option<(f64, &'static str)> {
+    values
+        .into_iter()
+        .zip(names)
+        .find(|(v, _)| !(v.is_finite() && v.abs() <= bound))
+}
+
+/// A message for a position component (m) beyond [`MAX_LENGTH_M`], shown in mm.
+fn too_far(name: &str, v: f64, what: &str) -> String {
+    format!(
+        "{name} = {} mm lies beyond the ±{} mm armpath accepts: give the {what} in mm",
+        show(v * 1e3),
+        show(MAX_LENGTH_M * 1e3)
+    )
+}
+
+/// Refuse a mounting offset (a tool: xyz in m, rpy in rad) beyond [`MAX_LENGTH_M`] or
+/// [`MAX_ORIGIN_ANGLE_RAD`]; `option` names where it came from (`--tool`). Messages give mm
+/// and deg, the command line's units.
+pub fn check_offset(option: &str, xyz_m: [f64; 3], rpy_rad: [f64; 3]) -> Result<()> {
+    if let Some((v, name)) = first_outside(xyz_m, ["x", "y", "z"], MAX_LENGTH_M) {
+        return Err(Error::usage(option, too_far(name, v, "offset")));
+    }
+    let rpy = ["roll", "pitch", "yaw"];
+    if let Some((v, name)) = first_outside(rpy_rad, rpy, MAX_ORIGIN_ANGLE_RAD) {
+        return Err(Error::usage(
+            option,
+            format!(
+                "{name} = {} deg is more than two turns: give the angle in degrees within ±180",
+                show(v.to_degrees())
+            ),
+        ));
+    }
+    Ok(())
+}
+
 /// Refuse a target pose whose position (m, base frame) lies beyond [`MAX_LENGTH_M`] or whose
 /// quaternion (w, x, y, z) has a component beyond what a rotation can have.
 pub fn check_pose(option: &str, xyz_m: [f64; 3], wxyz: [f64; 4]) -> Result<()> {
-    for (v, name) in xyz_m.into_iter().zip(["x", "y", "z"]) {
-        if !(v.is_finite() && v.abs() <= MAX_LENGTH_M) {
-            return Err(Error::usage(
-                option,
-                format!(
-                    "{name} = {} mm lies beyond the ±{} mm armpath accepts: give the \
-                     position in mm in the base frame",
-                    show(v * 1e3),
-                    show(MAX_LENGTH_M * 1e3)
-                ),
-            ));
-        }
+    if let Some((v, name)) = first_outside(xyz_m, ["x", "y", "z"], MAX_LENGTH_M) {
+        return Err(Error::usage(
+            option,
+            too_far(name, v, "position in the base frame"),
+        ));
     }
-    for (v, name) in wxyz.into_iter().zip(["qw", "qx", "qy", "qz"]) {
-        if !(v.is_finite() && v.abs() <= MAX_QUATERNION_COMPONENT) {
-            return Err(Error::usage(
-                option,
-                format!(
-                    "{name} = {} is no part of a rotation (a unit quaternion has components \
-                     within ±1): give qw,qx,qy,qz of a unit quaternion",
-                    show(v)
-                ),
-            ));
-        }
+    let q = ["qw", "qx", "qy", "qz"];
+    if let Some((v, name)) = first_outside(wxyz, q, MAX_QUATERNION_COMPONENT) {
+        return Err(Error::usage(
+            option,
+            format!(
+                "{name} = {} is no part of a rotation (a unit quaternion has components \
+                 within ±1): give qw,qx,qy,qz of a unit quaternion",
+                show(v)
+            ),
+        ));
     }
     Ok(())
 }
@@ -266,5 +299,8 @@ mod tests {
         assert!(check_pose("--pose", [MAX_LENGTH_M; 3], [1.0, 0.0, 0.0, 0.0]).is_ok());
         assert!(check_pose("--pose", [0.0, 0.0, 101.0], [1.0, 0.0, 0.0, 0.0]).is_err());
         assert!(check_pose("--pose", [0.0; 3], [1e308, 0.0, 0.0, 0.0]).is_err());
+        assert!(check_offset("--tool", [MAX_LENGTH_M; 3], [MAX_ORIGIN_ANGLE_RAD; 3]).is_ok());
+        assert!(check_offset("--tool", [1e305, 0.0, 0.0], [0.0; 3]).is_err());
+        assert!(check_offset("--tool", [0.0; 3], [0.0, 0.0, 1e3]).is_err());
     }
 }
