@@ -168,6 +168,40 @@ fn limit_value_that_is_not_a_number_is_refused_naming_the_field() {
 }
 
 #[test]
+fn quaternion_origin_with_three_numbers_is_refused_with_its_line() {
+    // source: URDF 1.1 (origin quat_xyzw holds four numbers)
+    let text = arm6_with(J1_ORIGIN, "<origin xyz=\"0 0 0\" quat_xyzw=\"0 0 1\"/>").replacen(
+        "<robot name=\"armpath_arm6\">",
+        "<robot name=\"armpath_arm6\" version=\"1.1\">",
+        1,
+    );
+    let line = format!("(line {})", line_of(&text, "quat_xyzw"));
+    refused(
+        &text,
+        &[
+            "joint 'j1' <origin quat_xyzw>:",
+            "has 3 numbers",
+            "four, x y z w",
+            &line,
+        ],
+    );
+}
+
+#[test]
+fn joint_without_parent_and_element_without_name_are_located() {
+    // source: URDF specification (a joint has parent and child; links and joints are named)
+    let text = arm6_with("<parent link=\"base_link\"/>", "");
+    let line = format!("(line {})", line_of(&text, "<joint name=\"j1\""));
+    refused(&text, &["joint 'j1':", "no <parent> element", &line]);
+    let text = arm6_with("<child link=\"link1\"/>", "<child/>");
+    let line = format!("(line {})", line_of(&text, "<child/>"));
+    refused(&text, &["joint 'j1' <child>:", "no link attribute", &line]);
+    let text = arm6_with("<link name=\"link1\">", "<link>");
+    let line = format!("r.urdf: line {}:", line_of(&text, "<link>"));
+    refused(&text, &[&line, "<link> has no name attribute"]);
+}
+
+#[test]
 fn duplicate_link_and_joint_names_are_refused_with_both_lines() {
     // source: URDF specification (link and joint names are unique); lines by construction
     let text = arm6_plus("<link name=\"link1\"/>");
@@ -391,53 +425,58 @@ fn fk_refuses_joint_values_beyond_the_range_instead_of_printing_nan() {
     }
 }
 
+/// Run `armpath ARGS --json out.json` on arm6 in a fresh folder: exit code 2, nothing on
+/// stdout, no out.json, one error line containing `expect`.
+fn refused_command(args: &[&str], expect: &str) {
+    let dir = tempfile::tempdir().unwrap();
+    let robot = repo("robots/arm6.urdf").display().to_string();
+    let out = armpath()
+        .current_dir(dir.path())
+        .args([args[0], robot.as_str()])
+        .args(&args[1..])
+        .args(["--json", "out.json"])
+        .output()
+        .unwrap();
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert_eq!(out.status.code(), Some(2), "{err}");
+    assert!(out.stdout.is_empty());
+    assert_eq!(err.lines().count(), 1, "{err}");
+    assert!(err.contains(expect), "missing `{expect}` in: {err}");
+    assert!(!dir.path().join("out.json").exists());
+}
+
 #[test]
 fn ik_refuses_poses_and_seeds_beyond_the_range() {
     // source: armpath's MAX_LENGTH_M (100 m) and the unit quaternion (components within ±1)
-    let robot = repo("robots/arm6.urdf").display().to_string();
-    for (args, expect) in [
-        (vec!["--pose", "1e308,0,0,1,0,0,0"], "--pose: x = 1e308 mm"),
-        (
-            vec!["--pose", "900,0,500,1e308,0,0,0"],
-            "--pose: qw = 1e308",
-        ),
-        (
-            vec!["--pose", "900,0,500,0,1,0,0", "--seed", "1e308,0,0,0,0,0"],
-            "--seed: value 1 (joint 'j1')",
-        ),
-    ] {
-        let dir = tempfile::tempdir().unwrap();
-        let out = armpath()
-            .current_dir(dir.path())
-            .args(["ik", &robot])
-            .args(&args)
-            .args(["--json", "ik.json"])
-            .output()
-            .unwrap();
-        let err = String::from_utf8_lossy(&out.stderr);
-        assert_eq!(out.status.code(), Some(2), "{err}");
-        assert!(err.contains(expect), "{err}");
-        assert!(!dir.path().join("ik.json").exists());
-    }
+    refused_command(
+        &["ik", "--pose", "1e308,0,0,1,0,0,0"],
+        "--pose: x = 1e308 mm",
+    );
+    refused_command(
+        &["ik", "--pose", "900,0,500,1e308,0,0,0"],
+        "--pose: qw = 1e308",
+    );
+    refused_command(
+        &[
+            "ik",
+            "--pose",
+            "900,0,500,0,1,0,0",
+            "--seed",
+            "1e308,0,0,0,0,0",
+        ],
+        "--seed: value 1 (joint 'j1')",
+    );
 }
 
 #[test]
 fn tool_offset_beyond_the_range_is_refused() {
     // source: armpath's MAX_LENGTH_M (100 m) and MAX_ORIGIN_ANGLE_RAD (two turns); before,
     // --tool 1e308,... printed a 300-digit TCP position
-    let robot = repo("robots/arm6.urdf").display().to_string();
     for (tool, expect) in [
         ("1e308,0,0,0,0,0", "--tool: x = 1e308 mm"),
         ("0,0,180,0,0,1e308", "--tool: yaw = 1e308 deg"),
     ] {
-        let out = armpath()
-            .args(["fk", &robot, "--joints", "0,0,0,0,0,0", "--tool", tool])
-            .output()
-            .unwrap();
-        let err = String::from_utf8_lossy(&out.stderr);
-        assert_eq!(out.status.code(), Some(2), "{err}");
-        assert!(out.stdout.is_empty());
-        assert!(err.contains(expect), "{err}");
+        refused_command(&["fk", "--joints", "0,0,0,0,0,0", "--tool", tool], expect);
     }
 }
 

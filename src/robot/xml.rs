@@ -43,6 +43,9 @@ pub(super) struct JointSite {
     pub origin: Option<usize>,
     pub axis: Option<usize>,
     pub limit: Option<usize>,
+    /// Whether `<parent>` and `<child>` were seen.
+    parent: bool,
+    child: bool,
 }
 
 impl Sites {
@@ -100,10 +103,29 @@ pub(super) fn survey(text: &str, path: &Path) -> Result<Sites> {
     if let Err((line, message)) = scanned {
         return Err(Error::robot(path, format!("line {line}"), message));
     }
-    match first {
-        Some(e) => Err(e),
-        None => Ok(sites),
+    if let Some(e) = first {
+        return Err(e);
     }
+    // A joint without its parent or child link: the XML reader would say only which field.
+    let mut incomplete: Vec<(&String, &JointSite)> = sites
+        .joints
+        .iter()
+        .filter(|(_, s)| !(s.parent && s.child))
+        .collect();
+    incomplete.sort_by_key(|(_, s)| s.line);
+    if let Some((name, site)) = incomplete.first() {
+        let missing = if site.parent { "child" } else { "parent" };
+        return Err(Error::robot(
+            path,
+            format!("joint '{name}'"),
+            format!(
+                "has no <{missing}> element: add <{missing} link=\"...\"/>, every joint names \
+                 its parent and child links (line {})",
+                site.line
+            ),
+        ));
+    }
+    Ok(sites)
 }
 
 fn visit(
@@ -120,9 +142,15 @@ fn visit(
             "joint" => true,
             _ => return Ok(()),
         };
-        // A missing name is left to the XML reader, which requires it.
         let Some(name) = attribute(tag.attrs, "name") else {
-            return Ok(());
+            return Err(Error::robot(
+                path,
+                format!("line {line}"),
+                format!(
+                    "<{0}> has no name attribute: give every {0} a name, e.g. <{0} name=\"...\">",
+                    tag.name
+                ),
+            ));
         };
         let this = Owner { joint, name };
         let earlier = if joint {
@@ -182,16 +210,16 @@ fn visit(
     let Some(owner) = owner.as_ref().filter(|_| tag.depth >= 2) else {
         return Ok(());
     };
-    let vectors: &[&str] = match tag.name {
-        "origin" => &["xyz", "rpy"],
-        "axis" => &["xyz"],
-        "box" => &["size"],
-        "mesh" => &["scale"],
+    let vectors: &[(&str, usize)] = match tag.name {
+        "origin" => &[("xyz", 3), ("rpy", 3), ("quat_xyzw", 4)],
+        "axis" => &[("xyz", 3)],
+        "box" => &[("size", 3)],
+        "mesh" => &[("scale", 3)],
         _ => &[],
     };
-    for key in vectors {
+    for &(key, count) in vectors {
         if let Some(v) = attribute(tag.attrs, key) {
-            three_numbers(&v).map_err(|m| {
+            numbers(&v, count).map_err(|m| {
                 Error::robot(
                     path,
                     format!("{} <{} {key}>", owner.label(), tag.name),
@@ -205,6 +233,23 @@ fn visit(
             return Ok(());
         };
         match tag.name {
+            "parent" | "child" => {
+                if attribute(tag.attrs, "link").is_none() {
+                    return Err(Error::robot(
+                        path,
+                        format!("{} <{}>", owner.label(), tag.name),
+                        format!(
+                            "has no link attribute: write <{} link=\"...\"/> (line {line})",
+                            tag.name
+                        ),
+                    ));
+                }
+                if tag.name == "parent" {
+                    site.parent = true;
+                } else {
+                    site.child = true;
+                }
+            }
             "origin" => site.origin = Some(line),
             "axis" => site.axis = Some(line),
             "limit" => {
@@ -231,27 +276,33 @@ fn visit(
     Ok(())
 }
 
-/// A URDF vector attribute must hold exactly three numbers separated by spaces (the XML
-/// reader would otherwise skip words that are not numbers and count the rest).
-fn three_numbers(v: &str) -> std::result::Result<(), String> {
+/// A URDF vector attribute must hold exactly `want` (3 or 4) numbers separated by spaces (the
+/// XML reader would otherwise skip words that are not numbers and count the rest).
+fn numbers(v: &str, want: usize) -> std::result::Result<(), String> {
+    let (words, example) = if want == 4 {
+        ("four, x y z w", "0 0 0 1")
+    } else {
+        ("three, x y z", "0 0 1")
+    };
     let mut count = 0;
     for word in v.split_whitespace() {
         if word.parse::<f64>().is_err() {
             return Err(format!(
-                "'{}' in \"{}\" is not a number: write three numbers separated by spaces, \
-                 e.g. \"0 0 1\"",
+                "'{}' in \"{}\" is not a number: write {} numbers separated by spaces, e.g. \
+                 \"{example}\"",
                 clip(word),
-                clip(v)
+                clip(v),
+                &words[..words.find(',').unwrap_or(words.len())]
             ));
         }
         count += 1;
     }
-    if count == 3 {
+    if count == want {
         Ok(())
     } else {
         Err(format!(
-            "has {count} number{} (\"{}\") where URDF expects three, x y z: write three numbers \
-             separated by spaces",
+            "has {count} number{} (\"{}\") where URDF expects {words}: write them separated \
+             by spaces",
             if count == 1 { "" } else { "s" },
             clip(v)
         ))
