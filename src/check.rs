@@ -163,6 +163,17 @@ pub fn check(
     });
     report.path.start.config = start.config.map(|c| c.to_string());
     report.configurations = table;
+    if let Some(field) = report.first_non_finite() {
+        return Err(Error::robot(
+            robot.source(),
+            "report",
+            format!(
+                "{field} is not a finite number, so no report is written: check the robot's \
+                 origins and limits, the tool, the work frame and the path values for extreme \
+                 magnitudes"
+            ),
+        ));
+    }
     Ok(report)
 }
 

@@ -312,6 +312,11 @@ fn six(option: &str, text: &Option<String>) -> Result<Option<[f64; 6]>> {
 fn load_robot(sel: &RobotSel) -> Result<Robot> {
     let mut robot = load_urdf(&sel.robot, sel.tip.as_deref())?;
     if let Some(t) = six("--tool", &sel.tool)? {
+        armpath::robot::check_offset(
+            "--tool",
+            [t[0] * 1e-3, t[1] * 1e-3, t[2] * 1e-3],
+            [t[3].to_radians(), t[4].to_radians(), t[5].to_radians()],
+        )?;
         robot.set_tool(Isometry3::from_parts(
             Translation3::new(t[0] * 1e-3, t[1] * 1e-3, t[2] * 1e-3),
             armpath::rotation::from_rpy(t[3].to_radians(), t[4].to_radians(), t[5].to_radians()),
@@ -323,7 +328,7 @@ fn load_robot(sel: &RobotSel) -> Result<Robot> {
 /// Joint values from the command line into SI, checking the count.
 fn joints_si(robot: &Robot, option: &str, text: &str, rad: bool) -> Result<Vec<f64>> {
     let v = numbers(option, text, Some(robot.dof()))?;
-    Ok(robot
+    let q: Vec<f64> = robot
         .joints()
         .iter()
         .zip(v)
@@ -332,7 +337,9 @@ fn joints_si(robot: &Robot, option: &str, text: &str, rad: bool) -> Result<Vec<f
             (false, true) => x * 1e-3,
             (false, false) => x.to_radians(),
         })
-        .collect())
+        .collect();
+    robot.check_joint_values(option, &q)?;
+    Ok(q)
 }
 
 fn write_json<T: serde::Serialize>(path: &Path, value: &T) -> Result<()> {
@@ -349,7 +356,7 @@ fn is_stdout(p: &Option<PathBuf>) -> bool {
 fn run_robot(a: RobotArgs) -> Result<u8> {
     check_output("--json", &a.json)?;
     let robot = load_urdf(&a.robot, a.tip.as_deref())?;
-    let mut info = RobotInfo::new(&robot);
+    let mut info = RobotInfo::new(&robot)?;
     info.closed_form = Some(match OrthoParallel::from_robot(&robot) {
         Ok(solver) => ClosedForm {
             family: Some("ortho-parallel base with spherical wrist"),
@@ -382,7 +389,7 @@ fn run_fk(a: FkArgs) -> Result<u8> {
         .filter(|(j, v)| !j.contains(**v))
         .map(|(j, _)| j.name.as_str())
         .collect();
-    let pose = PoseReport::new(&robot.chain().fk(&q));
+    let pose = PoseReport::new(&robot.chain().fk(&q))?;
     if !is_stdout(&a.json) {
         print!("{}", pose.render_text());
         if !outside.is_empty() {
@@ -402,6 +409,11 @@ fn run_ik(a: IkArgs) -> Result<u8> {
     check_output("--json", &a.json)?;
     let robot = load_robot(&a.sel)?;
     let p = numbers("--pose", &a.pose, Some(7))?;
+    armpath::robot::check_pose(
+        "--pose",
+        [p[0] * 1e-3, p[1] * 1e-3, p[2] * 1e-3],
+        [p[3], p[4], p[5], p[6]],
+    )?;
     let (rot, norm) =
         armpath::rotation::quat_from_wxyz([p[3], p[4], p[5], p[6]]).ok_or_else(|| {
             Error::usage(
@@ -428,7 +440,7 @@ fn run_ik(a: IkArgs) -> Result<u8> {
             solutions: solutions
                 .iter()
                 .map(|s| {
-                    let mut r = IkSolutionReport::new(&robot, &s.joints, &target);
+                    let mut r = IkSolutionReport::new(&robot, &s.joints, &target)?;
                     r.config = Some(s.config.to_string());
                     r.winding = Some(s.winding.iter().map(|&w| w as i32).collect());
                     let sp = &s.special;
@@ -442,9 +454,9 @@ fn run_ik(a: IkArgs) -> Result<u8> {
                             r.flags.push(name.to_string());
                         }
                     }
-                    r
+                    Ok(r)
                 })
-                .collect(),
+                .collect::<Result<_>>()?,
             solver: "closed_form",
         };
         if !is_stdout(&a.json) {
@@ -470,7 +482,7 @@ fn run_ik(a: IkArgs) -> Result<u8> {
     };
     let report = IkReport {
         solutions: if outcome.converged {
-            vec![IkSolutionReport::new(&robot, &q, &target)]
+            vec![IkSolutionReport::new(&robot, &q, &target)?]
         } else {
             Vec::new()
         },

@@ -1,6 +1,7 @@
 //! Reports of the small commands: `robot`, `fk`, `ik`.
 
 use super::{joint_display, RobotReport};
+use crate::error::{Error, Result};
 use crate::robot::{spherical_wrist, Robot};
 use crate::rotation;
 use nalgebra::Isometry3;
@@ -33,16 +34,23 @@ pub struct ClosedForm {
 }
 
 impl RobotInfo {
-    pub fn new(robot: &Robot) -> Self {
+    /// The robot's facts for display; an error when any computed length is not finite.
+    pub fn new(robot: &Robot) -> Result<Self> {
         let w = spherical_wrist(robot);
-        RobotInfo {
+        let info = RobotInfo {
             robot: RobotReport::new(robot),
             wrist_centre_mm: w
                 .centre_at_zero
                 .map(|c| [c[0] * 1e3, c[1] * 1e3, c[2] * 1e3]),
             wrist_note: w.reason,
             closed_form: None,
-        }
+        };
+        ensure_finite("robot reach (mm)", &[info.robot.reach_mm])?;
+        ensure_finite(
+            "wrist centre (mm)",
+            &info.wrist_centre_mm.unwrap_or_default(),
+        )?;
+        Ok(info)
     }
 
     pub fn render_text(&self) -> String {
@@ -122,15 +130,37 @@ pub struct PoseReport {
     pub rpy_deg: [f64; 3],
 }
 
+/// Refuse a report value that is not a finite number: NaN or infinity must never reach text
+/// or JSON. `what` names the quantity, `values` its components.
+fn ensure_finite(what: &str, values: &[f64]) -> Result<()> {
+    if values.iter().all(|v| v.is_finite()) {
+        return Ok(());
+    }
+    let shown: Vec<String> = values.iter().map(|v| v.to_string()).collect();
+    Err(Error::usage(
+        what,
+        format!(
+            "came out as ({}), not finite numbers: check the robot's origins, the tool and the \
+             joint values for extreme magnitudes",
+            shown.join(", ")
+        ),
+    ))
+}
+
 impl PoseReport {
-    pub fn new(pose: &Isometry3<f64>) -> Self {
+    /// The pose for display; an error when any of its numbers is not finite.
+    pub fn new(pose: &Isometry3<f64>) -> Result<Self> {
         let t = pose.translation.vector * 1e3;
         let (r, p, y) = rotation::to_rpy(&pose.rotation);
-        PoseReport {
+        let report = PoseReport {
             xyz_mm: [t.x, t.y, t.z],
             quat_wxyz: rotation::quat_to_wxyz(&pose.rotation),
             rpy_deg: [r.to_degrees(), p.to_degrees(), y.to_degrees()],
-        }
+        };
+        ensure_finite("TCP position (mm)", &report.xyz_mm)?;
+        ensure_finite("TCP quaternion", &report.quat_wxyz)?;
+        ensure_finite("TCP rpy (deg)", &report.rpy_deg)?;
+        Ok(report)
     }
 
     pub fn render_text(&self) -> String {
@@ -162,10 +192,11 @@ pub struct IkSolutionReport {
 }
 
 impl IkSolutionReport {
-    /// A solution `q` (SI) with its residual against `target` computed by FK.
-    pub fn new(robot: &Robot, q: &[f64], target: &Isometry3<f64>) -> Self {
+    /// A solution `q` (SI) with its residual against `target` computed by FK; an error when
+    /// any of its numbers is not finite.
+    pub fn new(robot: &Robot, q: &[f64], target: &Isometry3<f64>) -> Result<Self> {
         let pose = robot.chain().fk(q);
-        IkSolutionReport {
+        let report = IkSolutionReport {
             joints_deg: robot
                 .joints()
                 .iter()
@@ -177,7 +208,13 @@ impl IkSolutionReport {
             config: None,
             winding: None,
             flags: Vec::new(),
-        }
+        };
+        ensure_finite("IK solution joints", &report.joints_deg)?;
+        ensure_finite(
+            "IK solution residual (mm, deg)",
+            &[report.residual_mm, report.residual_deg],
+        )?;
+        Ok(report)
     }
 }
 
@@ -231,5 +268,29 @@ impl IkReport {
             );
         }
         o
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use nalgebra::{Translation3, UnitQuaternion};
+
+    #[test]
+    fn a_pose_with_a_non_finite_number_becomes_an_error() {
+        // source: common practice (IEEE 754: inf - inf and 0 * inf are NaN)
+        let ok =
+            Isometry3::from_parts(Translation3::new(0.5, 0.0, 1.0), UnitQuaternion::identity());
+        let r = PoseReport::new(&ok).unwrap();
+        assert_eq!(r.xyz_mm, [500.0, 0.0, 1000.0]);
+        for bad in [f64::INFINITY, f64::NAN] {
+            let pose =
+                Isometry3::from_parts(Translation3::new(bad, 0.0, 0.0), UnitQuaternion::identity());
+            let e = PoseReport::new(&pose).unwrap_err().to_string();
+            assert!(
+                e.contains("TCP position") && e.contains("not finite"),
+                "{e}"
+            );
+        }
     }
 }

@@ -317,6 +317,54 @@ impl Report {
         }
     }
 
+    /// The first number of the report that is not finite, by field name. NaN or infinity
+    /// would print as text and vanish as `null` in JSON; the check refuses such a report.
+    pub fn first_non_finite(&self) -> Option<String> {
+        let p = &self.path;
+        let s = &self.summary;
+        let fields = [
+            ("path.speed_mm_s", p.speed_mm_s),
+            (
+                "path.tool_angular_speed_limit_deg_s",
+                p.tool_angular_speed_limit_deg_s,
+            ),
+            ("path.joint_speed_scale", p.joint_speed_scale),
+            ("path.step_mm", p.step_mm),
+            ("path.angle_step_deg", p.angle_step_deg),
+            ("robot.reach_mm", self.robot.reach_mm),
+            ("summary.length_mm", s.length_mm),
+            ("summary.duration_s", s.duration_s),
+            (
+                "summary.max_tool_angular_speed_deg_s",
+                s.max_tool_angular_speed_deg_s,
+            ),
+            ("summary.max_joint_speed_ratio", s.max_joint_speed_ratio),
+        ];
+        let optional = [
+            ("summary.min_singularity", s.min_singularity),
+            ("summary.min_singularity_s_mm", s.min_singularity_s_mm),
+            ("summary.min_limit_margin_ratio", s.min_limit_margin_ratio),
+        ];
+        let start = p.start.joints.iter().map(|&v| ("path.start.joints", v));
+        let findings = self.findings.iter().flat_map(|f| {
+            let pairs = [f.s_mm, f.t_s].into_iter().flatten().flatten();
+            let single = [f.value, f.limit].into_iter().flatten();
+            let deltas = f.joint_deltas.iter().flat_map(|d| d.values().copied());
+            pairs
+                .chain(single)
+                .chain(deltas)
+                .map(|v| ("findings", v))
+                .collect::<Vec<_>>()
+        });
+        fields
+            .into_iter()
+            .chain(optional.into_iter().filter_map(|(n, v)| v.map(|v| (n, v))))
+            .chain(start)
+            .chain(findings)
+            .find(|(_, v)| !v.is_finite())
+            .map(|(name, v)| format!("{name} = {v}"))
+    }
+
     /// Exit code for this report: 1 when there are error findings, else 0.
     pub fn exit_code(&self) -> i32 {
         if self.summary.errors > 0 {
@@ -324,5 +372,42 @@ impl Report {
         } else {
             0
         }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use std::path::Path;
+
+    #[test]
+    fn a_report_with_a_non_finite_number_names_the_field() {
+        // source: common practice (IEEE 754: NaN and infinity are not finite)
+        let dir = Path::new(env!("CARGO_MANIFEST_DIR"));
+        let job = crate::job::load(
+            &dir.join("paths/bracket_fillet.yaml"),
+            &crate::job::Overrides::default(),
+        )
+        .unwrap();
+        let robot = crate::robot::load_urdf(&dir.join("robots/arm6.urdf"), None).unwrap();
+        let report = crate::check::check(
+            &job,
+            &robot,
+            &crate::check::CheckOptions::default(),
+            &mut [],
+        )
+        .unwrap();
+        assert_eq!(report.first_non_finite(), None);
+        let mut broken = report.clone();
+        broken.summary.length_mm = f64::NAN;
+        assert_eq!(
+            broken.first_non_finite().as_deref(),
+            Some("summary.length_mm = NaN")
+        );
+        let mut broken = report;
+        broken.path.start.joints[2] = f64::INFINITY;
+        assert_eq!(
+            broken.first_non_finite().as_deref(),
+            Some("path.start.joints = inf")
+        );
     }
 }

@@ -3,11 +3,17 @@
 mod chain;
 mod fastmath;
 mod load;
+mod ranges;
 mod singularity;
 mod wrist;
+mod xml;
 
 pub use chain::{manipulability, scaled_jjt, Chain, ChainJoint, Jacobian, JointKind, MAX_DOF};
 pub use load::{from_urdf_str, load_urdf};
+pub use ranges::{
+    check_offset, check_pose, MAX_EFFORT, MAX_JOINT_SPEED, MAX_LENGTH_M, MAX_ORIGIN_ANGLE_RAD,
+    MAX_REVOLUTE_TURNS, MIN_JOINT_SPEED,
+};
 pub use singularity::{SingularityClass, SingularityModel};
 pub use wrist::{spherical_wrist, WristCheck, AXIS_ANGLE_TOLERANCE};
 
