@@ -14,7 +14,8 @@ mod plots;
 mod views;
 
 pub use data::{
-    position_at, Bucket, Envelope, PlotData, PlotJoint, Trace, TracePoint, BUCKETS, TRACE_POINTS,
+    position_at, Bucket, Envelope, PlotData, PlotJoint, Trace, TracePoint, WaypointAt, BUCKETS,
+    TRACE_POINTS,
 };
 pub use page::{escape, MAX_ROWS};
 
