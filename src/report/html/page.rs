@@ -132,14 +132,14 @@ pub fn render(report: &Report, data: &PlotData) -> String {
     let _ = writeln!(
         o,
         "<header><h1>Path check: <span class=\"mono\">{}</span></h1>\
-         <p class=\"sub\">robot {} · {} joints · {} wrist · armpath {}</p>\
+         <p class=\"sub\">robot {} · {} · {} wrist · armpath {}</p>\
          <nav><a href=\"#findings\">Findings</a><a href=\"#along\">Along the path</a>\
          <a href=\"#over-time\">Over time</a>\
          <a href=\"#views\">Path views</a><a href=\"#settings\">Settings</a>\
          <a href=\"#cautions\">Cautions</a></nav></header>",
         escape(&p.file),
         escape(&r.name),
-        r.dof,
+        count(r.dof, "joint"),
         if r.spherical_wrist {
             "spherical"
         } else {
@@ -160,9 +160,10 @@ pub fn render(report: &Report, data: &PlotData) -> String {
     o.push_str("</ul>\n");
     let _ = write!(
         o,
-        "<footer>Written by armpath {} from {} samples. This page is self-contained: \
+        "<footer>Written by armpath {} from {}. This page is self-contained: \
          no scripts, no fonts or images from elsewhere.</footer>\n</main></body></html>\n",
-        report.armpath_version, s.samples
+        report.armpath_version,
+        count(s.samples, "sample")
     );
     o
 }
@@ -190,13 +191,15 @@ fn verdict(o: &mut String, report: &Report) {
     key(
         "path",
         format!(
-            "{:.1} mm · {:.2} s · {} samples",
-            s.length_mm, s.duration_s, s.samples
+            "{:.1} mm · {:.2} s · {}",
+            s.length_mm,
+            s.duration_s,
+            count(s.samples, "sample")
         ),
     );
     key(
         "waypoints",
-        format!("{} · {} segments", p.waypoints.len(), p.segments),
+        format!("{} · {}", p.waypoints.len(), count(p.segments, "segment")),
     );
     key(
         "closest singularity",
@@ -294,9 +297,9 @@ fn findings(o: &mut String, report: &Report, figs: &Figures, names: &[String]) {
     if report.findings.len() > MAX_ROWS {
         let _ = writeln!(
             o,
-            "<p class=\"note\">{} more findings are not listed here; the JSON report \
+            "<p class=\"note\">{} not listed here; the JSON report \
              (<code>--json</code>) lists them all.</p>",
-            report.findings.len() - MAX_ROWS
+            count(report.findings.len() - MAX_ROWS, "more finding")
         );
     }
     if figs.places.len() >= figures::MAX_MARKED {
@@ -428,13 +431,13 @@ fn settings(o: &mut String, report: &Report, data: &PlotData) {
         o,
         "<h2 id=\"settings\">Settings</h2><div class=\"grid2\"><div><h3>Robot</h3>\
          <table><tbody><tr><th>name</th><td>{}</td></tr><tr><th>URDF</th><td class=\"mono\">{}</td></tr>\
-         <tr><th>chain</th><td>{} → {} · {} joints</td></tr><tr><th>wrist</th><td>{}</td></tr>\
+         <tr><th>chain</th><td>{} → {} · {}</td></tr><tr><th>wrist</th><td>{}</td></tr>\
          <tr><th>reach</th><td>≈ {:.0} mm</td></tr></tbody></table>",
         escape(&r.name),
         escape(&r.urdf),
         escape(&r.root_link),
         escape(&r.tip_link),
-        r.dof,
+        count(r.dof, "joint"),
         if r.spherical_wrist {
             "spherical"
         } else {
