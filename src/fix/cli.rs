@@ -228,8 +228,11 @@ fn place_text(r: &PlaceReport<'_>) -> String {
     let mut out = String::new();
     let _ = writeln!(
         out,
-        "armpath place  {}\n{} placements checked in {:.2} s on {} threads\n",
-        r.file, r.placements, r.seconds, r.threads
+        "armpath place  {}\n{} checked in {:.2} s on {}\n",
+        crate::report::visible(&r.file),
+        crate::report::count(r.placements, "placement"),
+        r.seconds,
+        crate::report::count(r.threads, "thread")
     );
     let (l, a) = (r.length_unit, r.angle_unit);
     let _ = writeln!(

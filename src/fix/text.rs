@@ -8,7 +8,7 @@ use super::FixReport;
 fn num(v: f64, d: usize) -> String {
     num_fixed(v, d)
 }
-use crate::report::Summary;
+use crate::report::{visible as v, Summary};
 use std::fmt::Write;
 
 fn opt(v: Option<f64>, decimals: usize) -> String {
@@ -30,7 +30,7 @@ fn rows(s: &Summary) -> Vec<(&'static str, String)> {
                 s.max_joint_speed_ratio,
                 s.max_joint_speed_joint
                     .as_ref()
-                    .map(|j| format!(" ({j})"))
+                    .map(|j| format!(" ({})", v(j)))
                     .unwrap_or_default()
             ),
         ),
@@ -49,7 +49,7 @@ fn rows(s: &Summary) -> Vec<(&'static str, String)> {
 /// The report as terminal text.
 pub fn render_fix_text(r: &FixReport) -> String {
     let mut out = String::new();
-    let _ = writeln!(out, "armpath fix  {}", r.file);
+    let _ = writeln!(out, "armpath fix  {}", v(&r.file));
     let _ = writeln!(out);
     let _ = writeln!(out, "Segment speeds ({}):", r.speed_unit);
     let _ = writeln!(
@@ -58,7 +58,7 @@ pub fn render_fix_text(r: &FixReport) -> String {
         "seg", "from → to", "programmed", "ratio", "largest ok", "limited by", "proposed"
     );
     for s in &r.speeds {
-        let route = format!("{} → {}", s.from, s.to);
+        let route = format!("{} → {}", v(&s.from), v(&s.to));
         let kind = match (s.motion, s.process) {
             (crate::job::Motion::Joint, _) => " (joint move)",
             (_, true) => " (process)",
@@ -72,11 +72,11 @@ pub fn render_fix_text(r: &FixReport) -> String {
             num(s.programmed, 4),
             s.ratio,
             s.max_speed.map(|v| num(v, 2)).unwrap_or_else(|| "-".into()),
-            s.limited_by,
+            v(&s.limited_by),
             s.proposed.map(|v| num(v, 4)).unwrap_or_else(|| "-".into())
         );
         if let Some(n) = &s.note {
-            let _ = writeln!(out, "       note: {n}");
+            let _ = writeln!(out, "       note: {}", v(n));
         }
     }
     let _ = writeln!(out);
@@ -84,11 +84,12 @@ pub fn render_fix_text(r: &FixReport) -> String {
     if let Some(used) = &c.used {
         let _ = writeln!(
             out,
-            "Arm configuration: the check follows {used}; runs the whole path: {}",
+            "Arm configuration: the check follows {}; runs the whole path: {}",
+            v(used),
             if c.running.is_empty() {
                 "none".to_string()
             } else {
-                c.running.join(", ")
+                v(&c.running.join(", ")).into_owned()
             }
         );
     }
@@ -99,7 +100,7 @@ pub fn render_fix_text(r: &FixReport) -> String {
             num(s.min_spin, 1),
             num(s.max_spin, 1),
             s.angle_unit,
-            s.config,
+            v(&s.config),
             s.margin,
             s.min_singularity,
             s.min_limit_margin,
@@ -113,7 +114,7 @@ pub fn render_fix_text(r: &FixReport) -> String {
         );
     }
     if let Some(n) = &r.spin_note {
-        let _ = writeln!(out, "Tool spin: {n}");
+        let _ = writeln!(out, "Tool spin: {}", v(n));
     }
     let _ = writeln!(out);
     if r.changes.is_empty() {
@@ -121,10 +122,10 @@ pub fn render_fix_text(r: &FixReport) -> String {
     } else {
         let _ = writeln!(out, "Amended:");
         for ch in &r.changes {
-            let _ = writeln!(out, "  - {ch}");
+            let _ = writeln!(out, "  - {}", v(ch));
         }
         if let Some(f) = &r.amended_file {
-            let _ = writeln!(out, "  written to {f}");
+            let _ = writeln!(out, "  written to {}", v(f));
         }
     }
     let _ = writeln!(out);

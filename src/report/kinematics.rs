@@ -1,5 +1,6 @@
 //! Reports of the small commands: `robot`, `fk`, `ik`.
 
+use super::escape::{count, visible as v};
 use super::{joint_display, RobotReport};
 use crate::error::{Error, Result};
 use crate::robot::{spherical_wrist, Robot};
@@ -56,11 +57,14 @@ impl RobotInfo {
     pub fn render_text(&self) -> String {
         let r = &self.robot;
         let mut o = String::new();
-        let _ = writeln!(o, "{} · {}", r.name, r.urdf);
+        let _ = writeln!(o, "{} · {}", v(&r.name), v(&r.urdf));
         let _ = writeln!(
             o,
-            "  chain    {} → {} · {} joints · reach ≈ {:.0} mm (sampled, from joint 1's origin)",
-            r.root_link, r.tip_link, r.dof, r.reach_mm
+            "  chain    {} → {} · {} · reach ≈ {:.0} mm (sampled, from joint 1's origin)",
+            v(&r.root_link),
+            v(&r.tip_link),
+            count(r.dof, "joint"),
+            r.reach_mm
         );
         match (&self.wrist_centre_mm, &self.wrist_note) {
             (Some(c), _) => {
@@ -71,7 +75,7 @@ impl RobotInfo {
                 );
             }
             (None, Some(n)) => {
-                let _ = writeln!(o, "  wrist    not spherical: {n}");
+                let _ = writeln!(o, "  wrist    not spherical: {}", v(n));
             }
             _ => {}
         }
@@ -96,7 +100,7 @@ impl RobotInfo {
             Some(ClosedForm {
                 reason: Some(r), ..
             }) => {
-                let _ = writeln!(o, "  IK       numerical (no closed form: {r})");
+                let _ = writeln!(o, "  IK       numerical (no closed form: {})", v(r));
             }
             _ => {}
         }
@@ -115,7 +119,11 @@ impl RobotInfo {
             let _ = writeln!(
                 o,
                 "  {:<12} {:<11} {:>22} {:>9.1} {}/s",
-                j.name, kind, range, j.velocity, j.unit
+                v(&j.name),
+                kind,
+                range,
+                j.velocity,
+                j.unit
             );
         }
         o
@@ -236,12 +244,15 @@ impl IkReport {
             );
             return o;
         }
-        let names: Vec<String> = robot.joints().iter().map(|j| j.name.clone()).collect();
+        let names: Vec<String> = robot
+            .joints()
+            .iter()
+            .map(|j| v(&j.name).into_owned())
+            .collect();
         let _ = writeln!(
             o,
-            "{} solution{} ({} solver)",
-            self.solutions.len(),
-            if self.solutions.len() == 1 { "" } else { "s" },
+            "{} ({} solver)",
+            count(self.solutions.len(), "solution"),
             self.solver
         );
         let _ = write!(o, "  {:>4}", "#");
@@ -251,19 +262,19 @@ impl IkReport {
         let _ = writeln!(o, "  {:>11}  {:>11}  config", "residual mm", "residual °");
         for (i, s) in self.solutions.iter().enumerate() {
             let _ = write!(o, "  {:>4}", i + 1);
-            for v in &s.joints_deg {
-                let _ = write!(o, " {v:>9.3}");
+            for q in &s.joints_deg {
+                let _ = write!(o, " {q:>9.3}");
             }
             let _ = writeln!(
                 o,
                 "  {:>11.2e}  {:>11.2e}  {}{}",
                 s.residual_mm,
                 s.residual_deg,
-                s.config.clone().unwrap_or_default(),
+                v(s.config.as_deref().unwrap_or_default()),
                 if s.flags.is_empty() {
                     String::new()
                 } else {
-                    format!(" [{}]", s.flags.join(", "))
+                    format!(" [{}]", v(&s.flags.join(", ")))
                 }
             );
         }

@@ -2,16 +2,18 @@
 //! as JSON, and the joint trajectory as CSV. Values here are in display units (mm, deg, s):
 //! the conversion from SI happens once, when the report is built.
 
+mod escape;
 pub mod html;
 mod joints_csv;
 pub mod kinematics;
 mod text;
 
+pub use escape::{count, visible};
 pub use joints_csv::JointsCsv;
 pub use text::{render_text, Style};
 
 use crate::assess::{Extremes, Finding, Severity};
-use crate::job::Job;
+use crate::job::{Job, Motion};
 use crate::plan::Plan;
 use crate::robot::{spherical_wrist, JointKind, Robot};
 use crate::solve::{StartChoice, WalkTotals};
@@ -112,18 +114,77 @@ pub struct StartReport {
     pub config: Option<String>,
 }
 
+impl StartReport {
+    /// How the start was chosen, in words (`best of 4 configurations reaching the first pose`).
+    pub fn how(&self) -> String {
+        match self.method {
+            "start_joints" => "from start_joints".to_string(),
+            "search" if self.config.is_some() => format!(
+                "best of {} reaching the first pose",
+                count(self.alternatives, "configuration")
+            ),
+            "search" => format!(
+                "best of {} found for the first pose",
+                count(self.alternatives, "solution")
+            ),
+            _ => "first pose not reachable".to_string(),
+        }
+    }
+}
+
+/// The tool as the check used it.
+#[derive(Debug, Clone, Serialize)]
+pub struct ToolReport {
+    /// TCP in the tip-link frame.
+    pub tip_T_tcp: kinematics::PoseReport,
+    pub free_spin: bool,
+    /// Allowed spin about tool z (deg), when `free_spin`.
+    pub spin_range_deg: [f64; 2],
+    /// Largest rate of spin change (deg/s), if limited.
+    pub spin_rate_deg_s: Option<f64>,
+}
+
+/// One planned segment: the inputs its timing comes from.
+#[derive(Debug, Clone, Serialize)]
+pub struct SegmentReport {
+    pub index: usize,
+    pub from: String,
+    pub to: String,
+    pub motion: Motion,
+    pub process: bool,
+    pub speed_mm_s: f64,
+    /// Straight-line TCP distance between the end poses.
+    pub length_mm: f64,
+    /// Orientation change between the end poses.
+    pub turn_deg: f64,
+    /// Planned duration; for a joint move a lower bound (the walk adds the joint-speed bound).
+    pub planned_s: f64,
+}
+
 #[derive(Debug, Clone, Serialize)]
 pub struct PathReport {
     pub file: String,
     pub waypoints: Vec<String>,
     pub segments: usize,
     pub speed_mm_s: f64,
+    /// Programmed reorientation speed, if set.
+    pub orientation_speed_deg_s: Option<f64>,
+    pub tool: ToolReport,
+    /// The work frame in the robot base frame (waypoints are given in it).
+    pub base_T_work: kinematics::PoseReport,
     pub tool_angular_speed_limit_deg_s: f64,
     pub joint_speed_scale: f64,
+    /// Margins to a joint limit that raise `near_joint_limit`: revolute (deg), prismatic (mm).
+    pub near_limit_margin_deg: f64,
+    pub near_limit_margin_mm: f64,
     pub step_mm: f64,
     pub angle_step_deg: f64,
     pub singularity_threshold: f64,
     pub start: StartReport,
+    /// Every segment with its motion, speed and planned time (the HTML page lists them; the
+    /// JSON leaves them out, since the path file has them).
+    #[serde(skip)]
+    pub segment_table: Vec<SegmentReport>,
 }
 
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
@@ -273,6 +334,48 @@ impl Report {
                 waypoints: r.job.waypoints.iter().map(|w| w.name.clone()).collect(),
                 segments: r.plan.segments.len(),
                 speed_mm_s: r.job.speed * 1e3,
+                orientation_speed_deg_s: r.job.orientation_speed.map(f64::to_degrees),
+                tool: ToolReport {
+                    tip_T_tcp: kinematics::PoseReport::new(&r.job.tool.tip_T_tcp),
+                    free_spin: r.job.tool.free_spin,
+                    spin_range_deg: [
+                        r.job.tool.spin_range.0.to_degrees(),
+                        r.job.tool.spin_range.1.to_degrees(),
+                    ],
+                    spin_rate_deg_s: r.job.tool.spin_rate.map(f64::to_degrees),
+                },
+                base_T_work: kinematics::PoseReport::new(&r.job.base_T_work),
+                near_limit_margin_deg: r.job.limits.near_limit_margin_angle.to_degrees(),
+                near_limit_margin_mm: r.job.limits.near_limit_margin_length * 1e3,
+                segment_table: r
+                    .plan
+                    .segments
+                    .iter()
+                    .map(|g| {
+                        let name = |i: usize| {
+                            r.job
+                                .waypoints
+                                .get(i)
+                                .map(|w| w.name.clone())
+                                .unwrap_or_default()
+                        };
+                        SegmentReport {
+                            index: g.index,
+                            from: name(g.index),
+                            to: name(g.index + 1),
+                            motion: g.motion,
+                            process: g.process,
+                            speed_mm_s: g.speed * 1e3,
+                            length_mm: g.length * 1e3,
+                            turn_deg: crate::rotation::angle_between(
+                                &g.start.rotation,
+                                &g.end.rotation,
+                            )
+                            .to_degrees(),
+                            planned_s: g.duration,
+                        }
+                    })
+                    .collect(),
                 tool_angular_speed_limit_deg_s: r.job.limits.tool_angular_speed.to_degrees(),
                 joint_speed_scale: r.job.limits.joint_speed_scale,
                 step_mm: r.job.sampling.step * 1e3,

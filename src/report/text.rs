@@ -1,9 +1,17 @@
 //! The terminal rendering of a report. Plain text unless colour is asked for; colour never
 //! carries meaning alone (every coloured word is also spelled out).
 
+use super::escape::{count, visible as v};
 use super::{Report, Verdict};
 use crate::assess::Severity;
+use std::collections::BTreeMap;
 use std::fmt::Write;
+
+/// Findings of one kind listed in the text, in path order; the rest are counted on one line
+/// that points to the JSON report. A zigzag of 100,000 short segments raises a finding per
+/// segment: listed in full that is tens of megabytes of text nobody reads, while the first
+/// few show the pattern and where it starts.
+pub const TEXT_FINDINGS_PER_KIND: usize = 20;
 
 /// How to render.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -37,14 +45,15 @@ pub fn render_text(report: &Report, style: Style) -> String {
     let _ = writeln!(
         o,
         "armpath {} · check of {}",
-        report.armpath_version, p.file
+        report.armpath_version,
+        v(&p.file)
     );
     let _ = writeln!(
         o,
-        "  robot    {} · {} joints · tip {} · {} wrist · reach ≈ {:.0} mm",
-        r.name,
-        r.dof,
-        r.tip_link,
+        "  robot    {} · {} · tip {} · {} wrist · reach ≈ {:.0} mm",
+        v(&r.name),
+        count(r.dof, "joint"),
+        v(&r.tip_link),
         if r.spherical_wrist {
             "spherical"
         } else {
@@ -56,20 +65,9 @@ pub fn render_text(report: &Report, style: Style) -> String {
         .joints
         .iter()
         .zip(&p.start.joints)
-        .map(|(j, v)| format!("{} {:.1}", j.name, v))
+        .map(|(j, q)| format!("{} {:.1}", v(&j.name), q))
         .collect();
-    let how = match p.start.method {
-        "start_joints" => "from start_joints".to_string(),
-        "search" if p.start.config.is_some() => format!(
-            "best of {} configurations reaching the first pose",
-            p.start.alternatives
-        ),
-        "search" => format!(
-            "best of {} solutions found for the first pose",
-            p.start.alternatives
-        ),
-        _ => "first pose not reachable".to_string(),
-    };
+    let how = p.start.how();
     let _ = writeln!(
         o,
         "  start    {} ({how}){}",
@@ -77,15 +75,15 @@ pub fn render_text(report: &Report, style: Style) -> String {
         p.start
             .config
             .as_ref()
-            .map(|c| format!(" · configuration {c}"))
+            .map(|c| format!(" · configuration {}", v(c)))
             .unwrap_or_default()
     );
     let _ = writeln!(
         o,
-        "  path     {} waypoints · {} segments · {} samples · {:.1} mm · {:.2} s",
-        p.waypoints.len(),
-        p.segments,
-        s.samples,
+        "  path     {} · {} · {} · {:.1} mm · {:.2} s",
+        count(p.waypoints.len(), "waypoint"),
+        count(p.segments, "segment"),
+        count(s.samples, "sample"),
         s.length_mm,
         s.duration_s
     );
@@ -97,12 +95,10 @@ pub fn render_text(report: &Report, style: Style) -> String {
     };
     let _ = writeln!(
         o,
-        "  verdict  {}  {} error{}, {} warning{}",
+        "  verdict  {}  {}, {}",
         paint(style, code, word),
-        s.errors,
-        if s.errors == 1 { "" } else { "s" },
-        s.warnings,
-        if s.warnings == 1 { "" } else { "s" }
+        count(s.errors, "error"),
+        count(s.warnings, "warning")
     );
     let sing = match (s.min_singularity, s.min_singularity_s_mm) {
         (Some(m), Some(at)) => format!(
@@ -126,13 +122,14 @@ pub fn render_text(report: &Report, style: Style) -> String {
         s.max_joint_speed_ratio * 100.0,
         s.max_joint_speed_joint
             .as_ref()
-            .map(|j| format!(" ({j})"))
+            .map(|j| format!(" ({})", v(j)))
             .unwrap_or_default()
     );
     if let (Some(m), Some(j)) = (s.min_limit_margin_ratio, &s.min_limit_margin_joint) {
         let _ = writeln!(
             o,
-            "  tightest joint range  {j} uses up to {:.0} % of its half-range",
+            "  tightest joint range  {} uses up to {:.0} % of its half-range",
+            v(j),
             (1.0 - m) * 100.0
         );
     }
@@ -142,13 +139,22 @@ pub fn render_text(report: &Report, style: Style) -> String {
     } else {
         let _ = writeln!(o, "  findings (in path order)");
     }
+    // Per kind: findings listed so far, then those left out.
+    let mut listed: BTreeMap<&str, usize> = BTreeMap::new();
+    let mut left_out: BTreeMap<&str, usize> = BTreeMap::new();
     for (i, f) in report.findings.iter().enumerate() {
+        let n = listed.entry(f.kind).or_default();
+        if *n >= TEXT_FINDINGS_PER_KIND {
+            *left_out.entry(f.kind).or_default() += 1;
+            continue;
+        }
+        *n += 1;
         let sev = match f.severity {
             Severity::Error => paint(style, "1;31", "error"),
             Severity::Warning => paint(style, "1;33", "warn "),
         };
         let place = match (&f.from, &f.to, f.segment) {
-            (Some(a), Some(b), Some(seg)) => format!("seg {seg} {a} → {b}"),
+            (Some(a), Some(b), Some(seg)) => format!("seg {seg} {} → {}", v(a), v(b)),
             _ => "file".into(),
         };
         let value = match (f.value, f.limit) {
@@ -165,7 +171,7 @@ pub fn render_text(report: &Report, style: Style) -> String {
             f.kind,
             f.joint
                 .as_ref()
-                .map(|j| format!(" · {j}"))
+                .map(|j| format!(" · {}", v(j)))
                 .unwrap_or_default()
         );
         if f.samples.is_some() {
@@ -183,7 +189,18 @@ pub fn render_text(report: &Report, style: Style) -> String {
                     .unwrap_or_default()
             );
         }
-        let _ = writeln!(o, "       {}", f.message);
+        let _ = writeln!(o, "       {}", v(&f.message));
+    }
+    if !left_out.is_empty() {
+        let rest: usize = left_out.values().sum();
+        let kinds: Vec<String> = left_out.iter().map(|(k, n)| format!("{k} {n}")).collect();
+        let _ = writeln!(
+            o,
+            "  … and {} not listed ({}): the first {TEXT_FINDINGS_PER_KIND} of each kind are \
+             shown; the JSON report (--json FILE) lists them all",
+            count(rest, "more finding"),
+            kinds.join(", ")
+        );
     }
     if let Some(rows) = &report.configurations {
         let _ = writeln!(o);
@@ -200,11 +217,11 @@ pub fn render_text(report: &Report, style: Style) -> String {
                     f.kind,
                     f.s_mm,
                     f.segment,
-                    f.from,
-                    f.to,
+                    v(&f.from),
+                    v(&f.to),
                     f.joint
                         .as_ref()
-                        .map(|j| format!(", {j}"))
+                        .map(|j| format!(", {}", v(j)))
                         .unwrap_or_default()
                 ),
                 (None, false) => "does not run".to_string(),
@@ -213,7 +230,7 @@ pub fn render_text(report: &Report, style: Style) -> String {
                 o,
                 "   {} {:<17} {status}",
                 if used { "▸" } else { " " },
-                r.config
+                v(&r.config)
             );
         }
     }

@@ -1,7 +1,8 @@
 //! What the page plots, collected while the path is walked, in bounded memory.
 //!
 //! Series against path distance go into an [`Envelope`] (min/max per bucket of s, buckets
-//! widening as the path grows). The TCP path for the views goes into a [`Trace`]: the points
+//! widening as the path grows), and the same series against time into a second one (a turn
+//! on the spot or a joint move that barely moves the TCP has no width against s). The TCP path for the views goes into a [`Trace`]: the points
 //! at least a tolerance apart plus the waypoints (linear segments are straight between
 //! waypoints, so this keeps their corners); when the trace fills up, the tolerance doubles
 //! and the trace is thinned. Memory is independent of the number of samples.
@@ -142,6 +143,18 @@ pub fn position_at(points: &[TracePoint], s: f64) -> Option<[f64; 3]> {
     Some([0, 1, 2].map(|k| a.p[k] + (b.p[k] - a.p[k]) * u))
 }
 
+/// A waypoint reached by the walk.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct WaypointAt {
+    /// Index in the path file's waypoints.
+    pub index: usize,
+    /// Path distance (m) and time (s) at the waypoint.
+    pub s: f64,
+    pub t: f64,
+    /// TCP position (mm, base frame).
+    pub p: [f64; 3],
+}
+
 /// A joint as the plots need it (display units: deg or mm).
 #[derive(Debug, Clone)]
 pub struct PlotJoint {
@@ -169,10 +182,14 @@ pub struct PlotData {
     /// Allowed speed per joint (rad/s or m/s).
     allowed: Vec<f64>,
     env: Option<Envelope>,
+    /// The same series against time.
+    env_t: Option<Envelope>,
+    /// Time per sampling step at the programmed speed (s): the time envelope's first width.
+    time_step: f64,
     trace: Trace,
-    /// (waypoint index, s in m, TCP position in mm).
-    waypoints: Vec<(usize, f64, [f64; 3])>,
+    waypoints: Vec<WaypointAt>,
     length: f64,
+    duration: f64,
     samples: u64,
 }
 
@@ -192,11 +209,14 @@ impl PlotData {
             joints: Vec::new(),
             allowed: Vec::new(),
             env: None,
+            env_t: None,
+            time_step: job.sampling.step / job.speed,
             // Half a sampling step: below a pixel on any plotted path, so short paths are
             // drawn from every sample.
             trace: Trace::new(trace_points, job.sampling.step * 1e3 * 0.5),
             waypoints: Vec::new(),
             length: 0.0,
+            duration: 0.0,
             samples: 0,
         }
     }
@@ -226,11 +246,9 @@ impl PlotData {
             .iter()
             .map(|j| j.velocity * self.joint_speed_scale)
             .collect();
-        self.env = Some(Envelope::new(
-            2 * robot.dof() + 2,
-            self.bucket_count,
-            self.step,
-        ));
+        let series = 2 * robot.dof() + 2;
+        self.env = Some(Envelope::new(series, self.bucket_count, self.step));
+        self.env_t = Some(Envelope::new(series, self.bucket_count, self.time_step));
     }
 
     pub fn joints(&self) -> &[PlotJoint] {
@@ -257,16 +275,24 @@ impl PlotData {
     pub fn envelope(&self) -> Option<&Envelope> {
         self.env.as_ref()
     }
+    /// The series against t (s); `None` before the first sample.
+    pub fn time_envelope(&self) -> Option<&Envelope> {
+        self.env_t.as_ref()
+    }
     pub fn trace(&self) -> &Trace {
         &self.trace
     }
-    /// Waypoints reached by the walk: (index, s in m, TCP position in mm).
-    pub fn waypoints(&self) -> &[(usize, f64, [f64; 3])] {
+    /// Waypoints reached by the walk, in path order.
+    pub fn waypoints(&self) -> &[WaypointAt] {
         &self.waypoints
     }
     /// Path length seen (m).
     pub fn length(&self) -> f64 {
         self.length
+    }
+    /// Time of the last sample seen (s).
+    pub fn duration(&self) -> f64 {
+        self.duration
     }
     pub fn samples(&self) -> u64 {
         self.samples
@@ -285,42 +311,54 @@ impl SampleSink for PlotData {
         if self.joints.is_empty() && robot.dof() > 0 {
             self.init(robot);
         }
-        if !rec.s.is_finite() {
+        if !rec.s.is_finite() || !rec.t.is_finite() {
             return;
         }
         self.samples += 1;
         self.length = self.length.max(rec.s);
+        self.duration = self.duration.max(rec.t);
         let p = rec.target.translation.vector * 1e3;
         let p = [p.x, p.y, p.z];
         if let Some(w) = rec.waypoint {
-            self.waypoints.push((w, rec.s, p));
+            self.waypoints.push(WaypointAt {
+                index: w,
+                s: rec.s,
+                t: rec.t,
+                p,
+            });
         }
         self.trace.push(TracePoint {
             s: rec.s,
             p,
             waypoint: rec.waypoint.is_some(),
         });
-        let n = self.joints.len();
-        let Some(env) = self.env.as_mut() else {
-            return;
-        };
-        let slot = env.slot(rec.s);
-        if rec.reach == Reach::Unreachable {
-            // The joints are the last reached ones: nothing to plot but the gap.
-            env.mark_unreachable(slot);
-            return;
+        if let Some(env) = self.env.as_mut() {
+            add_sample(env, rec.s, robot, &self.allowed, rec);
         }
-        for (k, j) in robot.joints().iter().enumerate().take(n) {
-            env.add(slot, k, rec.s, joint_display(j.kind, rec.joints[k]));
-            let allowed = self.allowed[k];
-            if allowed > 0.0 {
-                env.add(slot, n + k, rec.s, rec.joint_speed[k].abs() / allowed);
-            }
+        if let Some(env) = self.env_t.as_mut() {
+            add_sample(env, rec.t, robot, &self.allowed, rec);
         }
-        env.add(slot, 2 * n, rec.s, rec.singularity);
-        if rec.motion == Motion::Linear {
-            env.add(slot, 2 * n + 1, rec.s, rec.tool_angular_speed.to_degrees());
+    }
+}
+
+/// Add one sample's series at coordinate `x` (s or t) to an envelope.
+fn add_sample(env: &mut Envelope, x: f64, robot: &Robot, allowed: &[f64], rec: &SampleRecord) {
+    let n = allowed.len();
+    let slot = env.slot(x);
+    if rec.reach == Reach::Unreachable {
+        // The joints are the last reached ones: nothing to plot but the gap.
+        env.mark_unreachable(slot);
+        return;
+    }
+    for (k, j) in robot.joints().iter().enumerate().take(n) {
+        env.add(slot, k, x, joint_display(j.kind, rec.joints[k]));
+        if allowed[k] > 0.0 {
+            env.add(slot, n + k, x, rec.joint_speed[k].abs() / allowed[k]);
         }
+    }
+    env.add(slot, 2 * n, x, rec.singularity);
+    if rec.motion == Motion::Linear {
+        env.add(slot, 2 * n + 1, x, rec.tool_angular_speed.to_degrees());
     }
 }
 

@@ -2,7 +2,8 @@
 //! plot, the ranges, limits and shaded bands, and where each finding is marked.
 
 use super::data::{position_at, PlotData, TracePoint};
-use super::plots::{self, Figure, Line, Mark, Rule, SPlot};
+use super::envelope::Envelope;
+use super::plots::{self, Axis, Figure, Line, Mark, Rule, SPlot};
 use super::views::{self, View, ViewMark};
 use crate::assess::Severity;
 use crate::report::{FindingReport, Report};
@@ -70,6 +71,8 @@ pub struct Figures {
     pub speed: Result<Figure, String>,
     pub singularity: Result<Figure, String>,
     pub tool: Result<Figure, String>,
+    /// Joint speed, singularity measure and tool angular speed against time.
+    pub over_time: [Result<Figure, String>; 3],
     pub joints: Vec<Result<Figure, String>>,
     /// Top (x–y), side (x–z) and end (y–z) views.
     pub views: [Result<Figure, String>; 3],
@@ -77,13 +80,18 @@ pub struct Figures {
     pub places: Vec<(usize, Place)>,
 }
 
-fn mark(number: usize, f: &FindingReport, primary: bool) -> Mark {
-    let s = f.s_mm.unwrap_or([0.0, 0.0]);
+/// A finding's marker; against time it carries no element id (the table links to the
+/// marker against s).
+fn mark(number: usize, f: &FindingReport, axis: Axis) -> Mark {
+    let (x, id) = match axis {
+        Axis::Distance => (f.s_mm, Some(pin_id(number))),
+        Axis::Time => (f.t_s, None),
+    };
     Mark {
         number,
         error: f.severity == Severity::Error,
-        s,
-        id: primary.then(|| pin_id(number)),
+        s: x.unwrap_or([0.0, 0.0]),
+        id,
         title: title(number, f),
     }
 }
@@ -111,100 +119,172 @@ fn bounds(runs: &[Vec<(f64, f64)>]) -> Option<[f64; 2]> {
     b
 }
 
-fn to_mm(runs: Vec<Vec<(f64, f64)>>) -> Vec<Vec<(f64, f64)>> {
+/// Runs with x scaled from SI (m or s) to the axis unit (mm or s).
+fn scaled(runs: Vec<Vec<(f64, f64)>>, k: f64) -> Vec<Vec<(f64, f64)>> {
     runs.into_iter()
-        .map(|r| r.into_iter().map(|(s, v)| (s * 1e3, v)).collect())
+        .map(|r| r.into_iter().map(|(x, v)| (x * k, v)).collect())
         .collect()
 }
 
-/// Build every figure.
-pub fn build(report: &Report, data: &PlotData) -> Figures {
-    let names: Vec<String> = data.joints().iter().map(|j| j.name.clone()).collect();
-    let length = (data.length() * 1e3).max(report.summary.length_mm);
-    let mut waypoints: Vec<(f64, String)> = data
-        .waypoints()
-        .iter()
-        .map(|(i, s, _)| {
-            let name = report.path.waypoints.get(*i).cloned().unwrap_or_default();
-            (s * 1e3, name)
-        })
-        .collect();
-    if waypoints.len() > MAX_WAYPOINT_LINES {
-        let every = waypoints.len().div_ceil(MAX_WAYPOINT_LINES);
-        waypoints = waypoints.into_iter().step_by(every).collect();
-    }
-    let gaps: Vec<[f64; 2]> = data
-        .envelope()
-        .map(|e| e.unreachable_stretches())
-        .unwrap_or_default()
-        .into_iter()
-        .map(|[a, b]| [a * 1e3, b * 1e3])
-        .collect();
-    let mut places = Vec::new();
-    let (mut speed_marks, mut sing_marks, mut tool_marks) = (vec![], vec![], vec![]);
-    let mut joint_marks: Vec<Vec<Mark>> = vec![Vec::new(); names.len()];
-    for (i, f) in report.findings.iter().enumerate() {
-        let n = i + 1;
-        let p = place(f, &names);
-        if p == Place::Nowhere || places.len() >= MAX_MARKED {
-            continue;
+/// One x axis of the page: its extent, waypoint lines and unreachable stretches in its unit,
+/// and the series against it.
+struct AxisData<'a> {
+    axis: Axis,
+    x_max: f64,
+    /// Factor from the envelope's SI coordinate to the axis unit.
+    k: f64,
+    env: Option<&'a Envelope>,
+    waypoints: Vec<(f64, String)>,
+    gaps: Vec<[f64; 2]>,
+}
+
+impl<'a> AxisData<'a> {
+    fn new(axis: Axis, report: &Report, data: &'a PlotData) -> Self {
+        let (x_max, k, env) = match axis {
+            Axis::Distance => (
+                (data.length() * 1e3).max(report.summary.length_mm),
+                1e3,
+                data.envelope(),
+            ),
+            Axis::Time => (
+                data.duration().max(report.summary.duration_s),
+                1.0,
+                data.time_envelope(),
+            ),
+        };
+        let mut waypoints: Vec<(f64, String)> = data
+            .waypoints()
+            .iter()
+            .map(|w| {
+                let name = report.path.waypoints.get(w.index).cloned();
+                let x = match axis {
+                    Axis::Distance => w.s * 1e3,
+                    Axis::Time => w.t,
+                };
+                (x, name.unwrap_or_default())
+            })
+            .collect();
+        if waypoints.len() > MAX_WAYPOINT_LINES {
+            let every = waypoints.len().div_ceil(MAX_WAYPOINT_LINES);
+            waypoints = waypoints.into_iter().step_by(every).collect();
         }
-        places.push((n, p));
+        let gaps = env
+            .map(|e| e.unreachable_stretches())
+            .unwrap_or_default()
+            .into_iter()
+            .map(|[a, b]| [a * k, b * k])
+            .collect();
+        AxisData {
+            axis,
+            x_max,
+            k,
+            env,
+            waypoints,
+            gaps,
+        }
+    }
+
+    fn runs(&self, series: usize) -> Vec<Vec<(f64, f64)>> {
+        self.env
+            .map(|e| scaled(e.runs(series), self.k))
+            .unwrap_or_default()
+    }
+
+    fn plot(&self, size: (u32, u32), y_desc: String, y: [f64; 2], lines: Vec<Line>) -> SPlot<'_> {
+        SPlot {
+            size,
+            axis: self.axis,
+            y_desc,
+            x_max: self.x_max,
+            y,
+            log_y: false,
+            lines,
+            rules: vec![],
+            bands: vec![],
+            gaps: &self.gaps,
+            waypoints: &self.waypoints,
+            waypoint_names: true,
+            marks: vec![],
+        }
+    }
+}
+
+/// Marks of the located findings on the three main plots (joint speed, singularity, tool
+/// angular speed) and on each joint's plot.
+struct Marks {
+    main: [Vec<Mark>; 3],
+    joints: Vec<Vec<Mark>>,
+}
+
+fn marks(report: &Report, places: &[(usize, Place)], joints: usize, axis: Axis) -> Marks {
+    let mut m = Marks {
+        main: [vec![], vec![], vec![]],
+        joints: vec![Vec::new(); joints],
+    };
+    for &(n, p) in places {
+        let Some(f) = report.findings.get(n - 1) else {
+            continue;
+        };
         match p {
-            Place::Joint(k) => joint_marks[k].push(mark(n, f, true)),
-            Place::Speed => speed_marks.push(mark(n, f, true)),
-            Place::Singularity => sing_marks.push(mark(n, f, true)),
-            Place::Tool => tool_marks.push(mark(n, f, true)),
+            Place::Joint(k) => m.joints[k].push(mark(n, f, axis)),
+            Place::Speed => m.main[0].push(mark(n, f, axis)),
+            Place::Singularity => m.main[1].push(mark(n, f, axis)),
+            Place::Tool => m.main[2].push(mark(n, f, axis)),
             Place::Views | Place::Nowhere => {}
         }
     }
-    let base = |lines, y, marks, y_desc: &str| SPlot {
-        size: (FULL, 250),
-        y_desc: y_desc.to_string(),
-        length,
-        y,
-        log_y: false,
-        lines,
-        rules: vec![],
-        bands: vec![],
-        gaps: &gaps,
-        waypoints: &waypoints,
-        waypoint_names: true,
-        marks,
-    };
-    let env = data.envelope();
-    let runs = |k: usize| env.map(|e| to_mm(e.runs(k))).unwrap_or_default();
+    m
+}
+
+/// Joint speed, singularity measure and tool angular speed against one axis.
+fn main_plots(
+    report: &Report,
+    data: &PlotData,
+    ax: &AxisData,
+    marks: [Vec<Mark>; 3],
+) -> [Result<Figure, String>; 3] {
+    let names: Vec<&str> = data.joints().iter().map(|j| j.name.as_str()).collect();
+    let [speed_marks, sing_marks, tool_marks] = marks;
+    let busiest = report.summary.max_joint_speed_joint.as_deref();
 
     // Joint speeds as a fraction of the allowed speed, one line per joint.
     let speed_lines: Vec<Line> = (0..names.len())
-        .map(|k| Line {
-            colour: plots::JOINT_COLOURS[k % plots::JOINT_COLOURS.len()],
-            width: 2,
-            runs: runs(data.speed_series(k)),
-            label: Some(names[k].clone()),
+        .map(|k| {
+            let runs = ax.runs(data.speed_series(k));
+            let peak = bounds(&runs).map_or(0.0, |b| b[1]);
+            Line {
+                colour: plots::JOINT_COLOURS[k % plots::JOINT_COLOURS.len()],
+                width: 2,
+                runs,
+                label: Some(format!("{} {:.0} %", names[k], peak * 100.0)),
+            }
         })
         .collect();
     let peak = speed_lines
         .iter()
         .filter_map(|l| bounds(&l.runs))
         .fold(0.0f64, |m, b| m.max(b[1]));
-    // Peak labels only where a joint comes within half of the busiest one: the rest sit
-    // in a bundle near zero where names would overlap.
+    // Peak labels only where a joint comes within half of the busiest one (the rest sit in
+    // a bundle near zero where names would overlap); the joint the summary names as the
+    // busiest always keeps its label.
     let speed_lines = speed_lines
         .into_iter()
-        .map(|mut l| {
-            if bounds(&l.runs).is_none_or(|b| b[1] < 0.5 * peak) {
+        .enumerate()
+        .map(|(k, mut l)| {
+            let low = bounds(&l.runs).is_none_or(|b| b[1] < 0.5 * peak);
+            if low && busiest != Some(names[k]) {
                 l.label = None;
             }
             l
         })
         .collect();
-    let mut speed = base(
-        speed_lines,
+    let mut speed = ax.plot(
+        (FULL, 250),
+        "speed / allowed".into(),
         [0.0, (peak * 1.1).max(1.2)],
-        speed_marks,
-        "speed / allowed",
+        speed_lines,
     );
+    speed.marks = speed_marks;
     speed.rules.push(Rule {
         y: 1.0,
         label: format!(
@@ -215,7 +295,7 @@ pub fn build(report: &Report, data: &PlotData) -> Figures {
 
     // The singularity measure on a log scale: the threshold is far below 1.
     let threshold = report.path.singularity_threshold;
-    let sing_runs = runs(data.singularity_series());
+    let sing_runs = ax.runs(data.singularity_series());
     let lo = bounds(&sing_runs)
         .map_or(threshold / 3.0, |b| b[0].min(threshold / 3.0) * 0.7)
         .clamp(1e-6, threshold.max(1e-6));
@@ -223,17 +303,18 @@ pub fn build(report: &Report, data: &PlotData) -> Figures {
         .into_iter()
         .map(|r| r.into_iter().map(|(s, v)| (s, v.max(lo))).collect())
         .collect();
-    let mut singularity = base(
+    let mut singularity = ax.plot(
+        (FULL, 250),
+        "measure (log scale)".into(),
+        [lo, 1.0],
         vec![Line {
             colour: plots::BLUE,
             width: 2,
             runs: sing_runs,
             label: None,
         }],
-        [lo, 1.0],
-        sing_marks,
-        "measure (log scale)",
     );
+    singularity.marks = sing_marks;
     singularity.log_y = true;
     singularity.rules.push(Rule {
         y: threshold,
@@ -242,23 +323,55 @@ pub fn build(report: &Report, data: &PlotData) -> Figures {
 
     // Tool angular speed on linear segments.
     let limit = report.path.tool_angular_speed_limit_deg_s;
-    let tool_runs = runs(data.tool_speed_series());
+    let tool_runs = ax.runs(data.tool_speed_series());
     let tool_peak = bounds(&tool_runs).map_or(0.0, |b| b[1]);
-    let mut tool = base(
+    let mut tool = ax.plot(
+        (FULL, 250),
+        "deg/s".into(),
+        [0.0, (limit * 1.15).max(tool_peak * 1.08).max(1e-3)],
         vec![Line {
             colour: plots::BLUE,
             width: 2,
             runs: tool_runs,
             label: None,
         }],
-        [0.0, (limit * 1.15).max(tool_peak * 1.08).max(1e-3)],
-        tool_marks,
-        "deg/s",
     );
+    tool.marks = tool_marks;
     tool.rules.push(Rule {
         y: limit,
         label: format!("limit {} deg/s", super::nice(limit)),
     });
+    [
+        plots::s_plot(&speed),
+        plots::s_plot(&singularity),
+        plots::s_plot(&tool),
+    ]
+}
+
+/// Build every figure.
+pub fn build(report: &Report, data: &PlotData) -> Figures {
+    let names: Vec<String> = data.joints().iter().map(|j| j.name.clone()).collect();
+    let mut places = Vec::new();
+    for (i, f) in report.findings.iter().enumerate() {
+        let p = place(f, &names);
+        if p == Place::Nowhere || places.len() >= MAX_MARKED {
+            continue;
+        }
+        places.push((i + 1, p));
+    }
+    let by_s = AxisData::new(Axis::Distance, report, data);
+    let by_t = AxisData::new(Axis::Time, report, data);
+    let Marks {
+        main,
+        joints: mut joint_marks,
+    } = marks(report, &places, names.len(), Axis::Distance);
+    let [speed, singularity, tool] = main_plots(report, data, &by_s, main);
+    let over_time = main_plots(
+        report,
+        data,
+        &by_t,
+        marks(report, &places, names.len(), Axis::Time).main,
+    );
 
     // One small plot per joint, with its range, the near-limit margin and beyond-range shading.
     let joints = data
@@ -266,7 +379,7 @@ pub fn build(report: &Report, data: &PlotData) -> Figures {
         .iter()
         .enumerate()
         .map(|(k, j)| {
-            let lines = runs(data.position_series(k));
+            let lines = by_s.runs(data.position_series(k));
             let b = bounds(&lines);
             let (y, bands, rules) = match j.range {
                 Some([lower, upper]) => {
@@ -302,34 +415,32 @@ pub fn build(report: &Report, data: &PlotData) -> Figures {
                     ([a - pad, c + pad], vec![], vec![])
                 }
             };
-            plots::s_plot(&SPlot {
-                size: JOINT,
-                y_desc: format!("{} ({})", j.name, crate::report::joint_unit(j.kind)),
-                length,
+            let mut plot = by_s.plot(
+                JOINT,
+                format!("{} ({})", j.name, crate::report::joint_unit(j.kind)),
                 y,
-                log_y: false,
-                lines: vec![Line {
+                vec![Line {
                     colour: plots::BLUE,
                     width: 2,
                     runs: lines,
                     label: None,
                 }],
-                rules,
-                bands,
-                gaps: &gaps,
-                waypoints: &waypoints,
-                waypoint_names: false,
-                marks: std::mem::take(&mut joint_marks[k]),
-            })
+            );
+            plot.rules = rules;
+            plot.bands = bands;
+            plot.waypoint_names = false;
+            plot.marks = std::mem::take(&mut joint_marks[k]);
+            plots::s_plot(&plot)
         })
         .collect();
 
     let trace = data.trace().points();
     let views = views(report, data, &trace, &places);
     Figures {
-        speed: plots::s_plot(&speed),
-        singularity: plots::s_plot(&singularity),
-        tool: plots::s_plot(&tool),
+        speed,
+        singularity,
+        tool,
+        over_time,
         joints,
         views,
         places,
@@ -350,11 +461,16 @@ fn views(
             .waypoints()
             .iter()
             .take(2000)
-            .map(|(i, _, p)| {
+            .map(|w| {
                 (
-                    p[axes[0]],
-                    p[axes[1]],
-                    report.path.waypoints.get(*i).cloned().unwrap_or_default(),
+                    w.p[axes[0]],
+                    w.p[axes[1]],
+                    report
+                        .path
+                        .waypoints
+                        .get(w.index)
+                        .cloned()
+                        .unwrap_or_default(),
                 )
             })
             .collect();

@@ -1,5 +1,7 @@
 //! The visual report: one self-contained HTML page with the verdict, the findings, plots
-//! against path distance, top and side views of the TCP path, the settings and the cautions.
+//! against path distance and against time, top and side views of the TCP path, every input
+//! the check depends on (settings, tool, work frame, segments, arm configurations) and the
+//! cautions.
 //!
 //! The page is built in two steps. While the path is walked, [`PlotData`] (a sample sink)
 //! keeps a bounded digest of every sample; after the check, [`render_html`] draws the
@@ -14,7 +16,8 @@ mod plots;
 mod views;
 
 pub use data::{
-    position_at, Bucket, Envelope, PlotData, PlotJoint, Trace, TracePoint, BUCKETS, TRACE_POINTS,
+    position_at, Bucket, Envelope, PlotData, PlotJoint, Trace, TracePoint, WaypointAt, BUCKETS,
+    TRACE_POINTS,
 };
 pub use page::{escape, MAX_ROWS};
 

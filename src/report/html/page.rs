@@ -6,7 +6,9 @@ use super::data::PlotData;
 use super::figures::{self, Figures, Place};
 use super::plots::Figure;
 use crate::assess::Severity;
-use crate::report::{FindingReport, Report, Verdict};
+use crate::job::Motion;
+use crate::report::kinematics::PoseReport;
+use crate::report::{count, FindingReport, Report, Verdict};
 use std::fmt::Write;
 
 /// Rows of the findings table; the rest are counted (the JSON report lists them all).
@@ -130,13 +132,14 @@ pub fn render(report: &Report, data: &PlotData) -> String {
     let _ = writeln!(
         o,
         "<header><h1>Path check: <span class=\"mono\">{}</span></h1>\
-         <p class=\"sub\">robot {} · {} joints · {} wrist · armpath {}</p>\
+         <p class=\"sub\">robot {} · {} · {} wrist · armpath {}</p>\
          <nav><a href=\"#findings\">Findings</a><a href=\"#along\">Along the path</a>\
+         <a href=\"#over-time\">Over time</a>\
          <a href=\"#views\">Path views</a><a href=\"#settings\">Settings</a>\
          <a href=\"#cautions\">Cautions</a></nav></header>",
         escape(&p.file),
         escape(&r.name),
-        r.dof,
+        count(r.dof, "joint"),
         if r.spherical_wrist {
             "spherical"
         } else {
@@ -147,6 +150,7 @@ pub fn render(report: &Report, data: &PlotData) -> String {
     verdict(&mut o, report);
     findings(&mut o, report, &figs, &names);
     along(&mut o, report, &figs, &names);
+    over_time(&mut o, report, &figs, &names);
     views(&mut o, &figs);
     settings(&mut o, report, data);
     o.push_str("<h2 id=\"cautions\">Cautions</h2><ul class=\"cautions\">");
@@ -156,9 +160,10 @@ pub fn render(report: &Report, data: &PlotData) -> String {
     o.push_str("</ul>\n");
     let _ = write!(
         o,
-        "<footer>Written by armpath {} from {} samples. This page is self-contained: \
+        "<footer>Written by armpath {} from {}. This page is self-contained: \
          no scripts, no fonts or images from elsewhere.</footer>\n</main></body></html>\n",
-        report.armpath_version, s.samples
+        report.armpath_version,
+        count(s.samples, "sample")
     );
     o
 }
@@ -171,14 +176,13 @@ fn verdict(o: &mut String, report: &Report) {
         Verdict::Warn => ("v-warn", "WARN", "○ "),
         Verdict::Pass => ("v-pass", "PASS", "✓ "),
     };
-    let plural = |n: usize, w: &str| format!("{n} {w}{}", if n == 1 { "" } else { "s" });
     let _ = write!(
         o,
         "<section class=\"top\" aria-label=\"verdict\"><div class=\"verdict {class}\">\
          <div class=\"word\" id=\"verdict\">{mark}{word}</div><div class=\"count\">{}, {}</div>\
          <div class=\"note\">exit code {}</div></div><dl class=\"keys\">",
-        plural(s.errors, "error"),
-        plural(s.warnings, "warning"),
+        count(s.errors, "error"),
+        count(s.warnings, "warning"),
         report.exit_code()
     );
     let mut key = |k: &str, v: String| {
@@ -187,13 +191,15 @@ fn verdict(o: &mut String, report: &Report) {
     key(
         "path",
         format!(
-            "{:.1} mm · {:.2} s · {} samples",
-            s.length_mm, s.duration_s, s.samples
+            "{:.1} mm · {:.2} s · {}",
+            s.length_mm,
+            s.duration_s,
+            count(s.samples, "sample")
         ),
     );
     key(
         "waypoints",
-        format!("{} · {} segments", p.waypoints.len(), p.segments),
+        format!("{} · {}", p.waypoints.len(), count(p.segments, "segment")),
     );
     key(
         "closest singularity",
@@ -291,9 +297,9 @@ fn findings(o: &mut String, report: &Report, figs: &Figures, names: &[String]) {
     if report.findings.len() > MAX_ROWS {
         let _ = writeln!(
             o,
-            "<p class=\"note\">{} more findings are not listed here; the JSON report \
+            "<p class=\"note\">{} not listed here; the JSON report \
              (<code>--json</code>) lists them all.</p>",
-            report.findings.len() - MAX_ROWS
+            count(report.findings.len() - MAX_ROWS, "more finding")
         );
     }
     if figs.places.len() >= figures::MAX_MARKED {
@@ -323,6 +329,35 @@ fn along(o: &mut String, report: &Report, figs: &Figures, names: &[String]) {
          smallest and largest value in each of at most {} slices, so no peak is lost.</p>{LEGEND}",
         super::data::BUCKETS
     );
+    main_figures(
+        o,
+        "plot",
+        report,
+        names,
+        [&figs.speed, &figs.singularity, &figs.tool],
+    );
+    o.push_str(
+        "<h3>Joint positions</h3><div class=\"legend\">\
+         <span><span class=\"sw\" style=\"background:rgba(230,159,0,.35)\"></span>within the \
+         near-limit margin</span><span><span class=\"sw\" style=\"background:rgba(26,26,26,.12)\">\
+         </span>outside the joint's range</span><span><span class=\"sw dash\"></span>range limit</span>\
+         </div><div class=\"grid3\">",
+    );
+    for (k, fig) in figs.joints.iter().enumerate() {
+        figure(o, &format!("plot-joint-{}", k + 1), "", fig);
+    }
+    o.push_str("</div>\n");
+}
+
+/// The joint speed, singularity and tool angular speed figures, with ids `{prefix}-speed`,
+/// `{prefix}-singularity` and `{prefix}-tool`.
+fn main_figures(
+    o: &mut String,
+    prefix: &str,
+    report: &Report,
+    names: &[String],
+    [speed, singularity, tool]: [&Result<Figure, String>; 3],
+) {
     let mut legend = String::from("<span class=\"legend\" style=\"display:inline-flex\">");
     for (k, n) in names.iter().enumerate() {
         let c = super::plots::JOINT_COLOURS[k % super::plots::JOINT_COLOURS.len()];
@@ -338,37 +373,40 @@ fn along(o: &mut String, report: &Report, figs: &Figures, names: &[String]) {
     legend.push_str("</span>");
     figure(
         o,
-        "plot-speed",
-        &format!("<b>Joint speed</b> as a fraction of the allowed speed {legend}"),
-        &figs.speed,
+        &format!("{prefix}-speed"),
+        &format!(
+            "<b>Joint speed</b> as a fraction of the allowed speed; the busiest joints are \
+             named at their peaks {legend}"
+        ),
+        speed,
     );
     figure(
         o,
-        "plot-singularity",
+        &format!("{prefix}-singularity"),
         "<b>Singularity measure</b> (1 = well-conditioned, 0 = singular); below the \
          threshold the arm is close to losing a direction of motion",
-        &figs.singularity,
+        singularity,
     );
     figure(
         o,
-        "plot-tool",
+        &format!("{prefix}-tool"),
         &format!(
             "<b>Tool angular speed</b> on linear segments (deg/s), limit {} deg/s",
             super::nice(report.path.tool_angular_speed_limit_deg_s)
         ),
-        &figs.tool,
+        tool,
     );
+}
+
+fn over_time(o: &mut String, report: &Report, figs: &Figures, names: &[String]) {
     o.push_str(
-        "<h3>Joint positions</h3><div class=\"legend\">\
-         <span><span class=\"sw\" style=\"background:rgba(230,159,0,.35)\"></span>within the \
-         near-limit margin</span><span><span class=\"sw\" style=\"background:rgba(26,26,26,.12)\">\
-         </span>outside the joint's range</span><span><span class=\"sw dash\"></span>range limit</span>\
-         </div><div class=\"grid3\">",
+        "<h2 id=\"over-time\">Over time</h2><p class=\"note\">The same quantities against \
+         time t from the start (s): a turn on the spot or a joint move that hardly moves the \
+         TCP takes no path distance but does take time. Thin vertical lines mark the \
+         waypoints; the markers link to the findings table.</p>",
     );
-    for (k, fig) in figs.joints.iter().enumerate() {
-        figure(o, &format!("plot-joint-{}", k + 1), "", fig);
-    }
-    o.push_str("</div>\n");
+    let [speed, singularity, tool] = &figs.over_time;
+    main_figures(o, "time", report, names, [speed, singularity, tool]);
 }
 
 fn views(o: &mut String, figs: &Figures) {
@@ -393,13 +431,13 @@ fn settings(o: &mut String, report: &Report, data: &PlotData) {
         o,
         "<h2 id=\"settings\">Settings</h2><div class=\"grid2\"><div><h3>Robot</h3>\
          <table><tbody><tr><th>name</th><td>{}</td></tr><tr><th>URDF</th><td class=\"mono\">{}</td></tr>\
-         <tr><th>chain</th><td>{} → {} · {} joints</td></tr><tr><th>wrist</th><td>{}</td></tr>\
+         <tr><th>chain</th><td>{} → {} · {}</td></tr><tr><th>wrist</th><td>{}</td></tr>\
          <tr><th>reach</th><td>≈ {:.0} mm</td></tr></tbody></table>",
         escape(&r.name),
         escape(&r.urdf),
         escape(&r.root_link),
         escape(&r.tip_link),
-        r.dof,
+        count(r.dof, "joint"),
         if r.spherical_wrist {
             "spherical"
         } else {
@@ -450,7 +488,36 @@ fn settings(o: &mut String, report: &Report, data: &PlotData) {
     }
     row("waypoints", wp.join(" · "));
     row("segments", p.segments.to_string());
-    row("TCP speed", format!("{:.1} mm/s", p.speed_mm_s));
+    row(
+        "TCP speed",
+        format!("{} mm/s (path default)", super::nice(p.speed_mm_s)),
+    );
+    row(
+        "reorientation speed",
+        p.orientation_speed_deg_s
+            .map_or("not set".into(), |w| format!("{} deg/s", super::nice(w))),
+    );
+    let t = &p.tool;
+    row(
+        "tool (TCP in the tip frame)",
+        format!(
+            "{}{}",
+            pose_text(&t.tip_T_tcp),
+            if t.free_spin {
+                format!(
+                    "<br>free spin about tool z within {} … {} deg{}",
+                    super::nice(t.spin_range_deg[0]),
+                    super::nice(t.spin_range_deg[1]),
+                    t.spin_rate_deg_s
+                        .map(|r| format!(", at most {} deg/s", super::nice(r)))
+                        .unwrap_or_default()
+                )
+            } else {
+                "<br>no free spin".into()
+            }
+        ),
+    );
+    row("work frame (in the base frame)", pose_text(&p.base_T_work));
     row(
         "tool angular speed limit",
         format!(
@@ -476,16 +543,141 @@ fn settings(o: &mut String, report: &Report, data: &PlotData) {
     );
     row(
         "start configuration",
-        match p.start.method {
-            "start_joints" => "from start_joints".into(),
-            "search" => format!(
-                "best of {} solutions found for the first pose",
-                p.start.alternatives
-            ),
-            _ => "first pose not reachable".into(),
-        },
+        format!(
+            "{}{}",
+            p.start.how(),
+            p.start
+                .config
+                .as_ref()
+                .map(|c| format!(" · follows {}", escape(c)))
+                .unwrap_or_default()
+        ),
     );
     o.push_str("</tbody></table></div></div>\n");
+    segment_table(o, report);
+    configuration_table(o, report);
+}
+
+/// A pose as position (mm) and rpy angles (deg, fixed axes X, Y, Z), quaternion below.
+fn pose_text(pose: &PoseReport) -> String {
+    let [x, y, z] = pose.xyz_mm;
+    let [r, p, yaw] = pose.rpy_deg;
+    let [w, qx, qy, qz] = pose.quat_wxyz;
+    let n = super::nice;
+    format!(
+        "xyz {}, {}, {} mm · rpy {}, {}, {} deg<br><span class=\"note\">quaternion (w, x, y, z) \
+         {:.6}, {:.6}, {:.6}, {:.6}</span>",
+        n(x),
+        n(y),
+        n(z),
+        n(r),
+        n(p),
+        n(yaw),
+        w,
+        qx,
+        qy,
+        qz
+    )
+}
+
+/// Every segment with its motion, speed, length, turn and planned time.
+fn segment_table(o: &mut String, report: &Report) {
+    let rows = &report.path.segment_table;
+    let _ = write!(
+        o,
+        "<h3 id=\"segments\">Segments</h3><p class=\"note\">As planned from the path file \
+         (base frame). Linear moves run at the programmed TCP speed{}; a joint move's planned \
+         time is a lower bound, the walk stretches it to keep every joint within its allowed \
+         speed.</p><table><thead><tr><th>#</th><th>from → to</th><th>motion</th>\
+         <th>TCP speed (mm/s)</th><th>length (mm)</th><th>turn (deg)</th>\
+         <th>planned time (s)</th></tr></thead><tbody>",
+        if report.path.orientation_speed_deg_s.is_some() {
+            ", or slower where the reorientation speed needs more time"
+        } else {
+            ""
+        }
+    );
+    for g in rows.iter().take(MAX_ROWS) {
+        let motion = match (g.motion, g.process) {
+            (Motion::Joint, _) => "joint",
+            (Motion::Linear, true) => "linear · process",
+            (Motion::Linear, false) => "linear",
+        };
+        let _ = write!(
+            o,
+            "<tr><td class=\"num\">{}</td><td>{} → {}</td><td>{motion}</td>\
+             <td class=\"num\">{}</td><td class=\"num\">{:.1}</td><td class=\"num\">{:.1}</td>\
+             <td class=\"num\">{}{:.3}</td></tr>",
+            g.index,
+            escape(&g.from),
+            escape(&g.to),
+            super::nice(g.speed_mm_s),
+            g.length_mm,
+            g.turn_deg,
+            if g.motion == Motion::Joint {
+                "≥ "
+            } else {
+                ""
+            },
+            g.planned_s
+        );
+    }
+    o.push_str("</tbody></table>\n");
+    if rows.len() > MAX_ROWS {
+        let _ = writeln!(
+            o,
+            "<p class=\"note\">{} more are not listed here; the path file holds them all.</p>",
+            count(rows.len() - MAX_ROWS, "segment")
+        );
+    }
+}
+
+/// The arm-configuration table (arms with a closed-form solver).
+fn configuration_table(o: &mut String, report: &Report) {
+    let Some(rows) = &report.configurations else {
+        return;
+    };
+    o.push_str(
+        "<h3 id=\"configurations\">Arm configurations</h3><p class=\"note\">Each \
+         configuration of the closed-form solver walked over the whole path; ▸ marks the one \
+         the check follows.</p><table><thead><tr><th>configuration</th><th>whole path</th>\
+         <th>first stop</th><th>joints at the first waypoint</th></tr></thead><tbody>",
+    );
+    for r in rows {
+        let used = report.path.start.config.as_deref() == Some(r.config.as_str());
+        let stop = match &r.first_failure {
+            Some(f) => format!(
+                "{} at s = {:.1} mm (segment {} {} → {}){}",
+                escape(f.kind),
+                f.s_mm,
+                f.segment,
+                escape(&f.from),
+                escape(&f.to),
+                f.joint
+                    .as_ref()
+                    .map(|j| format!(", {}", escape(j)))
+                    .unwrap_or_default()
+            ),
+            None => "–".into(),
+        };
+        let joints = r
+            .start_joints
+            .as_ref()
+            .map_or("does not reach it".into(), |q| {
+                q.iter()
+                    .map(|v| format!("{v:.1}"))
+                    .collect::<Vec<_>>()
+                    .join(", ")
+            });
+        let _ = write!(
+            o,
+            "<tr><td>{}{}</td><td>{}</td><td>{stop}</td><td class=\"num\">{joints}</td></tr>",
+            if used { "▸ " } else { "" },
+            escape(&r.config),
+            if r.runs { "runs" } else { "stops" }
+        );
+    }
+    o.push_str("</tbody></table>\n");
 }
 
 #[cfg(test)]

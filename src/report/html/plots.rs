@@ -129,21 +129,49 @@ pub struct Rule {
     pub label: String,
 }
 
-/// A plot against path distance.
+/// The x axis of a plot.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Axis {
+    /// Path distance s of the TCP (mm).
+    Distance,
+    /// Time from the start (s).
+    Time,
+}
+
+impl Axis {
+    fn desc(self) -> &'static str {
+        match self {
+            Axis::Distance => "s (mm)",
+            Axis::Time => "t (s)",
+        }
+    }
+
+    /// Tick label of the axis, `end` being the axis' extent.
+    fn tick(self, v: f64, end: f64) -> String {
+        match self {
+            Axis::Distance => s_tick(v, end),
+            Axis::Time => tick(v, end, false),
+        }
+    }
+}
+
+/// A plot against path distance or time.
 pub struct SPlot<'a> {
     pub size: (u32, u32),
+    pub axis: Axis,
     pub y_desc: String,
-    /// Path length (mm); the x axis runs from 0 to here.
-    pub length: f64,
+    /// Extent of the x axis in its unit (path length in mm, or duration in s); the axis runs
+    /// from 0 to here.
+    pub x_max: f64,
     pub y: [f64; 2],
     pub log_y: bool,
     pub lines: Vec<Line>,
     pub rules: Vec<Rule>,
     /// Horizontal bands [y0, y1] with their fill (near-limit margins, outside the range).
     pub bands: Vec<([f64; 2], RGBAColor)>,
-    /// Stretches with unreachable samples (mm).
+    /// Stretches with unreachable samples (x unit).
     pub gaps: &'a [[f64; 2]],
-    /// Waypoints (s in mm, name).
+    /// Waypoints (x in its unit, name).
     pub waypoints: &'a [(f64, String)],
     pub waypoint_names: bool,
     pub marks: Vec<Mark>,
@@ -217,8 +245,11 @@ where
 {
     let mut svg = String::new();
     let (w, h) = spec.size;
-    // A path of one point still gets a 1 mm axis.
-    let x_max = spec.length.max(1.0);
+    // A path of one point still gets a 1 mm (or 0.01 s) axis.
+    let x_max = spec.x_max.max(match spec.axis {
+        Axis::Distance => 1.0,
+        Axis::Time => 0.01,
+    });
     let mut pins = Vec::new();
     {
         let root = SVGBackend::with_string(&mut svg, spec.size).into_drawing_area();
@@ -229,7 +260,7 @@ where
             .margin_right(14)
             .margin_left(6)
             .margin_bottom(4)
-            .x_label_area_size(26)
+            .x_label_area_size(38)
             .y_label_area_size(58)
             .build_cartesian_2d(0.0..x_max, y_coord)
             .map_err(err)?;
@@ -243,7 +274,8 @@ where
             .label_style(font(11.0))
             .axis_desc_style(font(11.0))
             .y_desc(spec.y_desc.as_str())
-            .x_label_formatter(&|v| s_tick(*v, x_max))
+            .x_desc(spec.axis.desc())
+            .x_label_formatter(&|v| spec.axis.tick(*v, x_max))
             .y_label_formatter(&|v| tick(*v, spec.y[1] - spec.y[0], spec.log_y))
             .draw()
             .map_err(err)?;
@@ -310,7 +342,6 @@ where
             ))
             .map_err(err)?;
         }
-        let mut labels: Vec<(i32, i32)> = Vec::new();
         for line in &spec.lines {
             for run in &line.runs {
                 chart
@@ -320,20 +351,35 @@ where
                     ))
                     .map_err(err)?;
             }
-            let peak = line
-                .runs
-                .iter()
-                .flatten()
-                .copied()
-                .max_by(|a, b| a.1.total_cmp(&b.1));
-            if let (Some(label), Some(p)) = (&line.label, peak) {
+        }
+        // Peak labels, highest peak first: where two would overlap, the busier line keeps
+        // its name.
+        let mut peaks: Vec<(&Line, (f64, f64))> = spec
+            .lines
+            .iter()
+            .filter_map(|line| {
+                let peak = line
+                    .runs
+                    .iter()
+                    .flatten()
+                    .copied()
+                    .max_by(|a, b| a.1.total_cmp(&b.1))?;
+                Some((line, peak))
+            })
+            .collect();
+        peaks.sort_by(|a, b| b.1 .1.total_cmp(&a.1 .1));
+        // Placed labels: peak pixel and label width (about 7 px per character in bold 12).
+        let mut labels: Vec<(i32, i32, i32)> = Vec::new();
+        for (line, p) in peaks {
+            if let Some(label) = &line.label {
                 let (x, y) = chart.backend_coord(&p);
                 let y = (y - 6).max(yr.start + 10);
+                let w = 7 * label.chars().count() as i32 + 8;
                 if labels
                     .iter()
-                    .all(|&(lx, ly)| (lx - x).abs() > 28 || (ly - y).abs() > 14)
+                    .all(|&(lx, ly, lw)| (lx - x).abs() > lw.max(w) || (ly - y).abs() > 14)
                 {
-                    labels.push((x, y));
+                    labels.push((x, y, w));
                     // Near the right edge the label goes left of the peak, inside the plot.
                     let (anchor, lx) = if x > xr.end - 30 {
                         (HPos::Right, x - 4)
@@ -414,8 +460,9 @@ mod tests {
         let wp = [(0.0, "a<b&\"c\"".to_string())];
         let fig = s_plot(&SPlot {
             size: (400, 200),
+            axis: Axis::Distance,
             y_desc: "x <y>".into(),
-            length: 10.0,
+            x_max: 10.0,
             y: [0.0, 1.0],
             log_y: false,
             lines: vec![],
