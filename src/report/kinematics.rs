@@ -156,15 +156,21 @@ fn ensure_finite(what: &str, values: &[f64]) -> Result<()> {
 }
 
 impl PoseReport {
-    /// The pose for display; an error when any of its numbers is not finite.
-    pub fn new(pose: &Isometry3<f64>) -> Result<Self> {
+    /// The pose in display units, as it is (a report that embeds it checks its numbers with
+    /// [`crate::report::Report::first_non_finite`]).
+    pub fn of(pose: &Isometry3<f64>) -> Self {
         let t = pose.translation.vector * 1e3;
         let (r, p, y) = rotation::to_rpy(&pose.rotation);
-        let report = PoseReport {
+        PoseReport {
             xyz_mm: [t.x, t.y, t.z],
             quat_wxyz: rotation::quat_to_wxyz(&pose.rotation),
             rpy_deg: [r.to_degrees(), p.to_degrees(), y.to_degrees()],
-        };
+        }
+    }
+
+    /// The pose for display; an error when any of its numbers is not finite.
+    pub fn new(pose: &Isometry3<f64>) -> Result<Self> {
+        let report = Self::of(pose);
         ensure_finite("TCP position (mm)", &report.xyz_mm)?;
         ensure_finite("TCP quaternion", &report.quat_wxyz)?;
         ensure_finite("TCP rpy (deg)", &report.rpy_deg)?;

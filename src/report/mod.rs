@@ -336,7 +336,7 @@ impl Report {
                 speed_mm_s: r.job.speed * 1e3,
                 orientation_speed_deg_s: r.job.orientation_speed.map(f64::to_degrees),
                 tool: ToolReport {
-                    tip_T_tcp: kinematics::PoseReport::new(&r.job.tool.tip_T_tcp),
+                    tip_T_tcp: kinematics::PoseReport::of(&r.job.tool.tip_T_tcp),
                     free_spin: r.job.tool.free_spin,
                     spin_range_deg: [
                         r.job.tool.spin_range.0.to_degrees(),
@@ -344,7 +344,7 @@ impl Report {
                     ],
                     spin_rate_deg_s: r.job.tool.spin_rate.map(f64::to_degrees),
                 },
-                base_T_work: kinematics::PoseReport::new(&r.job.base_T_work),
+                base_T_work: kinematics::PoseReport::of(&r.job.base_T_work),
                 near_limit_margin_deg: r.job.limits.near_limit_margin_angle.to_degrees(),
                 near_limit_margin_mm: r.job.limits.near_limit_margin_length * 1e3,
                 segment_table: r
@@ -449,6 +449,15 @@ impl Report {
             ("summary.min_limit_margin_ratio", s.min_limit_margin_ratio),
         ];
         let start = p.start.joints.iter().map(|&v| ("path.start.joints", v));
+        let poses = [("path.tool", &p.tool.tip_T_tcp), ("path.base_T_work", &p.base_T_work)]
+            .into_iter()
+            .flat_map(|(name, pose)| {
+                pose.xyz_mm
+                    .into_iter()
+                    .chain(pose.quat_wxyz)
+                    .chain(pose.rpy_deg)
+                    .map(move |v| (name, v))
+            });
         let findings = self.findings.iter().flat_map(|f| {
             let pairs = [f.s_mm, f.t_s].into_iter().flatten().flatten();
             let single = [f.value, f.limit].into_iter().flatten();
@@ -463,6 +472,7 @@ impl Report {
             .into_iter()
             .chain(optional.into_iter().filter_map(|(n, v)| v.map(|v| (n, v))))
             .chain(start)
+            .chain(poses)
             .chain(findings)
             .find(|(_, v)| !v.is_finite())
             .map(|(name, v)| format!("{name} = {v}"))
