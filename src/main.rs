@@ -16,7 +16,7 @@ use clap::{Args, Parser, Subcommand};
 use nalgebra::{Isometry3, Translation3, Vector3};
 use std::io::IsTerminal;
 use std::io::Write;
-use std::path::PathBuf;
+use std::path::{Path, PathBuf};
 use std::process::ExitCode;
 
 /// Checks offline-programmed tool paths for industrial robot arms: reach, joint limits,
@@ -248,8 +248,14 @@ fn joints_si(robot: &Robot, option: &str, text: &str, rad: bool) -> Result<Vec<f
         .collect())
 }
 
+/// The `--json` of a robot command: a writable place that is not the URDF itself.
+fn check_json_target(json: Option<&Path>, urdf: &Path) -> Result<()> {
+    check_target("--json", json)?;
+    output::refuse_overwrite(&[("the URDF", urdf)], &[("--json", json)])
+}
+
 fn run_robot(a: RobotArgs) -> Result<u8> {
-    check_target("--json", a.json.as_deref())?;
+    check_json_target(a.json.as_deref(), &a.robot)?;
     let robot = load_urdf(&a.robot, a.tip.as_deref())?;
     let mut info = RobotInfo::new(&robot);
     info.closed_form = Some(match OrthoParallel::from_robot(&robot) {
@@ -274,7 +280,7 @@ fn run_robot(a: RobotArgs) -> Result<u8> {
 }
 
 fn run_fk(a: FkArgs) -> Result<u8> {
-    check_target("--json", a.json.as_deref())?;
+    check_json_target(a.json.as_deref(), &a.sel.robot)?;
     let robot = load_robot(&a.sel)?;
     let q = joints_si(&robot, "--joints", &a.joints, a.rad)?;
     let outside: Vec<&str> = robot
@@ -302,7 +308,7 @@ fn run_fk(a: FkArgs) -> Result<u8> {
 }
 
 fn run_ik(a: IkArgs) -> Result<u8> {
-    check_target("--json", a.json.as_deref())?;
+    check_json_target(a.json.as_deref(), &a.sel.robot)?;
     let robot = load_robot(&a.sel)?;
     let p = numbers("--pose", &a.pose, Some(7))?;
     let (rot, norm) =

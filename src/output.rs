@@ -465,6 +465,36 @@ mod tests {
     }
 
     #[test]
+    fn overwrite_refusal_sees_through_links_and_unwritten_names() {
+        // source: common practice (a file is its device and inode; a name is its resolved path)
+        let dir = tempfile::tempdir().unwrap();
+        let d = dir.path();
+        let input = d.join("in.yaml");
+        std::fs::write(&input, "x").unwrap();
+        std::fs::hard_link(&input, d.join("hard")).unwrap();
+        std::fs::create_dir(d.join("sub")).unwrap();
+        let inputs = [("the path file", input.as_path())];
+        let refused = |out: &Path| {
+            refuse_overwrite(&inputs, &[("--json", Some(out))])
+                .unwrap_err()
+                .to_string()
+        };
+        assert!(refused(&d.join("hard")).contains("the path file"));
+        assert!(refused(&d.join("sub/../in.yaml")).contains("the same file"));
+        assert!(refuse_overwrite(&inputs, &[("--json", Some(&d.join("new.json")))]).is_ok());
+        let new = d.join("sub/new.json");
+        let spelt = d.join("sub/../sub/new.json");
+        let e = refuse_overwrite(&inputs, &[("--json", Some(&new)), ("--html", Some(&spelt))])
+            .unwrap_err()
+            .to_string();
+        assert!(e.starts_with("--json/--html: both write to"), "{e}");
+        let null = Path::new("/dev/null");
+        assert!(
+            refuse_overwrite(&inputs, &[("--json", Some(null)), ("--html", Some(null))]).is_ok()
+        );
+    }
+
+    #[test]
     fn special_files_are_written_directly() {
         // source: common practice (/dev/null must never be replaced by a regular file)
         write_all(Path::new("/dev/null"), b"x").unwrap();

@@ -201,6 +201,24 @@ fn two_outputs_onto_one_file_are_refused() {
     assert_eq!(code, 0, "{stderr}");
 }
 
+#[test]
+fn robot_fk_and_ik_json_onto_the_urdf_is_refused() {
+    // source: common practice (an output never replaces an input)
+    let dir = cell();
+    let d = dir.path();
+    std::os::unix::fs::symlink("arm.urdf", d.join("arm.json")).unwrap();
+    for json in ["arm.urdf", "arm.json"] {
+        for mut args in [
+            vec!["robot", "arm.urdf"],
+            vec!["fk", "arm.urdf", "--joints", "0,0,0,0,0,0"],
+            vec!["ik", "arm.urdf", "--pose", "800,0,500,0,1,0,0"],
+        ] {
+            args.extend(["--json", json]);
+            assert_refused(d, &args, &["--json", json, "the URDF"]);
+        }
+    }
+}
+
 /// `place` of `path.yaml` over two placements, plus `extra`.
 fn place_small<'a>(extra: &[&'a str]) -> Vec<&'a str> {
     let mut v = vec!["place", "path.yaml", "--x", "0:10:10", "--y", "0:0:1"];
