@@ -155,8 +155,7 @@ pub struct SettingFlags {
     /// Singularity measure below which a warning is raised (dimensionless, default 0.01).
     #[arg(long, value_name = "X", allow_negative_numbers = true, value_parser = singularity_threshold)]
     pub singularity_threshold: Option<f64>,
-    /// Inverse kinematics along the path: `auto` (the closed form for arms that have one,
-    /// with the configuration table; else numerical) or `numeric`.
+    /// Inverse kinematics along the path.
     #[arg(long, value_name = "MODE", default_value = "auto", value_enum)]
     pub ik: IkMode,
     /// Refuse paths that would need more samples than N (default 100000000).
