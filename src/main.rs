@@ -1,12 +1,12 @@
 //! The `armpath` command: parses flags, builds the job, runs the library, writes the outputs
 //! and picks the exit code (0 pass or warnings, 1 error findings, 2 bad input or usage).
 
-use armpath::check::{check, CheckOptions};
+use armpath::check::check;
 use armpath::error::{Error, Result};
+use armpath::flags::{FlagError, SettingFlags};
 use armpath::ik::analytic::OrthoParallel;
 use armpath::ik::{IkOptions, NumericIk};
-use armpath::job::{self, Overrides};
-use armpath::output;
+use armpath::output::{self, check_target, is_stdout, write_json};
 use armpath::report::html::HtmlReport;
 use armpath::report::kinematics::{ClosedForm, IkReport, IkSolutionReport, PoseReport, RobotInfo};
 use armpath::report::{render_text, JointsCsv, Style};
@@ -15,6 +15,7 @@ use armpath::solve::SampleSink;
 use clap::{Args, Parser, Subcommand};
 use nalgebra::{Isometry3, Translation3, Vector3};
 use std::io::IsTerminal;
+use std::io::Write;
 use std::path::{Path, PathBuf};
 use std::process::ExitCode;
 
@@ -109,54 +110,8 @@ struct IkArgs {
 struct CheckArgs {
     /// The path file (.yaml/.yml) or CSV waypoint file (.csv).
     path: PathBuf,
-    /// Robot URDF (replaces the path file's `robot:`).
-    #[arg(long, value_name = "URDF")]
-    robot: Option<PathBuf>,
-    /// Tip link (replaces `tip:`).
-    #[arg(long, value_name = "LINK")]
-    tip: Option<String>,
-    /// TCP speed, length unit per second (replaces `speed:`).
-    #[arg(long, value_name = "V", allow_negative_numbers = true)]
-    speed: Option<f64>,
-    /// Programmed reorientation speed, angle unit per second.
-    #[arg(long, value_name = "W", allow_negative_numbers = true)]
-    orientation_speed: Option<f64>,
-    /// Tool "x,y,z,roll,pitch,yaw" in the tip-link frame (replaces `tool:` pose).
-    #[arg(long, value_name = "X,Y,Z,R,P,Y", allow_hyphen_values = true)]
-    tool: Option<String>,
-    /// Work frame "x,y,z,roll,pitch,yaw" in the robot base frame (replaces `work_frame:`).
-    #[arg(long, value_name = "X,Y,Z,R,P,Y", allow_hyphen_values = true)]
-    work_frame: Option<String>,
-    /// Joints at the first waypoint "j1,j2,..." (angle unit; length unit for prismatic).
-    #[arg(long, value_name = "LIST", allow_hyphen_values = true)]
-    start_joints: Option<String>,
-    /// Largest tool angular speed, angle unit per second.
-    #[arg(long, value_name = "W", allow_negative_numbers = true)]
-    tool_angular_speed: Option<f64>,
-    /// Fraction of each joint's URDF velocity that may be used, in (0, 1].
-    #[arg(long, value_name = "F", allow_negative_numbers = true)]
-    joint_speed_scale: Option<f64>,
-    /// Largest TCP step between samples, length unit.
-    #[arg(long, value_name = "D", allow_negative_numbers = true)]
-    step: Option<f64>,
-    /// Largest orientation step between samples, angle unit.
-    #[arg(long, value_name = "A", allow_negative_numbers = true)]
-    angle_step: Option<f64>,
-    /// Units of the values given on the command line (and of a CSV file loaded directly):
-    /// "LENGTH,ANGLE" with LENGTH mm or m and ANGLE deg or rad (default mm,deg). A path file's
-    /// own values keep the file's `units:`.
-    #[arg(long, value_name = "LENGTH,ANGLE")]
-    units: Option<String>,
-    /// Singularity measure below which a warning is raised (dimensionless, default 0.01).
-    #[arg(long, value_name = "X", allow_negative_numbers = true)]
-    singularity_threshold: Option<f64>,
-    /// Inverse kinematics along the path: `auto` (the closed form for arms that have one,
-    /// with the configuration table; else numerical) or `numeric`.
-    #[arg(long, value_name = "MODE", default_value = "auto", value_parser = ["auto", "numeric"])]
-    ik: String,
-    /// Refuse paths that would need more samples than N (default 100000000).
-    #[arg(long, value_name = "N", allow_negative_numbers = true)]
-    max_samples: Option<u64>,
+    #[command(flatten)]
+    settings: SettingFlags,
     /// Write the report as JSON to FILE ('-' for standard output, replacing the text report).
     #[arg(long, value_name = "FILE")]
     json: Option<PathBuf>,
@@ -186,12 +141,24 @@ fn main() -> ExitCode {
                     ExitCode::from(2)
                 }
                 _ => {
-                    eprintln!("armpath: error: {}", one_line_usage_error(&e));
+                    let _ = writeln!(
+                        std::io::stderr(),
+                        "armpath: error: {}",
+                        one_line_usage_error(&e)
+                    );
                     ExitCode::from(2)
                 }
             };
         }
     };
+    if let Err(e) = output::remove_temp_files_on_signal() {
+        let _ = writeln!(
+            std::io::stderr(),
+            "armpath: error: {}",
+            armpath::report::visible(&e.to_string())
+        );
+        return ExitCode::from(2);
+    }
     let result = match cli.command {
         Command::Check(a) => run_check(*a),
         Command::Robot(a) => run_robot(a),
@@ -203,7 +170,11 @@ fn main() -> ExitCode {
     match result {
         Ok(code) => ExitCode::from(code),
         Err(e) => {
-            eprintln!("armpath: error: {e}");
+            let _ = writeln!(
+                std::io::stderr(),
+                "armpath: error: {}",
+                armpath::report::visible(&e.to_string())
+            );
             ExitCode::from(2)
         }
     }
@@ -212,6 +183,17 @@ fn main() -> ExitCode {
 /// A command-line parse error as one line, like every other error: what is wrong (naming the
 /// option), the parser's suggestion if any, and where to find the options.
 fn one_line_usage_error(e: &clap::Error) -> String {
+    let command = match std::env::args().nth(1).as_deref() {
+        Some(c @ ("check" | "robot" | "fk" | "ik" | "fix" | "place")) => format!("armpath {c}"),
+        _ => "armpath".to_string(),
+    };
+    // A value refused by one of armpath's own value parsers: `--option: why`.
+    let own = std::error::Error::source(e).and_then(|s| s.downcast_ref::<FlagError>());
+    let option = e.get(clap::error::ContextKind::InvalidArg);
+    if let (Some(why), Some(clap::error::ContextValue::String(option))) = (own, option) {
+        let option = option.split(' ').next().unwrap_or(option);
+        return format!("{option}: {why}: see `{command} --help` for the options");
+    }
     let text = e.render().to_string();
     let lines: Vec<&str> = text
         .lines()
@@ -233,78 +215,17 @@ fn one_line_usage_error(e: &clap::Error) -> String {
         .find_map(|l| l.strip_prefix("tip: "))
         .map(|t| format!("{t}; "))
         .unwrap_or_default();
-    let command = match std::env::args().nth(1).as_deref() {
-        Some(c @ ("check" | "robot" | "fk" | "ik" | "fix" | "place")) => format!("armpath {c}"),
-        _ => "armpath".to_string(),
-    };
     format!("{what}: {tip}see `{command} --help` for the options")
-}
-
-/// Refuses an output path that cannot be written before any work is done: a folder, or a
-/// file in a folder that does not exist. `-` (standard output) always passes.
-fn check_output(option: &str, path: &Option<PathBuf>) -> Result<()> {
-    let Some(p) = path.as_deref().filter(|p| p.as_os_str() != "-") else {
-        return Ok(());
-    };
-    if p.is_dir() {
-        return Err(Error::usage(
-            option,
-            format!(
-                "{} is a folder: give a file name for the output",
-                p.display()
-            ),
-        ));
-    }
-    if let Some(dir) = p.parent().filter(|d| !d.as_os_str().is_empty()) {
-        if !dir.is_dir() {
-            return Err(Error::usage(
-                option,
-                format!(
-                    "the folder {} does not exist: create it or write the output elsewhere",
-                    dir.display()
-                ),
-            ));
-        }
-    }
-    Ok(())
 }
 
 /// Parse "a,b,c" into numbers; `option` names the flag in messages.
 fn numbers(option: &str, text: &str, count: Option<usize>) -> Result<Vec<f64>> {
-    let values: Vec<f64> = text
-        .split(',')
-        .map(|s| s.trim())
-        .filter(|s| !s.is_empty())
-        .enumerate()
-        .map(|(i, s)| {
-            s.parse::<f64>()
-                .ok()
-                .filter(|v| v.is_finite())
-                .ok_or_else(|| {
-                    Error::usage(
-                        option,
-                        format!("value {} ('{s}') is not a finite number", i + 1),
-                    )
-                })
-        })
-        .collect::<Result<_>>()?;
-    if let Some(n) = count {
-        if values.len() != n {
-            return Err(Error::usage(
-                option,
-                format!("expects {n} comma-separated numbers, got {}", values.len()),
-            ));
-        }
-    }
-    Ok(values)
+    armpath::flags::number_list(text, count).map_err(|e| Error::usage(option, e.0))
 }
 
 fn six(option: &str, text: &Option<String>) -> Result<Option<[f64; 6]>> {
-    text.as_ref()
-        .map(|t| {
-            let v = numbers(option, t, Some(6))?;
-            Ok([v[0], v[1], v[2], v[3], v[4], v[5]])
-        })
+    text.as_deref()
+        .map(|t| armpath::flags::pose6(t).map_err(|e| Error::usage(option, e.0)))
         .transpose()
 }
 
@@ -342,19 +263,14 @@ fn joints_si(robot: &Robot, option: &str, text: &str, rad: bool) -> Result<Vec<f
     Ok(q)
 }
 
-fn write_json<T: serde::Serialize>(path: &Path, value: &T) -> Result<()> {
-    let mut text = serde_json::to_string_pretty(value)
-        .map_err(|e| Error::usage("--json", format!("could not serialise the report: {e}")))?;
-    text.push('\n');
-    output::write_all(path, text.as_bytes())
-}
-
-fn is_stdout(p: &Option<PathBuf>) -> bool {
-    p.as_ref().is_some_and(|p| p.as_os_str() == "-")
+/// The `--json` of a robot command: a writable place that is not the URDF itself.
+fn check_json_target(json: Option<&Path>, urdf: &Path) -> Result<()> {
+    check_target("--json", json)?;
+    output::refuse_overwrite(&[("the URDF", urdf)], &[("--json", json)])
 }
 
 fn run_robot(a: RobotArgs) -> Result<u8> {
-    check_output("--json", &a.json)?;
+    check_json_target(a.json.as_deref(), &a.robot)?;
     let robot = load_urdf(&a.robot, a.tip.as_deref())?;
     let mut info = RobotInfo::new(&robot)?;
     info.closed_form = Some(match OrthoParallel::from_robot(&robot) {
@@ -369,44 +285,45 @@ fn run_robot(a: RobotArgs) -> Result<u8> {
             reason: Some(reason),
         },
     });
-    if !is_stdout(&a.json) {
-        print!("{}", info.render_text());
+    if !is_stdout(a.json.as_deref()) {
+        output::print(&info.render_text())?;
     }
     if let Some(p) = &a.json {
-        write_json(p, &info)?;
+        write_json("--json", p, &info)?;
     }
     Ok(0)
 }
 
 fn run_fk(a: FkArgs) -> Result<u8> {
-    check_output("--json", &a.json)?;
+    check_json_target(a.json.as_deref(), &a.sel.robot)?;
     let robot = load_robot(&a.sel)?;
     let q = joints_si(&robot, "--joints", &a.joints, a.rad)?;
-    let outside: Vec<&str> = robot
+    let outside: Vec<_> = robot
         .joints()
         .iter()
         .zip(&q)
         .filter(|(j, v)| !j.contains(**v))
-        .map(|(j, _)| j.name.as_str())
+        .map(|(j, _)| armpath::report::visible(&j.name))
         .collect();
     let pose = PoseReport::new(&robot.chain().fk(&q))?;
-    if !is_stdout(&a.json) {
-        print!("{}", pose.render_text());
+    if !is_stdout(a.json.as_deref()) {
+        let mut text = pose.render_text();
         if !outside.is_empty() {
-            println!(
-                "  note  outside the joint range: {} (the pose is computed anyway)",
+            text.push_str(&format!(
+                "  note  outside the joint range: {} (the pose is computed anyway)\n",
                 outside.join(", ")
-            );
+            ));
         }
+        output::print(&text)?;
     }
     if let Some(p) = &a.json {
-        write_json(p, &pose)?;
+        write_json("--json", p, &pose)?;
     }
     Ok(0)
 }
 
 fn run_ik(a: IkArgs) -> Result<u8> {
-    check_output("--json", &a.json)?;
+    check_json_target(a.json.as_deref(), &a.sel.robot)?;
     let robot = load_robot(&a.sel)?;
     let p = numbers("--pose", &a.pose, Some(7))?;
     armpath::robot::check_pose(
@@ -422,7 +339,10 @@ fn run_ik(a: IkArgs) -> Result<u8> {
             )
         })?;
     if (norm - 1.0).abs() > 1e-6 {
-        eprintln!("armpath: note: --pose quaternion had length {norm:.6}; normalised");
+        let _ = writeln!(
+            std::io::stderr(),
+            "armpath: note: --pose quaternion had length {norm:.6}; normalised"
+        );
     }
     let target = Isometry3::from_parts(
         Translation3::from(Vector3::new(p[0], p[1], p[2]) * 1e-3),
@@ -459,11 +379,11 @@ fn run_ik(a: IkArgs) -> Result<u8> {
                 .collect::<Result<_>>()?,
             solver: "closed_form",
         };
-        if !is_stdout(&a.json) {
-            print!("{}", report.render_text(&robot));
+        if !is_stdout(a.json.as_deref()) {
+            output::print(&report.render_text(&robot))?;
         }
         if let Some(p) = &a.json {
-            write_json(p, &report)?;
+            write_json("--json", p, &report)?;
         }
         return Ok(if report.solutions.is_empty() { 1 } else { 0 });
     }
@@ -488,36 +408,13 @@ fn run_ik(a: IkArgs) -> Result<u8> {
         },
         solver: "numeric",
     };
-    if !is_stdout(&a.json) {
-        print!("{}", report.render_text(&robot));
+    if !is_stdout(a.json.as_deref()) {
+        output::print(&report.render_text(&robot))?;
     }
     if let Some(p) = &a.json {
-        write_json(p, &report)?;
+        write_json("--json", p, &report)?;
     }
     Ok(if outcome.converged { 0 } else { 1 })
-}
-
-/// `--units mm,deg` → (length, angle); either part may be left out (`--units m`).
-fn split_units(text: Option<&str>) -> Result<(Option<String>, Option<String>)> {
-    let (mut length, mut angle) = (None, None);
-    for part in text
-        .unwrap_or("")
-        .split(',')
-        .map(str::trim)
-        .filter(|p| !p.is_empty())
-    {
-        match part {
-            "mm" | "m" => length = Some(part.to_string()),
-            "deg" | "rad" => angle = Some(part.to_string()),
-            other => {
-                return Err(Error::usage(
-                    "--units",
-                    format!("'{other}' is not a unit: give LENGTH,ANGLE with LENGTH mm or m and ANGLE deg or rad"),
-                ))
-            }
-        }
-    }
-    Ok((length, angle))
 }
 
 /// Progress on a terminal for long checks. Updated every 4,096 samples so that the bar's
@@ -560,45 +457,15 @@ impl SampleSink for Progress {
 }
 
 fn run_check(a: CheckArgs) -> Result<u8> {
-    check_output("--json", &a.json)?;
-    check_output("--joints", &a.joints)?;
-    check_output("--html", &a.html)?;
-    let (units_length, units_angle) = split_units(a.units.as_deref())?;
-    let overrides = Overrides {
-        robot: a.robot.clone(),
-        tip: a.tip.clone(),
-        units_length,
-        units_angle,
-        speed: a.speed,
-        orientation_speed: a.orientation_speed,
-        tool: six("--tool", &a.tool)?,
-        work_frame: six("--work-frame", &a.work_frame)?,
-        start_joints: a
-            .start_joints
-            .as_ref()
-            .map(|s| numbers("--start-joints", s, None))
-            .transpose()?,
-        tool_angular_speed: a.tool_angular_speed,
-        joint_speed_scale: a.joint_speed_scale,
-        step: a.step,
-        angle_step: a.angle_step,
-    };
-    let job = job::load(&a.path, &overrides)?;
+    let (job, options) = a.settings.load_job(
+        &a.path,
+        &[
+            ("--json", a.json.as_deref()),
+            ("--joints", a.joints.as_deref()),
+            ("--html", a.html.as_deref()),
+        ],
+    )?;
     let robot = load_urdf(&job.robot, job.tip.as_deref())?;
-    let mut options = CheckOptions::default();
-    if let Some(t) = a.singularity_threshold {
-        if !(t.is_finite() && t > 0.0 && t < 1.0) {
-            return Err(Error::usage(
-                "--singularity-threshold",
-                format!("{t} is not in (0, 1): the measure runs from 0 (singular) to 1"),
-            ));
-        }
-        options.thresholds.singularity = t;
-    }
-    if let Some(n) = a.max_samples {
-        options.max_samples = n;
-    }
-    options.numeric_only = a.ik == "numeric";
     // Open outputs before the walk so that a bad output path fails early.
     let mut csv = a.joints.as_deref().map(JointsCsv::create).transpose()?;
     let mut html = a
@@ -607,7 +474,8 @@ fn run_check(a: CheckArgs) -> Result<u8> {
         .map(|p| HtmlReport::create(p, &job))
         .transpose()?;
     // Progress goes to standard error, only on a terminal, never with JSON on stdout.
-    let show_progress = !a.quiet && std::io::stderr().is_terminal() && !is_stdout(&a.json);
+    let show_progress =
+        !a.quiet && std::io::stderr().is_terminal() && !is_stdout(a.json.as_deref());
     let mut progress = Progress {
         bar: None,
         count: 0,
@@ -635,12 +503,12 @@ fn run_check(a: CheckArgs) -> Result<u8> {
         h.finish(&report)?;
     }
     if let Some(p) = &a.json {
-        write_json(p, &report)?;
+        write_json("--json", p, &report)?;
     }
-    if !a.quiet && !is_stdout(&a.json) && !is_stdout(&a.html) {
+    if !a.quiet && !is_stdout(a.json.as_deref()) && !is_stdout(a.html.as_deref()) {
         let stdout = std::io::stdout();
         let color = stdout.is_terminal() && std::env::var_os("NO_COLOR").is_none();
-        print!("{}", render_text(&report, Style { color }));
+        output::print(&render_text(&report, Style { color }))?;
     }
     Ok(report.exit_code() as u8)
 }

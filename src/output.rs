@@ -1,15 +1,300 @@
-//! Writing output files so that nothing is ever half-written: data goes to a temporary file in
-//! the target's folder and is renamed into place only when complete. A failure or an input
-//! error leaves no report behind and does not touch an older one. Targets that are not
-//! regular files (`-` for standard output, `/dev/null`, a pipe) are written directly.
+//! Writing outputs so that no data is ever destroyed.
+//!
+//! - Files: data goes to a temporary file in the target's folder and is renamed into place
+//!   only when complete. A failure, an input error or a signal (see
+//!   [`remove_temp_files_on_signal`]) leaves no temporary file behind and does not touch an
+//!   older report. Targets that are not regular files (`/dev/null`, a pipe) are written
+//!   directly.
+//! - No output may replace an input or another output ([`refuse_overwrite`]): paths are
+//!   compared after resolving symbolic links, and files by device and inode (hard links).
+//! - Standard output (`-`, and the text reports through [`print`]): a reader that has gone
+//!   away (a closed pipe) ends the writing quietly; any other write error is an [`Error`].
 
 use crate::error::{Error, Result};
 use std::fs::File;
 use std::io::{BufWriter, Write};
 use std::path::{Path, PathBuf};
+use std::sync::{Mutex, MutexGuard};
+
+/// Temporary files being written, removed by the signal handler. Touched only when an output
+/// is opened, committed or dropped, never per sample.
+static LIVE_TEMPS: Mutex<Vec<PathBuf>> = Mutex::new(Vec::new());
+
+fn live_temps() -> MutexGuard<'static, Vec<PathBuf>> {
+    LIVE_TEMPS.lock().unwrap_or_else(|p| p.into_inner())
+}
+
+fn forget_temp(list: &mut Vec<PathBuf>, temp: &Path) {
+    list.retain(|t| t != temp);
+}
+
+/// Exit code after SIGINT (128 + 2, common practice for a process ended by a signal).
+pub const EXIT_SIGINT: i32 = 130;
+/// Exit code after SIGTERM (128 + 15, common practice).
+pub const EXIT_SIGTERM: i32 = 143;
+
+/// Install handlers for SIGINT and SIGTERM that remove every temporary output file still
+/// being written and end the process with [`EXIT_SIGINT`] or [`EXIT_SIGTERM`]. Older files
+/// at the targets are untouched. The handler runs on a thread of its own (not in signal
+/// context), so it may take the registry's lock; it keeps the lock until the process ends,
+/// so no output can be renamed into place after the signal.
+pub fn remove_temp_files_on_signal() -> Result<()> {
+    use signal_hook::consts::{SIGINT, SIGTERM};
+    let mut signals = signal_hook::iterator::Signals::new([SIGINT, SIGTERM]).map_err(|e| {
+        Error::usage(
+            "signal handling",
+            format!("could not install the SIGINT/SIGTERM handler: {e}"),
+        )
+    })?;
+    std::thread::Builder::new()
+        .name("armpath-signals".into())
+        .spawn(move || {
+            if let Some(signal) = signals.forever().next() {
+                let list = live_temps();
+                for temp in list.iter() {
+                    let _ = std::fs::remove_file(temp);
+                }
+                let code = if signal == SIGINT {
+                    EXIT_SIGINT
+                } else {
+                    EXIT_SIGTERM
+                };
+                let _ = writeln!(
+                    std::io::stderr(),
+                    "armpath: stopped by signal {signal}; unfinished output files removed, older ones kept"
+                );
+                std::process::exit(code);
+            }
+        })
+        .map_err(|e| {
+            Error::usage(
+                "signal handling",
+                format!("could not start the signal thread: {e}"),
+            )
+        })?;
+    Ok(())
+}
+
+/// Standard output that treats a reader gone away (`EPIPE`) as the end of the output: later
+/// writes are dropped and succeed. Other errors are returned.
+struct Stdout {
+    closed: bool,
+}
+
+impl Write for Stdout {
+    fn write(&mut self, buf: &[u8]) -> std::io::Result<usize> {
+        if self.closed {
+            return Ok(buf.len());
+        }
+        match std::io::stdout().lock().write_all(buf) {
+            Err(e) if e.kind() == std::io::ErrorKind::BrokenPipe => {
+                self.closed = true;
+                Ok(buf.len())
+            }
+            Err(e) => Err(e),
+            Ok(()) => Ok(buf.len()),
+        }
+    }
+    fn flush(&mut self) -> std::io::Result<()> {
+        if self.closed {
+            return Ok(());
+        }
+        match std::io::stdout().lock().flush() {
+            Err(e) if e.kind() == std::io::ErrorKind::BrokenPipe => {
+                self.closed = true;
+                Ok(())
+            }
+            other => other,
+        }
+    }
+}
+
+/// How standard output is named in messages.
+const STDOUT_NAME: &str = "standard output";
+
+fn stdout_error(source: std::io::Error) -> Error {
+    Error::Io {
+        path: PathBuf::from(STDOUT_NAME),
+        action: "writing",
+        source,
+    }
+}
+
+/// Write a text report to standard output. A closed pipe (`| head -1`) ends it quietly;
+/// another failure (a full disk) is an error naming standard output.
+pub fn print(text: &str) -> Result<()> {
+    let mut out = Stdout { closed: false };
+    out.write_all(text.as_bytes()).map_err(stdout_error)?;
+    out.flush().map_err(stdout_error)
+}
+
+/// True when the output option is `-` (standard output).
+pub fn is_stdout(path: Option<&Path>) -> bool {
+    path.is_some_and(|p| p.as_os_str() == "-")
+}
+
+/// Refuse an output path that cannot be written before any work is done: a folder, or a file
+/// in a folder that does not exist. `-` (standard output) and no path always pass.
+pub fn check_target(option: &str, path: Option<&Path>) -> Result<()> {
+    let Some(p) = path.filter(|p| p.as_os_str() != "-") else {
+        return Ok(());
+    };
+    if p.is_dir() {
+        return Err(Error::usage(
+            option,
+            format!(
+                "{} is a folder: give a file name for the output",
+                p.display()
+            ),
+        ));
+    }
+    if let Some(dir) = p.parent().filter(|d| !d.as_os_str().is_empty()) {
+        if !dir.is_dir() {
+            return Err(Error::usage(
+                option,
+                format!(
+                    "the folder {} does not exist: create it or write the output elsewhere",
+                    dir.display()
+                ),
+            ));
+        }
+    }
+    Ok(())
+}
+
+/// Write `value` as pretty JSON (with a final newline) to `path` (`-` = standard output);
+/// `option` names the flag in messages.
+pub fn write_json<T: serde::Serialize>(option: &str, path: &Path, value: &T) -> Result<()> {
+    let mut text = serde_json::to_string_pretty(value)
+        .map_err(|e| Error::usage(option, format!("could not serialise the result: {e}")))?;
+    text.push('\n');
+    write_all(path, text.as_bytes())
+}
+
+/// What a file is, for comparing inputs and outputs: its device and inode when it exists (hard
+/// links and symbolic links to one file share them), and its path with symbolic links and
+/// `..` resolved (for an output not yet written: the resolved folder plus the file name).
+struct FileKey {
+    inode: Option<(u64, u64)>,
+    path: Option<PathBuf>,
+    /// An existing file that is not a regular file (`/dev/null`, a pipe): many outputs may
+    /// go there.
+    special: bool,
+}
+
+impl FileKey {
+    fn of(p: &Path) -> FileKey {
+        let meta = std::fs::metadata(p).ok();
+        let path = std::fs::canonicalize(p).ok().or_else(|| {
+            let name = p.file_name()?;
+            let dir = match p.parent() {
+                Some(d) if !d.as_os_str().is_empty() => d,
+                _ => Path::new("."),
+            };
+            Some(std::fs::canonicalize(dir).ok()?.join(name))
+        });
+        FileKey {
+            inode: meta.as_ref().and_then(inode),
+            special: meta.as_ref().is_some_and(|m| !m.is_file()),
+            path,
+        }
+    }
+
+    fn same(&self, other: &FileKey) -> bool {
+        let by_inode = matches!((self.inode, other.inode), (Some(a), Some(b)) if a == b);
+        let by_path = matches!((&self.path, &other.path), (Some(a), Some(b)) if a == b);
+        by_inode || by_path
+    }
+}
+
+#[cfg(unix)]
+fn inode(m: &std::fs::Metadata) -> Option<(u64, u64)> {
+    use std::os::unix::fs::MetadataExt;
+    Some((m.dev(), m.ino()))
+}
+
+#[cfg(not(unix))]
+fn inode(_: &std::fs::Metadata) -> Option<(u64, u64)> {
+    None
+}
+
+/// The files a job was read from, named for messages: the path file (or the CSV waypoint
+/// file given directly), a CSV waypoint file the path file names, and the URDF.
+pub fn job_inputs(job: &crate::job::Job) -> Vec<(&'static str, &Path)> {
+    let csv = |p: &Path| p.extension().is_some_and(|e| e.eq_ignore_ascii_case("csv"));
+    let mut inputs = vec![(
+        if csv(&job.source) {
+            "the CSV waypoint file"
+        } else {
+            "the path file"
+        },
+        job.source.as_path(),
+    )];
+    if job.waypoints_file != job.source {
+        inputs.push(("the CSV waypoint file", job.waypoints_file.as_path()));
+    }
+    inputs.push(("the URDF", job.robot.as_path()));
+    inputs
+}
+
+/// Refuse outputs that would replace an input or each other, before any work is done.
+/// `inputs` are (what it is, path), e.g. `("the URDF", robot)`; `outputs` are (option, path)
+/// with `None` for an output not asked for. Two outputs onto standard output are refused
+/// too (they would interleave); special files such as `/dev/null` may take many outputs.
+pub fn refuse_overwrite(inputs: &[(&str, &Path)], outputs: &[(&str, Option<&Path>)]) -> Result<()> {
+    let outputs: Vec<(&str, &Path)> = outputs
+        .iter()
+        .filter_map(|(o, p)| p.map(|p| (*o, p)))
+        .collect();
+    let input_keys: Vec<FileKey> = inputs.iter().map(|(_, p)| FileKey::of(p)).collect();
+    let mut seen: Vec<(&str, &Path, Option<FileKey>)> = Vec::new();
+    for &(option, path) in &outputs {
+        let key = (path.as_os_str() != "-").then(|| FileKey::of(path));
+        if let Some(k) = &key {
+            if let Some(i) = input_keys.iter().position(|ik| k.same(ik)) {
+                let (what, input) = inputs[i];
+                return Err(Error::usage(
+                    option,
+                    format!(
+                        "{} is {what} {} (the same file): the output would destroy an input; \
+                         write it to another file",
+                        path.display(),
+                        input.display()
+                    ),
+                ));
+            }
+        }
+        for (other, other_path, other_key) in &seen {
+            let clash = match (&key, other_key) {
+                (None, None) => true,
+                (Some(a), Some(b)) => !a.special && a.same(b),
+                _ => false,
+            };
+            if clash {
+                let target = if key.is_none() {
+                    STDOUT_NAME.to_string()
+                } else if path == *other_path {
+                    path.display().to_string()
+                } else {
+                    format!(
+                        "{} and {} (the same file)",
+                        other_path.display(),
+                        path.display()
+                    )
+                };
+                return Err(Error::usage(
+                    format!("{other}/{option}"),
+                    format!("both write to {target}: give each output its own file"),
+                ));
+            }
+        }
+        seen.push((option, path, key));
+    }
+    Ok(())
+}
 
 enum Target {
-    Stdout(std::io::Stdout),
+    Stdout(Stdout),
     Direct(BufWriter<File>),
     Temp {
         file: BufWriter<File>,
@@ -33,7 +318,7 @@ impl OutputFile {
             source,
         };
         let target = if path.as_os_str() == "-" {
-            Target::Stdout(std::io::stdout())
+            Target::Stdout(Stdout { closed: false })
         } else {
             match std::fs::metadata(path) {
                 Ok(m) if !m.is_file() => {
@@ -60,7 +345,10 @@ impl OutputFile {
                         .map(|n| n.to_string_lossy().into_owned())
                         .unwrap_or_else(|| "output".into());
                     let temp = dir.join(format!(".{name}.armpath-{}.tmp", std::process::id()));
+                    let mut live = live_temps();
                     let file = File::create(&temp).map_err(io_err)?;
+                    live.push(temp.clone());
+                    drop(live);
                     Target::Temp {
                         file: BufWriter::new(file),
                         temp,
@@ -88,16 +376,22 @@ impl OutputFile {
             source,
         };
         match self.target.take() {
-            Some(Target::Stdout(mut s)) => s.flush().map_err(io_err),
+            Some(Target::Stdout(mut s)) => s.flush().map_err(stdout_error),
             Some(Target::Direct(mut f)) => f.flush().map_err(io_err),
             Some(Target::Temp { file, temp }) => {
-                let file = file.into_inner().map_err(|e| io_err(e.into_error()))?;
-                file.sync_all().map_err(io_err)?;
-                drop(file);
-                std::fs::rename(&temp, &self.path).map_err(|e| {
+                let flushed = file
+                    .into_inner()
+                    .map_err(|e| e.into_error())
+                    .and_then(|f| f.sync_all());
+                // Under the registry's lock, so that a signal either finds the temporary
+                // file (and removes it) or finds the output complete and in place.
+                let mut live = live_temps();
+                let result = flushed.and_then(|()| std::fs::rename(&temp, &self.path));
+                if result.is_err() {
                     let _ = std::fs::remove_file(&temp);
-                    io_err(e)
-                })
+                }
+                forget_temp(&mut live, &temp);
+                result.map_err(io_err)
             }
             None => Ok(()),
         }
@@ -123,8 +417,11 @@ impl Write for OutputFile {
 
 impl Drop for OutputFile {
     fn drop(&mut self) {
-        if let Some(Target::Temp { temp, .. }) = self.target.take() {
-            let _ = std::fs::remove_file(temp);
+        if let Some(Target::Temp { file, temp }) = self.target.take() {
+            let mut live = live_temps();
+            drop(file);
+            let _ = std::fs::remove_file(&temp);
+            forget_temp(&mut live, &temp);
         }
     }
 }
@@ -132,10 +429,16 @@ impl Drop for OutputFile {
 /// Write a whole buffer to `path` atomically (see the module doc).
 pub fn write_all(path: &Path, bytes: &[u8]) -> Result<()> {
     let mut out = OutputFile::create(path)?;
-    out.write_all(bytes).map_err(|source| Error::Io {
-        path: path.to_path_buf(),
-        action: "writing",
-        source,
+    out.write_all(bytes).map_err(|source| {
+        if path.as_os_str() == "-" {
+            stdout_error(source)
+        } else {
+            Error::Io {
+                path: path.to_path_buf(),
+                action: "writing",
+                source,
+            }
+        }
     })?;
     out.commit()
 }
@@ -159,6 +462,36 @@ mod tests {
         write_all(&p, b"new").unwrap();
         assert_eq!(std::fs::read_to_string(&p).unwrap(), "new");
         assert_eq!(std::fs::read_dir(dir.path()).unwrap().count(), 1);
+    }
+
+    #[test]
+    fn overwrite_refusal_sees_through_links_and_unwritten_names() {
+        // source: common practice (a file is its device and inode; a name is its resolved path)
+        let dir = tempfile::tempdir().unwrap();
+        let d = dir.path();
+        let input = d.join("in.yaml");
+        std::fs::write(&input, "x").unwrap();
+        std::fs::hard_link(&input, d.join("hard")).unwrap();
+        std::fs::create_dir(d.join("sub")).unwrap();
+        let inputs = [("the path file", input.as_path())];
+        let refused = |out: &Path| {
+            refuse_overwrite(&inputs, &[("--json", Some(out))])
+                .unwrap_err()
+                .to_string()
+        };
+        assert!(refused(&d.join("hard")).contains("the path file"));
+        assert!(refused(&d.join("sub/../in.yaml")).contains("the same file"));
+        assert!(refuse_overwrite(&inputs, &[("--json", Some(&d.join("new.json")))]).is_ok());
+        let new = d.join("sub/new.json");
+        let spelt = d.join("sub/../sub/new.json");
+        let e = refuse_overwrite(&inputs, &[("--json", Some(&new)), ("--html", Some(&spelt))])
+            .unwrap_err()
+            .to_string();
+        assert!(e.starts_with("--json/--html: both write to"), "{e}");
+        let null = Path::new("/dev/null");
+        assert!(
+            refuse_overwrite(&inputs, &[("--json", Some(null)), ("--html", Some(null))]).is_ok()
+        );
     }
 
     #[test]

@@ -2,20 +2,21 @@
 //! error findings, 1 when it has, 2 for bad input or usage, like `check`).
 
 use super::place::{self, Axis, Grid};
-use crate::check::CheckOptions;
 use crate::error::{Error, Result};
-use crate::job::{self, Overrides};
-use crate::output;
+use crate::flags::SettingFlags;
+use crate::output::{self, is_stdout, write_json};
 use crate::robot::load_urdf;
 use std::io::IsTerminal;
-use std::path::{Path, PathBuf};
+use std::path::PathBuf;
 use std::time::Instant;
 
 /// `armpath fix`.
 #[derive(clap::Args, Debug)]
 pub struct FixArgs {
-    /// The path file (.yaml/.yml).
+    /// The path file (.yaml/.yml) or CSV waypoint file (.csv, with --robot and --speed).
     pub path: PathBuf,
+    #[command(flatten)]
+    pub settings: SettingFlags,
     /// Where to write the amended path file (default: NAME.fixed.yaml beside the input).
     #[arg(long, value_name = "FILE")]
     pub out: Option<PathBuf>,
@@ -27,8 +28,10 @@ pub struct FixArgs {
 /// `armpath place`.
 #[derive(clap::Args, Debug)]
 pub struct PlaceArgs {
-    /// The path file (.yaml/.yml).
+    /// The path file (.yaml/.yml) or CSV waypoint file (.csv, with --robot and --speed).
     pub path: PathBuf,
+    #[command(flatten)]
+    pub settings: SettingFlags,
     /// Offsets of the work frame along the base x axis, FROM:TO:STEP in the file's length unit.
     #[arg(long, value_name = "FROM:TO:STEP", allow_hyphen_values = true)]
     pub x: String,
@@ -56,58 +59,24 @@ pub struct PlaceArgs {
     pub json: Option<PathBuf>,
 }
 
-fn is_stdout(p: &Option<PathBuf>) -> bool {
-    p.as_ref().is_some_and(|p| p.as_os_str() == "-")
-}
-
-/// Refuse an output path that cannot be written before any work is done.
-fn check_output(option: &str, path: Option<&Path>) -> Result<()> {
-    let Some(p) = path.filter(|p| p.as_os_str() != "-") else {
-        return Ok(());
-    };
-    if p.is_dir() {
-        return Err(Error::usage(
-            option,
-            format!("{} is a folder: give a file name", p.display()),
-        ));
-    }
-    if let Some(dir) = p.parent().filter(|d| !d.as_os_str().is_empty()) {
-        if !dir.is_dir() {
-            return Err(Error::usage(
-                option,
-                format!(
-                    "the folder {} does not exist: create it or write elsewhere",
-                    dir.display()
-                ),
-            ));
-        }
-    }
-    Ok(())
-}
-
-fn write_json<T: serde::Serialize>(path: &Path, value: &T) -> Result<()> {
-    let mut text = serde_json::to_string_pretty(value)
-        .map_err(|e| Error::usage("--json", format!("could not serialise the result: {e}")))?;
-    text.push('\n');
-    output::write_all(path, text.as_bytes())
-}
-
 pub fn run_fix(a: FixArgs) -> Result<u8> {
     let out = a.out.clone().unwrap_or_else(|| super::default_out(&a.path));
-    check_output("--out", Some(&out))?;
-    check_output("--json", a.json.as_deref())?;
     if out.as_os_str() == "-" {
         return Err(Error::usage(
             "--out",
             "the amended path must go to a file (it is read back and re-checked)",
         ));
     }
-    let report = super::fix(&a.path, &out, &CheckOptions::default())?;
-    if !is_stdout(&a.json) {
-        print!("{}", super::render_fix_text(&report));
+    let (job, options) = a.settings.load_job(
+        &a.path,
+        &[("--out", Some(&out)), ("--json", a.json.as_deref())],
+    )?;
+    let report = super::fix(&job, &out, &options)?;
+    if !is_stdout(a.json.as_deref()) {
+        output::print(&super::render_fix_text(&report))?;
     }
     if let Some(p) = &a.json {
-        write_json(p, &report)?;
+        write_json("--json", p, &report)?;
     }
     Ok(report.exit_code() as u8)
 }
@@ -126,9 +95,6 @@ struct PlaceReport<'a> {
 }
 
 pub fn run_place(a: PlaceArgs) -> Result<u8> {
-    check_output("--csv", a.csv.as_deref())?;
-    check_output("--map", a.map.as_deref())?;
-    check_output("--json", a.json.as_deref())?;
     let grid = Grid {
         x: Axis::parse("--x", &a.x)?,
         y: Axis::parse("--y", &a.y)?,
@@ -154,9 +120,16 @@ pub fn run_place(a: PlaceArgs) -> Result<u8> {
             ),
         ));
     }
-    let job = job::load(&a.path, &Overrides::default())?;
+    let (job, options) = a.settings.load_job(
+        &a.path,
+        &[
+            ("--csv", a.csv.as_deref()),
+            ("--map", a.map.as_deref()),
+            ("--json", a.json.as_deref()),
+        ],
+    )?;
     let robot = load_urdf(&job.robot, job.tip.as_deref())?;
-    let bar = (std::io::stderr().is_terminal() && !is_stdout(&a.json)).then(|| {
+    let bar = (std::io::stderr().is_terminal() && !is_stdout(a.json.as_deref())).then(|| {
         let b = indicatif::ProgressBar::new(grid.len() as u64);
         b.set_style(
             indicatif::ProgressStyle::with_template(
@@ -172,7 +145,7 @@ pub fn run_place(a: PlaceArgs) -> Result<u8> {
             b.inc(1);
         }
     };
-    let placements = place::search(&job, &robot, &grid, &CheckOptions::default(), &tick)?;
+    let placements = place::search(&job, &robot, &grid, &options, &tick)?;
     let seconds = started.elapsed().as_secs_f64();
     if let Some(b) = &bar {
         b.finish_and_clear();
@@ -210,11 +183,11 @@ pub fn run_place(a: PlaceArgs) -> Result<u8> {
         best: &best,
         cautions: crate::report::CAUTIONS.to_vec(),
     };
-    if !is_stdout(&a.json) {
-        print!("{}", place_text(&report));
+    if !is_stdout(a.json.as_deref()) {
+        output::print(&place_text(&report))?;
     }
     if let Some(p) = &a.json {
-        write_json(p, &report)?;
+        write_json("--json", p, &report)?;
     }
     Ok(if best.first().is_some_and(|b| b.errors == 0) {
         0

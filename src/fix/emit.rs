@@ -50,7 +50,30 @@ fn pose_fields(job: &Job, pose: &Isometry3<f64>) -> String {
     )
 }
 
-/// YAML-quoted string (double quotes, escapes for `"` and `\`): safe for any name or path.
+/// True for the characters YAML reads as a line break or that a double-quoted scalar may not
+/// hold raw: C0 and C1 controls, DEL, the Unicode line and paragraph separators and the byte
+/// order mark.
+fn needs_escape(c: char) -> bool {
+    c.is_control() || matches!(c, '\u{2028}' | '\u{2029}' | '\u{feff}')
+}
+
+/// `c` as a YAML double-quoted escape sequence (YAML 1.2, section 5.7).
+fn push_escaped(out: &mut String, c: char) {
+    match c {
+        '\n' => out.push_str("\\n"),
+        '\r' => out.push_str("\\r"),
+        '\t' => out.push_str("\\t"),
+        c if (c as u32) <= 0xff => {
+            let _ = write!(out, "\\x{:02x}", c as u32);
+        }
+        c => {
+            let _ = write!(out, "\\u{:04x}", c as u32);
+        }
+    }
+}
+
+/// YAML double-quoted string: `"` and `\` escaped, and every control character or line break
+/// written as an escape sequence, so that any name or path stays one scalar on one line.
 fn quoted(s: &str) -> String {
     let mut out = String::with_capacity(s.len() + 2);
     out.push('"');
@@ -58,11 +81,26 @@ fn quoted(s: &str) -> String {
         match c {
             '"' => out.push_str("\\\""),
             '\\' => out.push_str("\\\\"),
-            '\n' => out.push_str("\\n"),
+            c if needs_escape(c) => push_escaped(&mut out, c),
             c => out.push(c),
         }
     }
     out.push('"');
+    out
+}
+
+/// A comment line's text: line breaks and other control characters (which a waypoint name in
+/// a change note may carry) are written as escapes, so the comment cannot end early and start
+/// a live line.
+fn comment(s: &str) -> String {
+    let mut out = String::with_capacity(s.len());
+    for c in s.chars() {
+        if needs_escape(c) {
+            push_escaped(&mut out, c);
+        } else {
+            out.push(c);
+        }
+    }
     out
 }
 
@@ -73,7 +111,7 @@ pub fn path_file(job: &Job, header: &[String]) -> String {
     let a = job.units.angle_to_rad();
     let mut out = String::new();
     for h in header {
-        let _ = writeln!(out, "# {h}");
+        let _ = writeln!(out, "# {}", comment(h));
     }
     let _ = writeln!(
         out,
@@ -169,7 +207,36 @@ pub fn path_file(job: &Job, header: &[String]) -> String {
 
 #[cfg(test)]
 mod tests {
-    use super::num;
+    use super::{comment, num, quoted};
+
+    #[test]
+    fn quoted_strings_read_back_unchanged_as_one_scalar() {
+        // source: serde_yaml 0.9 as the reference YAML reader
+        let names = [
+            "plain",
+            "a\nstart_joints: [1, 2, 3, 4, 5, 6]",
+            "cr\rlf\r\n",
+            "tab\tand \"quotes\" and \\ back",
+            "nel\u{85} ls\u{2028} ps\u{2029} bom\u{feff} nul\u{0} del\u{7f}",
+            "}, start_joints: [0], x: {",
+        ];
+        for name in names {
+            let text = format!("{{name: {}, z: 1}}\n", quoted(name));
+            assert_eq!(text.lines().count(), 1, "{text:?}");
+            let v: serde_yaml::Mapping = serde_yaml::from_str(&text).unwrap();
+            assert_eq!(v.len(), 2, "{text:?}");
+            assert_eq!(v["name"].as_str(), Some(name));
+        }
+    }
+
+    #[test]
+    fn comments_stay_on_one_line() {
+        // source: common practice (a YAML comment ends at the line break)
+        let c = comment("segment 1 (a\nspeed: 1 → b\u{2028}c)");
+        assert_eq!(c, "segment 1 (a\\nspeed: 1 → b\\u2028c)");
+        let v: Option<serde_yaml::Value> = serde_yaml::from_str(&format!("# {c}\n")).unwrap();
+        assert!(v.is_none_or(|v| v.is_null()));
+    }
 
     #[test]
     fn numbers_lose_trailing_zeros_only() {

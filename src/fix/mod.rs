@@ -115,20 +115,14 @@ fn run_check(
     check(job, &robot, options, sinks)
 }
 
-/// Run the fix search on the path file `path` and write the amended file to `out`.
-pub fn fix(path: &Path, out: &Path, options: &CheckOptions) -> Result<FixReport> {
-    if let (Ok(a), Ok(b)) = (std::fs::canonicalize(path), std::fs::canonicalize(out)) {
-        if a == b {
-            return Err(Error::usage(
-                "--out",
-                format!(
-                    "{} is the input file: write the amended path to another file",
-                    out.display()
-                ),
-            ));
-        }
-    }
-    let job = job::load(path, &Overrides::default())?;
+/// Run the fix search on `job` (loaded with any command-line overrides) and write the
+/// amended path file to `out`. The amended file holds every setting and waypoint itself (a
+/// CSV input's waypoints are written inline), so it is re-checked on its own. `out` must not
+/// be one of the job's input files.
+pub fn fix(job: &Job, out: &Path, options: &CheckOptions) -> Result<FixReport> {
+    crate::output::refuse_overwrite(&crate::output::job_inputs(job), &[("--out", Some(out))])?;
+    let path = job.source.as_path();
+    let job = job.clone();
     let mut robot = load_urdf(&job.robot, job.tip.as_deref())?;
     let mut amended = job.clone();
     let mut changes = Vec::new();

@@ -140,6 +140,9 @@ pub struct InputWarning {
 pub struct Job {
     /// The path file (YAML or CSV) the job was read from.
     pub source: PathBuf,
+    /// The file the waypoints were read from: `source` itself, or the CSV file a path file
+    /// names in `waypoints:`.
+    pub waypoints_file: PathBuf,
     /// URDF of the robot: the `--robot` override, else the file's `robot:` resolved against the
     /// path file's folder.
     pub robot: PathBuf,

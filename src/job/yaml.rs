@@ -1302,6 +1302,7 @@ fn build(
 
     Ok(Job {
         source: path.to_path_buf(),
+        waypoints_file: waypoint_file,
         robot,
         tip,
         tool,

@@ -449,15 +449,18 @@ impl Report {
             ("summary.min_limit_margin_ratio", s.min_limit_margin_ratio),
         ];
         let start = p.start.joints.iter().map(|&v| ("path.start.joints", v));
-        let poses = [("path.tool", &p.tool.tip_T_tcp), ("path.base_T_work", &p.base_T_work)]
-            .into_iter()
-            .flat_map(|(name, pose)| {
-                pose.xyz_mm
-                    .into_iter()
-                    .chain(pose.quat_wxyz)
-                    .chain(pose.rpy_deg)
-                    .map(move |v| (name, v))
-            });
+        let poses = [
+            ("path.tool", &p.tool.tip_T_tcp),
+            ("path.base_T_work", &p.base_T_work),
+        ]
+        .into_iter()
+        .flat_map(|(name, pose)| {
+            pose.xyz_mm
+                .into_iter()
+                .chain(pose.quat_wxyz)
+                .chain(pose.rpy_deg)
+                .map(move |v| (name, v))
+        });
         let findings = self.findings.iter().flat_map(|f| {
             let pairs = [f.s_mm, f.t_s].into_iter().flatten().flatten();
             let single = [f.value, f.limit].into_iter().flatten();
