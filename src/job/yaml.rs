@@ -1052,9 +1052,11 @@ impl Ctx<'_> {
             )?;
             if v < range.0 {
                 return Err(at.error(format!(
-                    "is {v}, below {}: give a fraction in [{}, 1]; a smaller scale leaves no \
+                    "is {}, below {}: give a fraction in [{}, 1]; a smaller scale leaves no \
                      meaningful joint speed check",
-                    range.0, range.0
+                    units::fmt_exact(v),
+                    range.0,
+                    range.0
                 )));
             }
             if v > 1.0 {
