@@ -1538,9 +1538,22 @@ fn check_waypoints(
             ),
         ));
     }
-    let mut names: HashMap<&str, usize> = HashMap::with_capacity(loaded.len());
-    for (i, l) in loaded.iter().enumerate() {
-        if let Some(first) = names.insert(l.waypoint.name.as_str(), i) {
+    // Generated names (`wp<n>`, n the 1-based position) are unique among themselves, so only
+    // given names go into the map, with the generated names they could collide with; a path
+    // without names builds no map at all.
+    let given = loaded.iter().filter(|l| l.name_given).count();
+    let mut names: HashMap<&str, usize> = HashMap::with_capacity(2 * given);
+    for (i, l) in loaded.iter().enumerate().filter(|(_, l)| l.name_given) {
+        // The unnamed waypoint whose generated name this given name spells, if any.
+        let clash = l.waypoint.name.strip_prefix("wp").and_then(|digits| {
+            let n = digits.parse::<usize>().ok()?;
+            let j = n.checked_sub(1)?;
+            let generated = n.to_string() == digits && loaded.get(j).is_some_and(|o| !o.name_given);
+            (generated && j != i).then_some(j)
+        });
+        let first = names.insert(l.waypoint.name.as_str(), i).or(clash);
+        if let Some(first) = first {
+            let (first, second) = (first.min(i), first.max(i));
             let describe = |l: &LoadedWaypoint| {
                 if l.name_given {
                     l.location.clone()
@@ -1548,6 +1561,7 @@ fn check_waypoints(
                     format!("{} (which has no name, so it got the default)", l.location)
                 }
             };
+            let l = &loaded[second];
             return Err(Error::input(
                 file,
                 l.location.clone(),

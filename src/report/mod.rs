@@ -271,7 +271,7 @@ impl Report {
             path: PathReport {
                 file: r.job.source.display().to_string(),
                 waypoints: r.job.waypoints.iter().map(|w| w.name.clone()).collect(),
-                segments: r.plan.segments.len(),
+                segments: r.plan.segment_count(),
                 speed_mm_s: r.job.speed * 1e3,
                 tool_angular_speed_limit_deg_s: r.job.limits.tool_angular_speed.to_degrees(),
                 joint_speed_scale: r.job.limits.joint_speed_scale,
