@@ -43,7 +43,7 @@ fn bench(c: &mut Criterion) {
     let plan = plan(&job, u64::MAX).unwrap();
     // The sample poses, as the checker makes them.
     let mut targets = vec![plan.waypoints_base[0]];
-    for seg in &plan.segments {
+    for seg in plan.segments() {
         for i in 1..=seg.steps {
             targets.push(seg.pose_at(i as f64 / seg.steps as f64));
         }

@@ -54,14 +54,80 @@ impl Segment {
     }
 }
 
+/// What a segment takes from its end waypoint: all the plan keeps per segment besides the
+/// waypoint poses (16 bytes, so that a path of a million waypoints stays small).
+#[derive(Debug, Clone, Copy)]
+struct SegmentKeys {
+    /// Programmed TCP speed (m/s).
+    speed: f64,
+    motion: Motion,
+    process: bool,
+}
+
 /// The planned path: waypoints turned into base-frame segments.
+///
+/// Layout: the plan keeps one base-frame pose per waypoint and [`SegmentKeys`] per segment;
+/// each [`Segment`] (end poses, length, geodesic, duration, steps) is computed from them when
+/// asked for, by [`Plan::segment`] or [`Plan::segments`], the same way every time.
 #[derive(Debug, Clone)]
 pub struct Plan {
-    pub segments: Vec<Segment>,
     /// Pose of every waypoint's TCP in the base frame.
     pub waypoints_base: Vec<Isometry3<f64>>,
     /// Samples along linear segments plus a lower bound for joint segments, plus the first.
     pub estimated_samples: u64,
+    keys: Vec<SegmentKeys>,
+    orientation_speed: Option<f64>,
+    step: f64,
+    angle_step: f64,
+}
+
+impl Plan {
+    /// Number of segments (one fewer than waypoints).
+    pub fn segment_count(&self) -> usize {
+        self.keys.len()
+    }
+
+    /// Segment `k` (from waypoint `k` to `k + 1`), or `None` past the last.
+    pub fn segment(&self, k: usize) -> Option<Segment> {
+        self.segment_and_steps(k).map(|(seg, _)| seg)
+    }
+
+    /// Every segment in path order, each computed when reached.
+    pub fn segments(&self) -> impl Iterator<Item = Segment> + '_ {
+        (0..self.keys.len()).filter_map(|k| self.segment(k))
+    }
+
+    /// Segment `k` and its step count as a float (which may be huge or infinite before the
+    /// sample cap in [`plan`] has been checked).
+    fn segment_and_steps(&self, k: usize) -> Option<(Segment, f64)> {
+        let keys = self.keys.get(k)?;
+        let start = *self.waypoints_base.get(k)?;
+        let end = *self.waypoints_base.get(k + 1)?;
+        let length = (end.translation.vector - start.translation.vector).norm();
+        let geodesic = Geodesic::new(&start.rotation, &end.rotation);
+        let angle = geodesic.angle();
+        let mut duration = length / keys.speed;
+        if let Some(w) = self.orientation_speed {
+            duration = duration.max(angle / w);
+        }
+        let steps_f = (length / self.step)
+            .ceil()
+            .max((angle / self.angle_step).ceil());
+        let seg = Segment {
+            index: k,
+            motion: keys.motion,
+            start,
+            end,
+            length,
+            geodesic,
+            speed: keys.speed,
+            duration,
+            // Exact: `plan` refuses a path whose step counts exceed the sample cap.
+            steps: steps_f as usize,
+            process: keys.process,
+        };
+        Some((seg, steps_f))
+    }
 }
 
 /// Build the plan. Fails when the sampling would imply more than `max_samples` samples.
@@ -71,22 +137,27 @@ pub fn plan(job: &Job, max_samples: u64) -> Result<Plan> {
         .iter()
         .map(|w| job.base_T_work * w.work_T_tcp)
         .collect();
-    let mut segments = Vec::with_capacity(waypoints_base.len().saturating_sub(1));
+    let keys = job
+        .waypoints
+        .iter()
+        .skip(1)
+        .map(|wp| SegmentKeys {
+            speed: wp.speed.unwrap_or(job.speed),
+            motion: wp.motion,
+            process: wp.process,
+        })
+        .collect();
+    let mut plan = Plan {
+        waypoints_base,
+        estimated_samples: 0,
+        keys,
+        orientation_speed: job.orientation_speed,
+        step: job.sampling.step,
+        angle_step: job.sampling.angle_step,
+    };
     let mut total: f64 = 1.0;
-    for (k, pair) in waypoints_base.windows(2).enumerate() {
-        let (start, end) = (pair[0], pair[1]);
-        let wp = &job.waypoints[k + 1];
-        let length = (end.translation.vector - start.translation.vector).norm();
-        let geodesic = Geodesic::new(&start.rotation, &end.rotation);
-        let angle = geodesic.angle();
-        let speed = wp.speed.unwrap_or(job.speed);
-        let mut duration = length / speed;
-        if let Some(w) = job.orientation_speed {
-            duration = duration.max(angle / w);
-        }
-        let steps_f = (length / job.sampling.step)
-            .ceil()
-            .max((angle / job.sampling.angle_step).ceil());
+    for k in 0..plan.segment_count() {
+        let steps_f = plan.segment_and_steps(k).map_or(0.0, |(_, n)| n);
         total += steps_f;
         if !(total.is_finite() && total <= max_samples as f64) {
             return Err(Error::input(
@@ -95,26 +166,50 @@ pub fn plan(job: &Job, max_samples: u64) -> Result<Plan> {
                 format!(
                     "the path would need more than {max_samples} samples (at segment {k}, ending at '{}'): \
                      raise sampling.step / sampling.angle_step, or pass --max-samples N to allow more",
-                    wp.name
+                    job.waypoints[k + 1].name
                 ),
             ));
         }
-        segments.push(Segment {
-            index: k,
-            motion: wp.motion,
-            start,
-            end,
-            length,
-            geodesic,
-            speed,
-            duration,
-            steps: steps_f as usize,
-            process: wp.process,
-        });
     }
-    Ok(Plan {
-        segments,
-        waypoints_base,
-        estimated_samples: total as u64,
-    })
+    plan.estimated_samples = total as u64;
+    Ok(plan)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::job::{load_bytes, Overrides};
+    use std::path::Path;
+
+    #[test]
+    fn per_segment_storage_stays_small() {
+        // The plan keeps one base pose (7 f64 = 56 bytes) per waypoint and these keys per
+        // segment; a million-waypoint path must not carry a full segment (some 200 bytes) each.
+        // source: common practice (memory per waypoint bounded by the data layout)
+        assert!(std::mem::size_of::<SegmentKeys>() <= 16);
+        assert_eq!(std::mem::size_of::<Isometry3<f64>>(), 56);
+    }
+
+    #[test]
+    fn segments_computed_on_demand_match_the_job() {
+        // A 300 mm line at 20 mm/s takes 15 s; at a 2 mm step it has 150 steps; the turn of
+        // 90° in place of the second segment at 45 deg/s takes 2 s and, at 1° steps, 90 steps.
+        // source: from memory (duration = length / speed, steps = ceil(length / step))
+        let text = "robot: a.urdf\nspeed: 20\norientation_speed: 45\nsampling: {step: 2, angle_step: 1}\n\
+                    waypoints:\n  - {xyz: [0, 0, 0], rpy: [180, 0, 0]}\n  - {xyz: [300, 0, 0], rpy: [180, 0, 0]}\n  \
+                    - {xyz: [300, 0, 0], rpy: [180, 0, 90]}\n";
+        let job = load_bytes(text.as_bytes(), Path::new("p.yaml"), &Overrides::default()).unwrap();
+        let plan = plan(&job, DEFAULT_MAX_SAMPLES).unwrap();
+        assert_eq!(plan.segment_count(), 2);
+        let segs: Vec<Segment> = plan.segments().collect();
+        assert!((segs[0].length - 0.3).abs() < 1e-12);
+        assert!((segs[0].duration - 15.0).abs() < 1e-9);
+        assert_eq!(segs[0].steps, 150);
+        assert!((segs[1].duration - 2.0).abs() < 1e-9);
+        assert_eq!(segs[1].steps, 90);
+        assert_eq!(plan.estimated_samples, 1 + 150 + 90);
+        assert!(plan.segment(2).is_none());
+        assert_eq!(segs[1].index, 1);
+        assert_eq!(plan.segment(1).unwrap().end, plan.waypoints_base[2]);
+    }
 }

@@ -329,13 +329,13 @@ impl<'a> Walker<'a> {
                 config_change: None,
             },
         );
-        for seg in &self.plan.segments {
+        for seg in self.plan.segments() {
             if sink.done() {
                 break;
             }
             match seg.motion {
-                Motion::Linear => self.walk_linear(seg, &mut state, sink),
-                Motion::Joint => self.walk_joint(seg, &mut state, sink),
+                Motion::Linear => self.walk_linear(&seg, &mut state, sink),
+                Motion::Joint => self.walk_joint(&seg, &mut state, sink),
             }
         }
         WalkTotals {

@@ -182,9 +182,9 @@ fn text_report_and_joint_csv() {
 
 #[test]
 fn absurd_sample_counts_are_refused_with_the_option_that_raises_the_cap() {
-    // Derivation: the demo seam is 460 mm long; a 1 nm step implies 4.6e8 samples, above
+    // Derivation: the demo path is 877 mm long; a 1 nm step implies 8.77e8 samples, above
     // the 1e8 cap; with --max-samples 1e9 the plan is accepted (checked here on a shorter
-    // cap only, to keep the test fast: 1 µm step = 4.6e5 samples < 1e6).
+    // cap only, to keep the test fast: 1 µm step = 8.77e5 samples, between 1e5 and 1e6).
     // source: common practice (refuse runaway work with a named override)
     let demo = repo("paths/bracket_fillet.yaml").display().to_string();
     let out = armpath()

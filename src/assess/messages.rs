@@ -55,12 +55,13 @@ fn wp_name(job: &Job, i: usize) -> String {
 /// Build the finding for a closed run.
 pub(super) fn finding(robot: &Robot, job: &Job, plan: &Plan, run: &Run) -> Finding {
     let q = quantity_of(run, robot);
-    let seg = &plan.segments.get(run.segment);
+    let seg = plan.segment(run.segment);
+    let seg = seg.as_ref();
     let from = wp_name(job, run.segment);
     let to = wp_name(job, run.segment + 1);
     let joint_name = run.joint.map(|k| robot.joints()[k].name.clone());
     let jn = joint_name.clone().unwrap_or_default();
-    let where_ = if plan.segments.is_empty() {
+    let where_ = if plan.segment_count() == 0 {
         format!("at {from}")
     } else {
         format!("between {from} and {to}")
@@ -198,7 +199,7 @@ pub(super) fn input_findings(job: &Job, plan: &Plan) -> Vec<Finding> {
         let segment = w.waypoint.map(|i| i.saturating_sub(1));
         out.push(make(segment, format!("{}: {}", w.location, w.message)));
     }
-    for seg in &plan.segments {
+    for seg in plan.segments() {
         if seg.geodesic.is_near_half_turn() {
             let axis = seg
                 .geodesic

@@ -112,8 +112,7 @@ pub fn round_down(v: f64) -> f64 {
 /// Largest speeds and proposals for every segment of `plan` from the ratios of one walk.
 pub fn proposals(job: &Job, plan: &Plan, robot: &Robot, sink: &RatioSink) -> Vec<SegmentSpeed> {
     let mut out: Vec<SegmentSpeed> = plan
-        .segments
-        .iter()
+        .segments()
         .map(|seg| {
             let (ratio, by) = sink.worst.get(seg.index).copied().unwrap_or((0.0, None));
             let limited_by = match by {

@@ -146,7 +146,7 @@ pub fn search(job: &Job, robot: &Robot, options: &CheckOptions) -> Result<Option
         joint_move: false,
         rate: spin_rate,
     }];
-    for seg in &pl.segments {
+    for seg in pl.segments() {
         if seg.motion == Motion::Joint {
             samples.push(Sample {
                 pose: seg.end,
@@ -393,7 +393,7 @@ fn amend(
         ..first.clone()
     });
     let mut start = 0;
-    for seg in &pl.segments {
+    for seg in pl.segments() {
         // Samples of this segment: from `start` (the previous waypoint) to its end.
         let Some(end) = samples
             .iter()

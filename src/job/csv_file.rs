@@ -103,7 +103,10 @@ pub(super) fn parse_waypoints(
     let header_line = lines.line_of(&record);
     let cols = parse_header(&record, header_line, path)?;
 
-    let mut out = Vec::new();
+    // One waypoint per line at most: reserving that many at once avoids the transient double
+    // allocation of a growing vector, which on a long file is the peak of the whole check.
+    let rows = bytes.iter().filter(|&&b| b == b'\n').count();
+    let mut out = Vec::with_capacity(rows + 1);
     while read(&mut reader, &mut record, path, &mut lines)? {
         let line = lines.line_of(&record);
         let index = out.len();
@@ -126,9 +129,51 @@ fn read<R: std::io::Read>(
         let more = read_one(reader, record, path, lines)?;
         let blank = more && record.len() == 1 && record[0].is_empty();
         if !blank {
+            if more {
+                check_fields(record, path, lines)?;
+            }
             return Ok(more);
         }
     }
+}
+
+/// No field of the format spans lines or holds control characters: a line break inside a
+/// field means a quote `"` was opened and not closed on its line (the reader would otherwise
+/// take every later line into that field), and a NUL or other control character means a
+/// binary file or a bad export.
+fn check_fields(
+    record: &csv::StringRecord,
+    path: &Path,
+    lines: &mut LineCounter,
+) -> Result<(), Error> {
+    for (i, f) in record.iter().enumerate() {
+        let Some(c) = f.chars().find(|c| c.is_control() && *c != '\t') else {
+            continue;
+        };
+        let line = lines.line_of(record);
+        let message = if c == '\n' || c == '\r' {
+            "the quote `\"` that opens this field is not closed on its line, so the field runs \
+             on into the next lines: close the quote (write `\"\"` for a quote inside a quoted \
+             field) or remove it"
+                .to_string()
+        } else {
+            let what = if c == '\0' {
+                "a NUL byte".to_string()
+            } else {
+                format!("the control character U+{:04X}", c as u32)
+            };
+            format!(
+                "holds {what} (a binary file or a bad export?): remove it, or save the file as \
+                 UTF-8 CSV text"
+            )
+        };
+        return Err(Error::input(
+            path,
+            format!("line {line}, column {}", i + 1),
+            message,
+        ));
+    }
+    Ok(())
 }
 
 fn read_one<R: std::io::Read>(
@@ -425,21 +470,19 @@ fn parse_row(
         None => None,
         Some(i) => {
             let v = number(i, "speed")?;
-            if v <= 0.0 {
-                return Err(Error::input(
-                    path,
-                    loc("speed"),
-                    format!(
-                        "must be greater than 0 (got {v}): give the TCP speed in {} or leave \
-                         the cell empty to use the job's speed",
-                        units.speed_name()
-                    ),
-                ));
-            }
+            units::check_positive(
+                v,
+                units.length_to_m(),
+                units::SPEED_RANGE_M_S,
+                "the TCP speed (or leave the cell empty to use the job's speed)",
+                &units.speed_name(),
+            )
+            .map_err(|m| Error::input(path, loc("speed"), m))?;
             Some(units.length(v))
         }
     };
 
+    let motion_given = !cols.motion.map(field).unwrap_or("").is_empty();
     let motion = match cols.motion.map(field).unwrap_or("") {
         "" => Motion::Linear,
         s if s.eq_ignore_ascii_case("linear") => Motion::Linear,
@@ -478,6 +521,7 @@ fn parse_row(
         },
         location: format!("line {line}"),
         name_given,
+        motion_given,
     })
 }
 

@@ -10,6 +10,10 @@ mod units;
 mod yaml;
 
 pub use units::{AngleUnit, LengthUnit, Units};
+pub use units::{
+    ANGLE_STEP_RANGE_RAD, ANGULAR_SPEED_RANGE_RAD_S, MAX_ABS_ANGLE_RAD, MAX_ABS_LENGTH_M,
+    MAX_ABS_QUAT_COMPONENT, MIN_JOINT_SPEED_SCALE, SPEED_RANGE_M_S, STEP_RANGE_M,
+};
 pub use yaml::{load, load_bytes, Overrides};
 
 /// How the TCP moves from the previous waypoint to this one.
@@ -100,7 +104,8 @@ pub struct StartJoints {
 
 impl StartJoints {
     /// Values in SI given each joint's kind (`true` = prismatic). Errors (as a message) when the
-    /// count differs from the robot's DOF.
+    /// count differs from the robot's DOF, or a value lies outside
+    /// [`units::MAX_ABS_ANGLE_RAD`] (revolute) or [`units::MAX_ABS_LENGTH_M`] (prismatic).
     pub fn to_si(&self, prismatic: &[bool]) -> Result<Vec<f64>, String> {
         if self.values.len() != prismatic.len() {
             return Err(format!(
@@ -109,18 +114,39 @@ impl StartJoints {
                 prismatic.len()
             ));
         }
-        Ok(self
-            .values
+        self.values
             .iter()
             .zip(prismatic)
-            .map(|(v, &p)| {
-                if p {
-                    v * self.length_to_m
+            .enumerate()
+            .map(|(k, (v, &p))| {
+                let (si, max, kind, unit) = if p {
+                    let unit = if self.length_to_m == 1.0 { "m" } else { "mm" };
+                    (self.length_to_m, units::MAX_ABS_LENGTH_M, "prismatic", unit)
                 } else {
-                    v * self.angle_to_rad
+                    let unit = if self.angle_to_rad == 1.0 {
+                        "rad"
+                    } else {
+                        "deg"
+                    };
+                    (
+                        self.angle_to_rad,
+                        units::MAX_ABS_ANGLE_RAD,
+                        "revolute",
+                        unit,
+                    )
+                };
+                if !(v * si).is_finite() || (v * si).abs() > max {
+                    return Err(format!(
+                        "value {} ({}) is outside the range of a {kind} joint, ±{} {unit}: \
+                         give a joint value within it (check the units: {unit})",
+                        k + 1,
+                        units::fmt_exact(*v),
+                        units::fmt_sci(max / si)
+                    ));
                 }
+                Ok(v * si)
             })
-            .collect())
+            .collect()
     }
 }
 

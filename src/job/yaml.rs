@@ -426,6 +426,8 @@ pub(super) struct LoadedWaypoint {
     pub location: String,
     /// False when the name is the generated `wp<n>`.
     pub name_given: bool,
+    /// The file gave the motion (`motion:` key or a non-empty `motion` cell).
+    pub motion_given: bool,
 }
 
 /// Checks that `path` names a readable regular file of at most [`MAX_FILE_BYTES`]. `what` names
@@ -449,6 +451,18 @@ pub(super) fn check_file(path: &Path, what: &str, referenced_by: &str) -> Result
             path,
             "file",
             format!("is a folder, not a {what}{from}: give the path of the file itself"),
+        ));
+    }
+    if !md.is_file() {
+        // Reading a FIFO would block until some other program writes to it, and a device may
+        // never end: only regular files are read.
+        return Err(Error::input(
+            path,
+            "file",
+            format!(
+                "is not a regular file (a named pipe, device or socket), so it cannot be a \
+                 {what}{from}: save the content to a file and give that file's path"
+            ),
         ));
     }
     if md.len() > MAX_FILE_BYTES {
@@ -568,15 +582,54 @@ enum Source {
     Csv(Vec<LoadedWaypoint>, PathBuf),
 }
 
+/// `line L column C` (both 1-based, the column counted in characters) of byte `offset` of
+/// `bytes`, whose first `offset` bytes are valid UTF-8.
+pub(super) fn line_column(bytes: &[u8], offset: usize) -> String {
+    let before = &bytes[..offset.min(bytes.len())];
+    let line = before.iter().filter(|&&b| b == b'\n').count() + 1;
+    let start = before
+        .iter()
+        .rposition(|&b| b == b'\n')
+        .map_or(0, |i| i + 1);
+    let column = String::from_utf8_lossy(&before[start..]).chars().count() + 1;
+    format!("line {line} column {column}")
+}
+
+/// The first character YAML does not allow in a text (a NUL byte or another control
+/// character other than tab, line feed and carriage return), and its byte offset.
+fn first_control_char(text: &str) -> Option<(usize, char)> {
+    text.char_indices().find(|&(_, c)| {
+        (c.is_control() && !matches!(c, '\t' | '\n' | '\r' | '\u{85}'))
+            || matches!(c, '\u{fffe}' | '\u{ffff}')
+    })
+}
+
 fn parse_yaml(bytes: &[u8], path: &Path) -> Result<PathFileSpec, Error> {
+    // A byte-order mark some editors save at the start of UTF-8 text carries no content.
+    let bytes = bytes.strip_prefix(b"\xef\xbb\xbf").unwrap_or(bytes);
     let text = std::str::from_utf8(bytes).map_err(|e| {
         Error::input(
             path,
-            format!("byte {}", e.valid_up_to()),
-            "is not UTF-8 text (a binary file?): give a YAML path file saved as UTF-8, or a \
-             .csv waypoint file",
+            line_column(bytes, e.valid_up_to()),
+            "is not UTF-8 text (a binary file, or text saved in another encoding?): give a \
+             YAML path file saved as UTF-8, or a .csv waypoint file",
         )
     })?;
+    if let Some((at, c)) = first_control_char(text) {
+        let what = if c == '\0' {
+            "a NUL byte".to_string()
+        } else {
+            format!("the control character U+{:04X}", c as u32)
+        };
+        return Err(Error::input(
+            path,
+            line_column(bytes, at),
+            format!(
+                "holds {what}, which YAML text may not contain (a binary file?): remove it, or \
+                 give a YAML path file saved as UTF-8 text"
+            ),
+        ));
+    }
     let blank = text.lines().all(|l| {
         let t = l.trim();
         t.is_empty() || t.starts_with('#') || t == "---" || t == "..."
@@ -599,7 +652,7 @@ fn parse_yaml(bytes: &[u8], path: &Path) -> Result<PathFileSpec, Error> {
             ),
         ));
     }
-    serde_yaml::from_str(text).map_err(|e| yaml_error(path, e))
+    serde_yaml::from_str(text).map_err(|e| yaml_error(path, text, e))
 }
 
 /// Linear scan of the flow (bracket) nesting depth of a YAML text. Returns the line (1-based)
@@ -679,8 +732,24 @@ fn check_flow_depth(text: &str) -> Result<(), (usize, usize)> {
 
 /// Turns a serde_yaml error into an [`Error::Input`] at `line L column C` (and the field path
 /// when known), adding what to do.
-fn yaml_error(path: &Path, e: serde_yaml::Error) -> Error {
+fn yaml_error(path: &Path, text: &str, e: serde_yaml::Error) -> Error {
     let full = e.to_string();
+    if let Some(loc) = e.location() {
+        let at = format!("line {} column {}", loc.line(), loc.column());
+        if full.contains("unknown field `<<`") {
+            return Error::input(
+                path,
+                at,
+                "`<<` is a YAML merge key, which armpath does not expand: write the merged keys \
+                 out in this mapping instead",
+            );
+        }
+        if full.contains("invalid type: integer") {
+            if let Some(m) = non_decimal_integer(text, loc.line(), loc.column()) {
+                return Error::input(path, at, m);
+            }
+        }
+    }
     let (location, message) = match e.location() {
         Some(loc) => {
             // The location moves into `location`; the parser's messages repeat it inline.
@@ -734,6 +803,35 @@ fn yaml_error(path: &Path, e: serde_yaml::Error) -> Error {
     Error::input(path, location, format!("{message}: {hint}"))
 }
 
+/// The message for a hexadecimal, octal or binary integer (`0x14`, `0o17`, `0b101`) at `line`
+/// and `column` (1-based, characters) of `text`: YAML reads it as an integer, which armpath
+/// does not accept where a number is expected. `None` when the token there is not such an
+/// integer.
+fn non_decimal_integer(text: &str, line: usize, column: usize) -> Option<String> {
+    let rest: String = text
+        .lines()
+        .nth(line.checked_sub(1)?)?
+        .chars()
+        .skip(column.checked_sub(1)?)
+        .collect();
+    let token = rest.split([',', ']', '}', ' ', '\t', '#']).next()?;
+    let (sign, digits) = match token.strip_prefix('-') {
+        Some(rest) => (-1i128, rest),
+        None => (1, token.strip_prefix('+').unwrap_or(token)),
+    };
+    let (radix, name) = match digits.get(..2)? {
+        "0x" | "0X" => (16, "hexadecimal"),
+        "0o" | "0O" => (8, "octal"),
+        "0b" | "0B" => (2, "binary"),
+        _ => return None,
+    };
+    let value = i128::from_str_radix(digits.get(2..)?, radix).ok()? * sign;
+    Some(format!(
+        "`{token}` is a {name} integer, which armpath does not accept for numbers: write it in \
+         decimal, `{value}`"
+    ))
+}
+
 /// Where a setting's value came from, for errors.
 #[derive(Clone, Copy)]
 enum At<'a> {
@@ -752,18 +850,17 @@ impl At<'_> {
     }
 }
 
-/// A value > 0 and finite; `what` and `unit` complete the message.
-fn positive(v: f64, at: At, what: &str, unit: &str) -> Result<f64, Error> {
-    if !v.is_finite() {
-        return Err(at.error(format!(
-            "{v} is not a finite number: give {what} in {unit}, greater than 0"
-        )));
-    }
-    if v <= 0.0 {
-        return Err(at.error(format!(
-            "must be greater than 0 (got {v}): give {what} in {unit}"
-        )));
-    }
+/// A value > 0, finite and in `range_si` (SI), given in a unit of `si` SI per unit; `what` and
+/// `unit` complete the message.
+fn positive(
+    v: f64,
+    at: At,
+    what: &str,
+    unit: &str,
+    si: f64,
+    range_si: (f64, f64),
+) -> Result<f64, Error> {
+    units::check_positive(v, si, range_si, what, unit).map_err(|m| at.error(m))?;
     Ok(v)
 }
 
@@ -814,6 +911,17 @@ enum Quantity {
 }
 
 impl Quantity {
+    /// The accepted range (SI) of a positive setting of this kind: the sample steps for
+    /// lengths and angles, the speed ranges for speeds.
+    fn range(self) -> (f64, f64) {
+        match self {
+            Quantity::Length => units::STEP_RANGE_M,
+            Quantity::Angle => units::ANGLE_STEP_RANGE_RAD,
+            Quantity::Speed => units::SPEED_RANGE_M_S,
+            Quantity::AngularSpeed => units::ANGULAR_SPEED_RANGE_RAD_S,
+        }
+    }
+
     /// SI per unit, and the unit's name for messages.
     fn unit(self, u: &Units) -> (f64, String) {
         match self {
@@ -857,10 +965,19 @@ impl Ctx<'_> {
         let (f_si, f_name) = q.unit(&self.fu);
         let (o_si, o_name) = q.unit(&self.ou);
         let from_file = file
-            .map(|v| positive(v, At::File(self.path, field), what, &f_name))
+            .map(|v| {
+                positive(
+                    v,
+                    At::File(self.path, field),
+                    what,
+                    &f_name,
+                    f_si,
+                    q.range(),
+                )
+            })
             .transpose()?;
         let from_option = over
-            .map(|v| positive(v, At::Option(option), what, &o_name))
+            .map(|v| positive(v, At::Option(option), what, &o_name, o_si, q.range()))
             .transpose()?;
         Ok(from_option
             .map(|v| v * o_si)
@@ -924,7 +1041,24 @@ impl Ctx<'_> {
             .unwrap_or(DEFAULT_TOOL_ANGULAR_SPEED_DEG_S.to_radians());
 
         let scale = |v: f64, at: At| -> Result<f64, Error> {
-            let v = positive(v, at, "the joint speed scale", "(0, 1]")?;
+            let range = (units::MIN_JOINT_SPEED_SCALE, 1.0);
+            let v = positive(
+                v,
+                at,
+                "the joint speed scale",
+                "(0, 1]",
+                1.0,
+                (0.0, f64::MAX),
+            )?;
+            if v < range.0 {
+                return Err(at.error(format!(
+                    "is {}, below {}: give a fraction in [{}, 1]; a smaller scale leaves no \
+                     meaningful joint speed check",
+                    units::fmt_exact(v),
+                    range.0,
+                    range.0
+                )));
+            }
             if v > 1.0 {
                 return Err(at.error(format!(
                     "is {v}, above 1: that would let joints move faster than the robot \
@@ -952,6 +1086,20 @@ impl Ctx<'_> {
             }
             Ok(v)
         };
+        // A margin may not exceed the largest value of its kind (`Quantity::Angle` or
+        // `Quantity::Length`); returns SI.
+        let kind_margin = |v: f64, field: &str, q: Quantity| -> Result<f64, Error> {
+            let (si, unit) = q.unit(fu);
+            let max = match q {
+                Quantity::Angle => units::MAX_ABS_ANGLE_RAD,
+                _ => units::MAX_ABS_LENGTH_M,
+            };
+            let v = margin(v, field, &unit)?;
+            units::check_bounded(&[v], max, si, "margin", &unit).map_err(|m| self.err(field, m))?;
+            Ok(v * si)
+        };
+        let angle_margin = |v: f64, field: &str| kind_margin(v, field, Quantity::Angle);
+        let length_margin = |v: f64, field: &str| kind_margin(v, field, Quantity::Length);
         let mut angle = DEFAULT_NEAR_LIMIT_MARGIN_DEG.to_radians();
         let mut length = DEFAULT_NEAR_LIMIT_MARGIN_MM * 1e-3;
         match spec.and_then(|l| l.near_limit_margin.as_ref()) {
@@ -962,18 +1110,17 @@ impl Ctx<'_> {
                     fu.angle.name(),
                     fu.length.name()
                 );
-                let v = margin(*v, "limits.near_limit_margin", &unit)?;
-                angle = fu.angle(v);
-                length = fu.length(v);
+                let field = "limits.near_limit_margin";
+                let v = margin(*v, field, &unit)?;
+                angle = angle_margin(v, field)?;
+                length = length_margin(v, field)?;
             }
             Some(MarginSpec::Split(s)) => {
                 if let Some(v) = s.angle {
-                    let field = "limits.near_limit_margin.angle";
-                    angle = fu.angle(margin(v, field, fu.angle.name())?);
+                    angle = angle_margin(v, "limits.near_limit_margin.angle")?;
                 }
                 if let Some(v) = s.length {
-                    let field = "limits.near_limit_margin.length";
-                    length = fu.length(margin(v, field, fu.length.name())?);
+                    length = length_margin(v, "limits.near_limit_margin.length")?;
                 }
             }
         }
@@ -1027,7 +1174,14 @@ impl Ctx<'_> {
             tool.free_spin = t.free_spin.unwrap_or(false);
             let fu = self.fu;
             if let Some(r) = t.spin_range {
-                check_finite_array(&r).map_err(|m| self.err("tool.spin_range", m))?;
+                units::check_bounded(
+                    &r,
+                    units::MAX_ABS_ANGLE_RAD,
+                    fu.angle_to_rad(),
+                    "angle",
+                    fu.angle.name(),
+                )
+                .map_err(|m| self.err("tool.spin_range", m))?;
                 if r[0] > r[1] {
                     return Err(self.err(
                         "tool.spin_range",
@@ -1048,6 +1202,8 @@ impl Ctx<'_> {
                         At::File(self.path, "tool.spin_rate"),
                         "the largest spin rate",
                         &fu.angular_speed_name(),
+                        fu.angle_to_rad(),
+                        units::ANGULAR_SPEED_RANGE_RAD_S,
                     )
                 })
                 .transpose()?
@@ -1165,6 +1321,8 @@ impl Ctx<'_> {
                         At::File(self.path, &format!("{field}.speed")),
                         "the TCP speed of the segment ending here",
                         &self.fu.speed_name(),
+                        self.fu.length_to_m(),
+                        units::SPEED_RANGE_M_S,
                     )
                 })
                 .transpose()?
@@ -1177,6 +1335,7 @@ impl Ctx<'_> {
             }
             out.push(LoadedWaypoint {
                 name_given: w.name.is_some(),
+                motion_given: w.motion.is_some(),
                 waypoint: Waypoint {
                     name: w.name.unwrap_or_else(|| format!("wp{}", i + 1)),
                     work_T_tcp,
@@ -1319,6 +1478,48 @@ fn build(
     })
 }
 
+/// The warning for segment keys on the first waypoint, which ends no segment: it names the
+/// keys actually given (`motion: joint`, `speed`, `process: true`), or `None` when there are
+/// none. `process: false` and an absent motion change nothing and are not mentioned.
+fn first_waypoint_warning(first: &LoadedWaypoint) -> Option<InputWarning> {
+    let w = &first.waypoint;
+    let mut keys = Vec::new();
+    if first.motion_given {
+        keys.push(match w.motion {
+            Motion::Joint => "`motion: joint`",
+            Motion::Linear => "`motion: linear`",
+        });
+    }
+    if w.speed.is_some() {
+        keys.push("`speed`");
+    }
+    if w.process {
+        keys.push("`process: true`");
+    }
+    let (list, verb, pronoun) = match keys.split_last()? {
+        (one, []) => (one.to_string(), "describes", "it"),
+        (last, init) => (
+            format!("{} and {last}", init.join(", ")),
+            "describe",
+            "them",
+        ),
+    };
+    let joint_hint = if first.motion_given && w.motion == Motion::Joint {
+        "; to reach it by a joint move, put a start waypoint (a home pose, say) before it"
+    } else {
+        ""
+    };
+    Some(InputWarning {
+        location: w.origin.clone(),
+        message: format!(
+            "{list} {verb} the segment ending at a waypoint, and the first waypoint ends none, \
+             so armpath ignores {pronoun} there: remove {pronoun} or move {pronoun} to the \
+             second waypoint{joint_hint}"
+        ),
+        waypoint: Some(0),
+    })
+}
+
 /// Checks across waypoints: count, unique names, repeated poses, turns in place.
 fn check_waypoints(
     loaded: Vec<LoadedWaypoint>,
@@ -1338,9 +1539,22 @@ fn check_waypoints(
             ),
         ));
     }
-    let mut names: HashMap<&str, usize> = HashMap::with_capacity(loaded.len());
-    for (i, l) in loaded.iter().enumerate() {
-        if let Some(first) = names.insert(l.waypoint.name.as_str(), i) {
+    // Generated names (`wp<n>`, n the 1-based position) are unique among themselves, so only
+    // given names go into the map, with the generated names they could collide with; a path
+    // without names builds no map at all.
+    let given = loaded.iter().filter(|l| l.name_given).count();
+    let mut names: HashMap<&str, usize> = HashMap::with_capacity(2 * given);
+    for (i, l) in loaded.iter().enumerate().filter(|(_, l)| l.name_given) {
+        // The unnamed waypoint whose generated name this given name spells, if any.
+        let clash = l.waypoint.name.strip_prefix("wp").and_then(|digits| {
+            let n = digits.parse::<usize>().ok()?;
+            let j = n.checked_sub(1)?;
+            let generated = n.to_string() == digits && loaded.get(j).is_some_and(|o| !o.name_given);
+            (generated && j != i).then_some(j)
+        });
+        let first = names.insert(l.waypoint.name.as_str(), i).or(clash);
+        if let Some(first) = first {
+            let (first, second) = (first.min(i), first.max(i));
             let describe = |l: &LoadedWaypoint| {
                 if l.name_given {
                     l.location.clone()
@@ -1348,6 +1562,7 @@ fn check_waypoints(
                     format!("{} (which has no name, so it got the default)", l.location)
                 }
             };
+            let l = &loaded[second];
             return Err(Error::input(
                 file,
                 l.location.clone(),
@@ -1361,16 +1576,8 @@ fn check_waypoints(
             ));
         }
     }
-    let first = &loaded[0];
-    if first.waypoint.speed.is_some() || first.waypoint.process {
-        warnings.push(InputWarning {
-            location: first.waypoint.origin.clone(),
-            message: "speed and process describe the segment ending at a waypoint, and the \
-                      first waypoint ends none, so they are ignored there: remove them or \
-                      move them to the second waypoint"
-                .to_string(),
-            waypoint: Some(0),
-        });
+    if let Some(w) = first_waypoint_warning(&loaded[0]) {
+        warnings.push(w);
     }
     for (i, pair) in loaded.windows(2).enumerate() {
         let (a, b) = (&pair[0].waypoint, &pair[1].waypoint);
@@ -1574,7 +1781,18 @@ mod tests {
             Matrix3::from_diagonal(&Vector3::new(-1.0, 1.0, -1.0)),
             epsilon = 1e-15
         );
-        assert!(job.warnings.is_empty(), "{:?}", job.warnings);
+        // The example's first waypoint gives `motion: joint`, which ends no segment: read, and
+        // reported once by the key given.
+        // source: common practice (a key without effect is reported, not dropped silently)
+        assert_eq!(job.warnings.len(), 1, "{:?}", job.warnings);
+        assert_eq!(job.warnings[0].location, "waypoints[0]");
+        assert!(
+            job.warnings[0]
+                .message
+                .starts_with("`motion: joint` describes"),
+            "{:?}",
+            job.warnings
+        );
     }
 
     #[test]
@@ -2173,15 +2391,14 @@ mod tests {
         let p = dir.path().join("garbage.yaml");
         std::fs::write(&p, [0x7f, 0x45, 0x4c, 0x46, 0xff, 0xfe, 0x00, 0x80, 0x81]).unwrap();
         let (loc, msg) = input_err(load(&p, &none));
-        assert_eq!(loc, "byte 4");
+        // source: common practice (bytes 0-3 are ASCII on line 1, so the bad byte 4 is column 5)
+        assert_eq!(loc, "line 1 column 5");
         assert!(msg.contains("not UTF-8"), "{msg}");
-        // Valid UTF-8 but control characters: the YAML parser refuses it.
+        // Valid UTF-8 but control characters: refused at the first one, U+0001 at column 1.
         std::fs::write(&p, "\u{1}\u{2}\u{3}robot\u{0}").unwrap();
         let (loc, msg) = input_err(load(&p, &none));
-        assert!(
-            !loc.is_empty() && msg.contains("YAML syntax"),
-            "{loc}: {msg}"
-        );
+        assert_eq!(loc, "line 1 column 1", "{msg}");
+        assert!(msg.contains("U+0001"), "{msg}");
     }
 
     #[test]

@@ -332,7 +332,7 @@ impl Report {
             path: PathReport {
                 file: r.job.source.display().to_string(),
                 waypoints: r.job.waypoints.iter().map(|w| w.name.clone()).collect(),
-                segments: r.plan.segments.len(),
+                segments: r.plan.segment_count(),
                 speed_mm_s: r.job.speed * 1e3,
                 orientation_speed_deg_s: r.job.orientation_speed.map(f64::to_degrees),
                 tool: ToolReport {
