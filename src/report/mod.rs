@@ -181,11 +181,15 @@ pub struct PathReport {
     pub angle_step_deg: f64,
     pub singularity_threshold: f64,
     pub start: StartReport,
-    /// Every segment with its motion, speed and planned time (the HTML page lists them; the
-    /// JSON leaves them out, since the path file has them).
+    /// The first [`SEGMENT_TABLE_ROWS`] segments with their motion, speed and planned time
+    /// (the HTML page lists them; the JSON leaves them out, since the path file has them).
+    /// Capped so that the report stays small on paths of millions of waypoints.
     #[serde(skip)]
     pub segment_table: Vec<SegmentReport>,
 }
+
+/// Rows of the segment table a report keeps (see [`PathReport::segment_table`]).
+pub const SEGMENT_TABLE_ROWS: usize = 500;
 
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
 #[serde(rename_all = "snake_case")]
@@ -349,8 +353,8 @@ impl Report {
                 near_limit_margin_mm: r.job.limits.near_limit_margin_length * 1e3,
                 segment_table: r
                     .plan
-                    .segments
-                    .iter()
+                    .segments()
+                    .take(SEGMENT_TABLE_ROWS)
                     .map(|g| {
                         let name = |i: usize| {
                             r.job

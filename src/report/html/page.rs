@@ -597,7 +597,7 @@ fn segment_table(o: &mut String, report: &Report) {
             ""
         }
     );
-    for g in rows.iter().take(MAX_ROWS) {
+    for g in rows {
         let motion = match (g.motion, g.process) {
             (Motion::Joint, _) => "joint",
             (Motion::Linear, true) => "linear · process",
@@ -623,11 +623,11 @@ fn segment_table(o: &mut String, report: &Report) {
         );
     }
     o.push_str("</tbody></table>\n");
-    if rows.len() > MAX_ROWS {
+    if report.path.segments > rows.len() {
         let _ = writeln!(
             o,
             "<p class=\"note\">{} more are not listed here; the path file holds them all.</p>",
-            count(rows.len() - MAX_ROWS, "segment")
+            count(report.path.segments - rows.len(), "segment")
         );
     }
 }
