@@ -11,7 +11,7 @@ pub use load::{from_urdf_str, load_urdf};
 pub use singularity::{SingularityClass, SingularityModel};
 pub use wrist::{spherical_wrist, WristCheck};
 
-use nalgebra::Isometry3;
+use nalgebra::{Isometry3, Vector3};
 use std::path::PathBuf;
 
 /// Name, kind, range and speed limit of one movable joint (SI: rad or m, rad/s or m/s).
@@ -136,6 +136,32 @@ impl Robot {
     /// for `armpath robot`.
     pub fn reach(&self) -> f64 {
         self.reach
+    }
+
+    /// A sphere (centre in the base frame, radius in m) that the TCP never leaves, whatever the
+    /// joints: the first joint's origin and the sum of the lengths of every fixed offset after
+    /// it (tool included) plus the largest travel of each prismatic joint. By the triangle
+    /// inequality no rotation lengthens the chain, so a target outside the sphere is out of
+    /// reach without solving anything.
+    pub fn reach_bound(&self) -> (Vector3<f64>, f64) {
+        let links = self.chain.joints();
+        let centre = links
+            .first()
+            .map(|j| j.parent_T_joint.translation.vector)
+            .unwrap_or_else(Vector3::zeros);
+        let offsets: f64 = links
+            .iter()
+            .skip(1)
+            .map(|j| j.parent_T_joint.translation.vector.norm())
+            .sum();
+        let travel: f64 = self
+            .joints
+            .iter()
+            .filter(|j| j.kind.is_prismatic())
+            .map(|j| j.lower.abs().max(j.upper.abs()))
+            .sum();
+        let last_T_tcp = self.chain.last_T_tcp().translation.vector.norm();
+        (centre, offsets + travel + last_T_tcp)
     }
 
     fn estimate_reach(&self) -> f64 {
