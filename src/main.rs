@@ -130,6 +130,10 @@ struct CheckArgs {
     /// Joints at the first waypoint "j1,j2,..." (angle unit; length unit for prismatic).
     #[arg(long, value_name = "LIST", allow_hyphen_values = true)]
     start_joints: Option<String>,
+    /// Use the start joints (--start-joints or `start_joints:`) only as a starting guess:
+    /// the first pose is solved nearest them instead of requiring them to reach it.
+    #[arg(long)]
+    start_joints_as_seed: bool,
     /// Largest tool angular speed, angle unit per second.
     #[arg(long, value_name = "W", allow_negative_numbers = true)]
     tool_angular_speed: Option<f64>,
@@ -566,6 +570,7 @@ fn run_check(a: CheckArgs) -> Result<u8> {
             .as_ref()
             .map(|s| numbers("--start-joints", s, None))
             .transpose()?,
+        start_joints_seed: a.start_joints_as_seed,
         tool_angular_speed: a.tool_angular_speed,
         joint_speed_scale: a.joint_speed_scale,
         step: a.step,
