@@ -354,3 +354,20 @@ fn place_grid_count_beyond_usize_is_refused_at_once() {
     assert!(err.contains("18446744073709551616 placements"), "{err}");
     assert!(err.contains("more than 100000"), "{err}");
 }
+
+#[test]
+fn place_keeps_working_with_start_joints_as_a_seed() {
+    // Moving the part moves the first waypoint off the given start joints; the placement
+    // search then uses them as a guess instead of refusing every placement.
+    // source: common practice (a moved part changes the TCP pose the joints must reach)
+    let (_d, file) = start_file(&Q0, "");
+    let (code, err) = stderr_of(&[
+        "place",
+        file.to_str().unwrap(),
+        "--x",
+        "-20:20:20",
+        "--y",
+        "0",
+    ]);
+    assert_ne!(code, 2, "{err}");
+}

@@ -187,6 +187,11 @@ pub fn moved(job: &Job, dx: f64, dy: f64, dz: f64, dyaw: f64) -> Job {
     let origin = w.translation.vector + Vector3::new(dx, dy, dz) * l;
     let turn = UnitQuaternion::from_axis_angle(&Vector3::z_axis(), dyaw * a);
     j.base_T_work = Isometry3::from_parts(Translation3::from(origin), turn * w.rotation);
+    // The part moved: given start joints no longer stand on the first waypoint, they guide
+    // the first pose's solution only.
+    if let Some(sj) = &mut j.start_joints {
+        sj.seed = true;
+    }
     j
 }
 

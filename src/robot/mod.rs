@@ -201,3 +201,40 @@ impl Robot {
         }
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use nalgebra::{Translation3, UnitQuaternion};
+
+    #[test]
+    fn reach_bound_holds_every_sampled_pose() {
+        // Every TCP position lies inside the sphere, and the sphere is no looser than the
+        // sampled reach plus the tool and a few centimetres (arm6 stretched is the sum of its
+        // offsets up to the small shoulder and elbow offsets).
+        // source: common practice (triangle inequality on the chain's fixed offsets)
+        let path = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("robots/arm6.urdf");
+        let mut robot = load_urdf(&path, None).unwrap();
+        robot.set_tool(Isometry3::from_parts(
+            Translation3::new(0.0, 0.05, 0.18),
+            UnitQuaternion::identity(),
+        ));
+        let (centre, radius) = robot.reach_bound();
+        let mut rng = crate::rng::SplitMix64::new(7);
+        let mut q = vec![0.0; robot.dof()];
+        let mut farthest: f64 = 0.0;
+        for _ in 0..5000 {
+            robot.random_config(&mut rng, &mut q);
+            let d = (robot.chain().fk(&q).translation.vector - centre).norm();
+            assert!(d <= radius + 1e-12, "{d} beyond the bound {radius}");
+            farthest = farthest.max(d);
+        }
+        let tool = (0.05f64 * 0.05 + 0.18 * 0.18).sqrt();
+        assert!(
+            radius < robot.reach() + tool + 0.05,
+            "{radius} vs {}",
+            robot.reach()
+        );
+        assert!(farthest > 0.5 * radius);
+    }
+}
