@@ -402,6 +402,13 @@ impl<'a> Walker<'a> {
         }
     }
 
+    /// How far `target` lies outside the reach sphere, if it does: then nothing needs solving,
+    /// and the distance is a lower bound of the distance to any reachable TCP position.
+    fn beyond_reach(&self, target: &Isometry3<f64>) -> Option<f64> {
+        let excess = (target.translation.vector - self.reach_centre).norm() - self.reach_radius;
+        (excess > 0.0).then_some(excess)
+    }
+
     /// Joints for one linear-segment sample: (joints, reach, residuals, configuration change).
     /// `segment_end`: the segment's last sample (always fully searched).
     #[allow(clippy::type_complexity)]
@@ -413,10 +420,7 @@ impl<'a> Walker<'a> {
     ) -> ([f64; MAX_DOF], Reach, f64, f64, Option<(Config, Config)>) {
         let n = self.robot.dof();
         let mut q = [0.0; MAX_DOF];
-        // Outside the reach sphere nothing needs solving; the distance to the sphere is a
-        // lower bound of the distance to any reachable TCP position.
-        let excess = (target.translation.vector - self.reach_centre).norm() - self.reach_radius;
-        if excess > 0.0 {
+        if let Some(excess) = self.beyond_reach(target) {
             state.probe = (excess, 0.0);
             return (state.last_good, Reach::Unreachable, excess, 0.0, None);
         }
@@ -516,40 +520,45 @@ impl<'a> Walker<'a> {
         let n = self.robot.dof();
         let q0 = state.last_good;
         let mut q1 = [0.0; MAX_DOF];
-        let (converged, end_pe, end_oe) = match (self.closed, state.config) {
-            // With the closed form: the in-range solution of the current configuration nearest
-            // the start, else of any configuration (a joint move may change configuration;
-            // the branch followed afterwards is the one the move ends in).
-            (Some(solver), Some(config)) => {
-                let sols = solver.solve(&seg.end);
-                let dist = |s: &&crate::ik::analytic::AnalyticSolution| {
-                    (0..6).fold(0.0f64, |m, k| m.max((s.joints[k] - q0[k]).abs()))
-                };
-                let pick = sols
-                    .iter()
-                    .filter(|s| s.config == config)
-                    .min_by(|a, b| dist(a).total_cmp(&dist(b)))
-                    .or_else(|| sols.iter().min_by(|a, b| dist(a).total_cmp(&dist(b))));
-                match pick {
-                    Some(sol) => {
-                        q1[..6].copy_from_slice(&sol.joints);
-                        state.config = Some(sol.config);
-                        let (pe, oe) = residual(self.robot, &q1[..n], &seg.end);
-                        (true, pe, oe)
-                    }
-                    None => {
-                        let out = self.limited.solve(&seg.end, &q0[..n], &mut q1[..n]);
-                        (false, out.position_error, out.orientation_error)
+        let (converged, end_pe, end_oe) =
+            match (self.beyond_reach(&seg.end), self.closed, state.config) {
+                (Some(excess), _, _) => (false, excess, 0.0),
+                // With the closed form: the in-range solution of the current configuration nearest
+                // the start, else of any configuration (a joint move may change configuration;
+                // the branch followed afterwards is the one the move ends in).
+                (None, Some(solver), Some(config)) => {
+                    let sols = solver.solve(&seg.end);
+                    let dist = |s: &&crate::ik::analytic::AnalyticSolution| {
+                        (0..6).fold(0.0f64, |m, k| m.max((s.joints[k] - q0[k]).abs()))
+                    };
+                    let pick = sols
+                        .iter()
+                        .filter(|s| s.config == config)
+                        .min_by(|a, b| dist(a).total_cmp(&dist(b)))
+                        .or_else(|| sols.iter().min_by(|a, b| dist(a).total_cmp(&dist(b))));
+                    match pick {
+                        Some(sol) => {
+                            q1[..6].copy_from_slice(&sol.joints);
+                            state.config = Some(sol.config);
+                            let (pe, oe) = residual(self.robot, &q1[..n], &seg.end);
+                            (true, pe, oe)
+                        }
+                        None => {
+                            let out = self.limited.solve(&seg.end, &q0[..n], &mut q1[..n]);
+                            (false, out.position_error, out.orientation_error)
+                        }
                     }
                 }
-            }
-            _ => {
-                let out =
-                    self.limited
-                        .solve_with_restarts(&seg.end, &q0[..n], RESTARTS, &mut q1[..n]);
-                (out.converged, out.position_error, out.orientation_error)
-            }
-        };
+                _ => {
+                    let out = self.limited.solve_with_restarts(
+                        &seg.end,
+                        &q0[..n],
+                        RESTARTS,
+                        &mut q1[..n],
+                    );
+                    (out.converged, out.position_error, out.orientation_error)
+                }
+            };
         if !converged {
             let (pe, oe) = (end_pe, end_oe);
             self.emit(
