@@ -6,14 +6,13 @@ use crate::configs::{feasibility, ConfigRow};
 use crate::error::{Error, Result};
 use crate::ik::analytic::{Config, Elbow, OrthoParallel, Shoulder, Wrist};
 use crate::ik::IkOptions;
-use crate::job::ConfigRequest;
-use crate::job::Job;
+use crate::job::{ConfigRequest, Job, StartJoints};
 use crate::plan::{plan, DEFAULT_MAX_SAMPLES};
 use crate::report::{Report, ReportInputs};
 use crate::robot::{Robot, SingularityModel};
 use crate::solve::{
-    best_in_config, choose_start, configuration_score, SampleRecord, SampleSink, StartChoice,
-    Walker,
+    best_in_config, choose_start, configuration_score, residual, SampleRecord, SampleSink,
+    StartChoice, Walker,
 };
 
 /// Settings of a check beyond the job.
@@ -69,6 +68,7 @@ pub fn check(
     options: &CheckOptions,
     sinks: &mut [&mut dyn SampleSink],
 ) -> Result<Report> {
+    let unit_hint = metres_look_like_mm(job, robot);
     let mut robot = robot.clone();
     robot.set_tool(job.tool.tip_T_tcp);
     let start_si = match &job.start_joints {
@@ -104,7 +104,10 @@ pub fn check(
     } else {
         OrthoParallel::from_robot(&robot)
     };
-    let mut notes: Vec<Finding> = Vec::new();
+    if let (Some(sj), Some(q)) = (&job.start_joints, &start_si) {
+        check_start_joints(job, sj, &robot, q, &first, options.ik, closed.as_ref().ok())?;
+    }
+    let mut notes: Vec<Finding> = unit_hint.into_iter().map(note).collect();
     let (start, table) = match &closed {
         Ok(solver) => {
             let table = feasibility(&robot, job, &plan, solver, options.ik);
@@ -175,6 +178,95 @@ pub fn check(
         ));
     }
     Ok(report)
+}
+
+/// Given start joints must put the TCP on the first waypoint within the IK tolerance (unless
+/// they are only a seed), and with the closed-form solver their configuration must agree with
+/// the `config:` request.
+fn check_start_joints(
+    job: &Job,
+    sj: &StartJoints,
+    robot: &Robot,
+    q: &[f64],
+    first: &nalgebra::Isometry3<f64>,
+    ik: IkOptions,
+    solver: Option<&OrthoParallel>,
+) -> Result<()> {
+    let refuse = |message: String| {
+        Err(if sj.origin.starts_with("--") {
+            Error::usage(&sj.origin, message)
+        } else {
+            Error::input(&job.source, &sj.origin, message)
+        })
+    };
+    if !sj.seed {
+        let (pe, oe) = residual(robot, q, first);
+        if pe > ik.position_tolerance || oe > ik.orientation_tolerance {
+            return refuse(format!(
+                "these joints put the TCP {:.3} mm and {:.4}° away from the first waypoint '{}' (IK tolerance {} mm, {}°): \
+                 give the joints at the first waypoint, or set `start_joints_seed: true` (--start-joints-as-seed) \
+                 to use them only as a starting guess",
+                pe * 1e3,
+                oe.to_degrees(),
+                job.waypoints[0].name,
+                ik.position_tolerance * 1e3,
+                ik.orientation_tolerance.to_degrees()
+            ));
+        }
+    }
+    if let Some(c) = solver.and_then(|s| s.config_of(q)) {
+        if !matches(&job.config, c) {
+            return refuse(format!(
+                "are in configuration {c} but `config:` asks for {}: drop `config:`, or give joints in that configuration",
+                describe(&job.config)
+            ));
+        }
+    }
+    Ok(())
+}
+
+/// The requested parts of a `config:` request, e.g. `elbow down, wrist flip`.
+fn describe(request: &ConfigRequest) -> String {
+    let side = |v: Option<bool>, name: &str, yes: &str, no: &str| {
+        v.map(|b| format!("{name} {}", if b { yes } else { no }))
+    };
+    [
+        side(request.shoulder_front, "shoulder", "front", "back"),
+        side(request.elbow_up, "elbow", "up", "down"),
+        side(request.wrist_flip, "wrist", "flip", "noflip"),
+    ]
+    .into_iter()
+    .flatten()
+    .collect::<Vec<_>>()
+    .join(", ")
+}
+
+/// With `units: m`, a hint when most waypoints lie outside the arm's reach sphere
+/// ([`Robot::reach_bound`]) and most would lie inside it were every length of the file
+/// (waypoints, work frame, tool) read as mm: the values look like mm. `robot` has no tool.
+fn metres_look_like_mm(job: &Job, robot: &Robot) -> Option<String> {
+    if job.units.length != crate::job::LengthUnit::M {
+        return None;
+    }
+    let (centre, bare_radius) = robot.reach_bound();
+    let tool = job.tool.tip_T_tcp.translation.vector.norm();
+    let work = &job.base_T_work;
+    let (mut beyond, mut inside_as_mm) = (0, 0);
+    for w in &job.waypoints {
+        let p = work.translation.vector + work.rotation * w.work_T_tcp.translation.vector;
+        beyond += usize::from((p - centre).norm() > bare_radius + tool);
+        let p_mm = p * 1e-3;
+        inside_as_mm += usize::from((p_mm - centre).norm() <= bare_radius + tool * 1e-3);
+    }
+    let most = |k: usize| 2 * k > job.waypoints.len();
+    (most(beyond) && most(inside_as_mm)).then(|| {
+        format!(
+            "units: lengths are read as m, but {beyond} of {} waypoints lie beyond the arm's reach ({:.3} m from its first joint) \
+             and {inside_as_mm} would be within it read as mm: the values look like mm; set `units: {{length: mm}}` (or --units mm,… for a CSV file)",
+            job.waypoints.len(),
+            bare_radius + tool
+        )
+    })
 }
 
 /// An `input` note not tied to a segment.

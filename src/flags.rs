@@ -135,6 +135,10 @@ pub struct SettingFlags {
     /// Joints at the first waypoint "j1,j2,..." (angle unit; length unit for prismatic).
     #[arg(long, value_name = "LIST", allow_hyphen_values = true, value_parser = joint_list)]
     pub start_joints: Option<JointValues>,
+    /// Use the start joints (--start-joints or `start_joints:`) only as a starting guess:
+    /// the first pose is solved nearest them instead of requiring them to reach it.
+    #[arg(long)]
+    pub start_joints_as_seed: bool,
     /// Largest tool angular speed, angle unit per second.
     #[arg(long, value_name = "W", allow_negative_numbers = true)]
     pub tool_angular_speed: Option<f64>,
@@ -178,6 +182,7 @@ impl SettingFlags {
             tool: self.tool,
             work_frame: self.work_frame,
             start_joints: self.start_joints.as_ref().map(|j| j.0.clone()),
+            start_joints_seed: self.start_joints_as_seed,
             tool_angular_speed: self.tool_angular_speed,
             joint_speed_scale: self.joint_speed_scale,
             step: self.step,

@@ -16,10 +16,11 @@ use nalgebra::{Unit, UnitQuaternion, Vector3};
 /// (θ³/48) is far below f64 resolution of the result.
 const SMALL_ANGLE: f64 = 1e-8;
 
-/// Relative rotations within this distance (rad) of a half turn have no unique shortest arc
-/// (q and −q are equally short); see [`log`]. Chosen well above the ~1e-8 rad noise that an
-/// input quaternion given to 9 digits carries, so nearly-opposite inputs are flagged too.
-pub const HALF_TURN_TOLERANCE: f64 = 1e-6;
+/// Relative rotations within this distance (rad) of a half turn are flagged (5°: turns above
+/// 175°). At exactly 180° there is no unique shortest arc (q and −q are equally short; see
+/// [`log`]); just below it the short arc is unique but a touch-up of a few degrees on the cell
+/// moves the end orientation across 180° and reverses the direction the tool turns in.
+pub const HALF_TURN_TOLERANCE: f64 = 5.0 * std::f64::consts::PI / 180.0;
 
 /// Rotation from URDF / REP 103 roll-pitch-yaw (rad): `Rz(yaw) * Ry(pitch) * Rx(roll)`.
 pub fn from_rpy(roll: f64, pitch: f64, yaw: f64) -> UnitQuaternion<f64> {
@@ -110,7 +111,7 @@ impl Geodesic {
     }
 
     /// True when the relative rotation is within [`HALF_TURN_TOLERANCE`] of a half turn, so the
-    /// direction of travel was a choice (see [`log`]) rather than the unique shortest arc.
+    /// direction of travel is a choice (see [`log`]) or turns on a few degrees of touch-up.
     pub fn is_near_half_turn(&self) -> bool {
         self.angle() > std::f64::consts::PI - HALF_TURN_TOLERANCE
     }
@@ -213,6 +214,20 @@ mod tests {
         let expected = UnitQuaternion::from_axis_angle(&Vector3::z_axis(), FRAC_PI_2 / 2.0);
         assert_relative_eq!(angle_between(&mid, &expected), 0.0, epsilon = 1e-14);
         assert!(!g.is_near_half_turn());
+    }
+
+    #[test]
+    fn near_half_turn_tolerance_is_five_degrees() {
+        // 174° is a clear short arc; 176° and 180° are within 5° of a half turn.
+        // source: common practice (a touch-up of a few degrees moves an end pose across 180°)
+        let a = UnitQuaternion::identity();
+        let turn = |deg: f64| {
+            let b = UnitQuaternion::from_axis_angle(&Vector3::x_axis(), deg.to_radians());
+            Geodesic::new(&a, &b).is_near_half_turn()
+        };
+        assert!(!turn(174.0));
+        assert!(turn(176.0));
+        assert!(turn(180.0));
     }
 
     #[test]

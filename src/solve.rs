@@ -17,12 +17,20 @@ use crate::job::{Job, Motion};
 use crate::plan::{Plan, Segment};
 use crate::robot::{Jacobian, Robot, SingularityClass, SingularityModel, MAX_DOF};
 use crate::rotation;
-use nalgebra::Isometry3;
+use nalgebra::{Isometry3, Vector3};
 
 /// Random seeds tried for the first pose and after a failed warm start. 32 finds every
 /// branch of a 6-axis arm with high probability (8 branches); more only costs time on
 /// targets that are truly out of reach.
 pub const RESTARTS: usize = 32;
+
+/// Inside an unreachable stretch, the full search (random restarts; with the closed form, the
+/// numerical probe that measures how far the pose is) runs on the stretch's first sample,
+/// every this many samples after it and on a segment's last sample; the samples between get
+/// one local solve (closed form: the exact all-branch test) and carry the last measured
+/// distance. A restart search costs about 200 reachable samples, so 16 keeps a long
+/// unreachable stretch within about 13 times the cost of a reachable one.
+pub const RECOVER_EVERY: usize = 16;
 
 /// Depth of the jump search: each level halves the Cartesian step. After 16 halvings the step
 /// is 1/65536 of a sample step; a continuous joint path shrinks with it, a jump does not.
@@ -245,10 +253,14 @@ pub struct Walker<'a> {
     light: bool,
     /// Singularity classes are computed below this measure (and at new minima).
     class_below: f64,
+    /// Sphere the TCP never leaves ([`Robot::reach_bound`]): centre (base frame) and radius.
+    reach_centre: Vector3<f64>,
+    reach_radius: f64,
 }
 
 impl<'a> Walker<'a> {
     pub fn new(robot: &'a Robot, job: &'a Job, plan: &'a Plan, options: IkOptions) -> Self {
+        let (reach_centre, reach_radius) = robot.reach_bound();
         Walker {
             robot,
             job,
@@ -259,6 +271,8 @@ impl<'a> Walker<'a> {
             closed: None,
             light: false,
             class_below: crate::assess::DEFAULT_SINGULARITY_THRESHOLD,
+            reach_centre,
+            reach_radius,
         }
     }
 
@@ -297,6 +311,8 @@ impl<'a> Walker<'a> {
             s: 0.0,
             t: 0.0,
             last_good: [0.0; MAX_DOF],
+            unreachable_run: 0,
+            probe: (0.0, 0.0),
         };
         state.last_good[..n].copy_from_slice(&start.joints);
         state.warm.reset(&start.joints);
@@ -324,19 +340,24 @@ impl<'a> Walker<'a> {
                 pe,
                 oe,
                 dt: 0.0,
-                ds: 0.0,
+                s: 0.0,
                 check_jump: false,
                 config_change: None,
             },
         );
+        // Path distance at each segment's start: the sum of the straight-line lengths before
+        // it, joint moves included, so that the distance of every waypoint is fixed by the
+        // path alone and agrees across walks in different configurations.
+        let mut s0 = 0.0;
         for seg in self.plan.segments() {
             if sink.done() {
                 break;
             }
             match seg.motion {
-                Motion::Linear => self.walk_linear(&seg, &mut state, sink),
-                Motion::Joint => self.walk_joint(&seg, &mut state, sink),
+                Motion::Linear => self.walk_linear(&seg, s0, &mut state, sink),
+                Motion::Joint => self.walk_joint(&seg, s0, &mut state, sink),
             }
+            s0 += seg.length;
         }
         WalkTotals {
             samples: state.index,
@@ -345,21 +366,21 @@ impl<'a> Walker<'a> {
         }
     }
 
-    fn walk_linear(&self, seg: &Segment, state: &mut State, sink: &mut dyn SampleSink) {
+    /// A linear segment starting at path distance `s0`.
+    fn walk_linear(&self, seg: &Segment, s0: f64, state: &mut State, sink: &mut dyn SampleSink) {
         let steps = seg.steps;
         if steps == 0 {
             // A repeated waypoint: the previous sample already stands there.
             return;
         }
         let dt = seg.duration / steps as f64;
-        let ds = seg.length / steps as f64;
         for i in 1..=steps {
             if sink.done() {
                 return;
             }
             let u = i as f64 / steps as f64;
             let target = seg.pose_at(u);
-            let (q, reach, pe, oe, change) = self.solve_sample(&target, state);
+            let (q, reach, pe, oe, change) = self.solve_sample(&target, i == steps, state);
             self.emit(
                 state,
                 sink,
@@ -373,7 +394,7 @@ impl<'a> Walker<'a> {
                     pe,
                     oe,
                     dt,
-                    ds,
+                    s: s0 + seg.length * u,
                     check_jump: true,
                     config_change: change,
                 },
@@ -381,15 +402,29 @@ impl<'a> Walker<'a> {
         }
     }
 
+    /// How far `target` lies outside the reach sphere, if it does: then nothing needs solving,
+    /// and the distance is a lower bound of the distance to any reachable TCP position.
+    fn beyond_reach(&self, target: &Isometry3<f64>) -> Option<f64> {
+        let excess = (target.translation.vector - self.reach_centre).norm() - self.reach_radius;
+        (excess > 0.0).then_some(excess)
+    }
+
     /// Joints for one linear-segment sample: (joints, reach, residuals, configuration change).
+    /// `segment_end`: the segment's last sample (always fully searched).
     #[allow(clippy::type_complexity)]
     fn solve_sample(
         &self,
         target: &Isometry3<f64>,
+        segment_end: bool,
         state: &mut State,
     ) -> ([f64; MAX_DOF], Reach, f64, f64, Option<(Config, Config)>) {
         let n = self.robot.dof();
         let mut q = [0.0; MAX_DOF];
+        if let Some(excess) = self.beyond_reach(target) {
+            state.probe = (excess, 0.0);
+            return (state.last_good, Reach::Unreachable, excess, 0.0, None);
+        }
+        let full_search = state.unreachable_run.is_multiple_of(RECOVER_EVERY) || segment_end;
         if let (Some(solver), Some(config)) = (self.closed, state.config) {
             // Stay on the configuration's branch, windings nearest the previous joints.
             if let Some(sol) = solver.solve_near(target, &state.last_good[..n], config) {
@@ -425,17 +460,15 @@ impl<'a> Walker<'a> {
                 }
             }
             // Out of reach in every configuration: how far, from a local numerical solve.
-            let mut probe = [0.0; MAX_DOF];
-            let out = self
-                .limited
-                .solve(target, &state.last_good[..n], &mut probe[..n]);
-            return (
-                state.last_good,
-                Reach::Unreachable,
-                out.position_error,
-                out.orientation_error,
-                None,
-            );
+            if full_search {
+                let mut probe = [0.0; MAX_DOF];
+                let out = self
+                    .limited
+                    .solve(target, &state.last_good[..n], &mut probe[..n]);
+                state.probe = (out.position_error, out.orientation_error);
+            }
+            let (pe, oe) = state.probe;
+            return (state.last_good, Reach::Unreachable, pe, oe, None);
         }
         let out = self
             .tracker
@@ -444,6 +477,15 @@ impl<'a> Walker<'a> {
             return (
                 q,
                 Reach::Reached,
+                out.position_error,
+                out.orientation_error,
+                None,
+            );
+        }
+        if !full_search {
+            return (
+                state.last_good,
+                Reach::Unreachable,
                 out.position_error,
                 out.orientation_error,
                 None,
@@ -471,44 +513,52 @@ impl<'a> Walker<'a> {
         }
     }
 
-    fn walk_joint(&self, seg: &Segment, state: &mut State, sink: &mut dyn SampleSink) {
+    /// A joint move starting at path distance `s0`. It counts as its straight-line length,
+    /// spread evenly over its joint-space steps: the TCP's route depends on the configuration
+    /// and is not the programmed path.
+    fn walk_joint(&self, seg: &Segment, s0: f64, state: &mut State, sink: &mut dyn SampleSink) {
         let n = self.robot.dof();
         let q0 = state.last_good;
         let mut q1 = [0.0; MAX_DOF];
-        let (converged, end_pe, end_oe) = match (self.closed, state.config) {
-            // With the closed form: the in-range solution of the current configuration nearest
-            // the start, else of any configuration (a joint move may change configuration;
-            // the branch followed afterwards is the one the move ends in).
-            (Some(solver), Some(config)) => {
-                let sols = solver.solve(&seg.end);
-                let dist = |s: &&crate::ik::analytic::AnalyticSolution| {
-                    (0..6).fold(0.0f64, |m, k| m.max((s.joints[k] - q0[k]).abs()))
-                };
-                let pick = sols
-                    .iter()
-                    .filter(|s| s.config == config)
-                    .min_by(|a, b| dist(a).total_cmp(&dist(b)))
-                    .or_else(|| sols.iter().min_by(|a, b| dist(a).total_cmp(&dist(b))));
-                match pick {
-                    Some(sol) => {
-                        q1[..6].copy_from_slice(&sol.joints);
-                        state.config = Some(sol.config);
-                        let (pe, oe) = residual(self.robot, &q1[..n], &seg.end);
-                        (true, pe, oe)
-                    }
-                    None => {
-                        let out = self.limited.solve(&seg.end, &q0[..n], &mut q1[..n]);
-                        (false, out.position_error, out.orientation_error)
+        let (converged, end_pe, end_oe) =
+            match (self.beyond_reach(&seg.end), self.closed, state.config) {
+                (Some(excess), _, _) => (false, excess, 0.0),
+                // With the closed form: the in-range solution of the current configuration nearest
+                // the start, else of any configuration (a joint move may change configuration;
+                // the branch followed afterwards is the one the move ends in).
+                (None, Some(solver), Some(config)) => {
+                    let sols = solver.solve(&seg.end);
+                    let dist = |s: &&crate::ik::analytic::AnalyticSolution| {
+                        (0..6).fold(0.0f64, |m, k| m.max((s.joints[k] - q0[k]).abs()))
+                    };
+                    let pick = sols
+                        .iter()
+                        .filter(|s| s.config == config)
+                        .min_by(|a, b| dist(a).total_cmp(&dist(b)))
+                        .or_else(|| sols.iter().min_by(|a, b| dist(a).total_cmp(&dist(b))));
+                    match pick {
+                        Some(sol) => {
+                            q1[..6].copy_from_slice(&sol.joints);
+                            state.config = Some(sol.config);
+                            let (pe, oe) = residual(self.robot, &q1[..n], &seg.end);
+                            (true, pe, oe)
+                        }
+                        None => {
+                            let out = self.limited.solve(&seg.end, &q0[..n], &mut q1[..n]);
+                            (false, out.position_error, out.orientation_error)
+                        }
                     }
                 }
-            }
-            _ => {
-                let out =
-                    self.limited
-                        .solve_with_restarts(&seg.end, &q0[..n], RESTARTS, &mut q1[..n]);
-                (out.converged, out.position_error, out.orientation_error)
-            }
-        };
+                _ => {
+                    let out = self.limited.solve_with_restarts(
+                        &seg.end,
+                        &q0[..n],
+                        RESTARTS,
+                        &mut q1[..n],
+                    );
+                    (out.converged, out.position_error, out.orientation_error)
+                }
+            };
         if !converged {
             let (pe, oe) = (end_pe, end_oe);
             self.emit(
@@ -524,7 +574,7 @@ impl<'a> Walker<'a> {
                     pe,
                     oe,
                     dt: seg.duration,
-                    ds: seg.length,
+                    s: s0 + seg.length,
                     check_jump: false,
                     config_change: None,
                 },
@@ -548,7 +598,6 @@ impl<'a> Walker<'a> {
             duration = duration.max(d / (j.velocity * scale));
         }
         let dt = duration / steps as f64;
-        let mut prev_p = seg.start.translation.vector;
         for i in 1..=steps {
             let u = i as f64 / steps as f64;
             let mut q = [0.0; MAX_DOF];
@@ -556,8 +605,6 @@ impl<'a> Walker<'a> {
                 q[k] = q0[k] + (q1[k] - q0[k]) * u;
             }
             let pose = self.robot.chain().fk(&q[..n]);
-            let ds = (pose.translation.vector - prev_p).norm();
-            prev_p = pose.translation.vector;
             let (pe, oe) = if i == steps {
                 (end_pe, end_oe)
             } else {
@@ -576,7 +623,7 @@ impl<'a> Walker<'a> {
                     pe,
                     oe,
                     dt,
-                    ds,
+                    s: s0 + seg.length * u,
                     check_jump: false,
                     config_change: None,
                 },
@@ -631,7 +678,7 @@ impl<'a> Walker<'a> {
                 }
             }
         }
-        state.s += a.ds;
+        state.s = a.s;
         state.t += a.dt;
         let rec = SampleRecord {
             index: state.index,
@@ -656,6 +703,9 @@ impl<'a> Walker<'a> {
         state.index += 1;
         if a.reach == Reach::Reached {
             state.last_good = a.q;
+            state.unreachable_run = 0;
+        } else {
+            state.unreachable_run += 1;
         }
         // Keep the warm start on the last reached joints (a failed or restarted solve, or a
         // joint segment, leaves it elsewhere).
@@ -744,6 +794,10 @@ struct State {
     s: f64,
     t: f64,
     last_good: [f64; MAX_DOF],
+    /// Unreachable samples since the last reached one.
+    unreachable_run: usize,
+    /// Distance (position m, orientation rad) of the last measured unreachable sample.
+    probe: (f64, f64),
 }
 
 struct EmitArgs {
@@ -756,12 +810,14 @@ struct EmitArgs {
     pe: f64,
     oe: f64,
     dt: f64,
-    ds: f64,
+    /// Path distance of the sample (m).
+    s: f64,
     check_jump: bool,
     config_change: Option<(Config, Config)>,
 }
 
-fn residual(robot: &Robot, q: &[f64], target: &Isometry3<f64>) -> (f64, f64) {
+/// Position (m) and orientation (rad) distance of the TCP at joints `q` from `target`.
+pub fn residual(robot: &Robot, q: &[f64], target: &Isometry3<f64>) -> (f64, f64) {
     let pose = robot.chain().fk(q);
     (
         (pose.translation.vector - target.translation.vector).norm(),

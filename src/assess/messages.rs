@@ -1,7 +1,7 @@
 //! Turning runs into findings with messages that say what happened and what to try.
 
 use super::{Finding, Kind, Quantity, Run};
-use crate::job::Job;
+use crate::job::{Job, Motion};
 use crate::plan::Plan;
 use crate::robot::{JointKind, Robot, SingularityClass};
 
@@ -199,8 +199,9 @@ pub(super) fn input_findings(job: &Job, plan: &Plan) -> Vec<Finding> {
         let segment = w.waypoint.map(|i| i.saturating_sub(1));
         out.push(make(segment, format!("{}: {}", w.location, w.message)));
     }
+    // Joint moves do not follow the orientation geodesic: only linear segments are flagged.
     for seg in plan.segments() {
-        if seg.geodesic.is_near_half_turn() {
+        if seg.motion == Motion::Linear && seg.geodesic.is_near_half_turn() {
             let axis = seg
                 .geodesic
                 .axis()
@@ -209,11 +210,13 @@ pub(super) fn input_findings(job: &Job, plan: &Plan) -> Vec<Finding> {
             out.push(make(
                 Some(seg.index),
                 format!(
-                    "the tool turns by a half turn (180°) from {} to {}: no rotation is the unique shortest; \
-                     armpath turns about the axis {axis} of the start orientation (the one whose largest component is positive); \
-                     add a waypoint in between to choose the direction",
+                    "the tool turns by {:.1}° from {} to {}, within {:.0}° of a half turn: the turning direction is (nearly) a tie \
+                     and a touch-up of a few degrees can reverse it; armpath turns about the axis {axis} of the start orientation; \
+                     add a waypoint in between to fix the direction",
+                    seg.geodesic.angle().to_degrees(),
                     wp_name(job, seg.index),
-                    wp_name(job, seg.index + 1)
+                    wp_name(job, seg.index + 1),
+                    crate::rotation::HALF_TURN_TOLERANCE.to_degrees()
                 ),
             ));
         }

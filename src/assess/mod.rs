@@ -143,6 +143,9 @@ pub struct Assessor<'a> {
     findings: Vec<Finding>,
     extremes: Extremes,
     segment: usize,
+    /// Index of the first sample standing at each waypoint (sized once, in `new`): where the
+    /// input findings of a segment sit in path order.
+    waypoint_sample: Vec<Option<usize>>,
 }
 
 impl<'a> Assessor<'a> {
@@ -155,6 +158,7 @@ impl<'a> Assessor<'a> {
             findings: Vec::new(),
             extremes: Extremes::default(),
             segment: 0,
+            waypoint_sample: vec![None; job.waypoints.len()],
         }
     }
 
@@ -218,17 +222,23 @@ impl<'a> Assessor<'a> {
         self.findings.push(finding);
     }
 
-    /// Close every open run and return the findings in path order (input findings about the
-    /// file first), with the extremes.
+    /// Close every open run and return the findings in path order: by first sample (an
+    /// input finding on a segment sits at the segment's start, one on the file as a whole at
+    /// the path's start), then segment, then kind (input first), then joint; with the extremes.
     pub fn finish(mut self, robot: &Robot) -> (Vec<Finding>, Extremes) {
         for run in std::mem::take(&mut self.open) {
             self.close(robot, run);
         }
         let mut findings = messages::input_findings(self.job, self.plan);
         findings.append(&mut self.findings);
-        findings.sort_by(|a, b| {
-            let key = |f: &Finding| (f.samples.map(|s| s[0]), f.kind, f.joint.clone());
-            key(a).cmp(&key(b))
+        let starts = &self.waypoint_sample;
+        findings.sort_by_cached_key(|f| {
+            let first = f
+                .samples
+                .map(|s| s[0])
+                .or_else(|| f.segment.and_then(|k| starts.get(k).copied().flatten()))
+                .unwrap_or(0);
+            (first, f.segment, f.kind, f.joint.clone())
         });
         (findings, self.extremes)
     }
@@ -236,6 +246,9 @@ impl<'a> Assessor<'a> {
 
 impl SampleSink for Assessor<'_> {
     fn sample(&mut self, robot: &Robot, rec: &SampleRecord) {
+        if let Some(slot) = rec.waypoint.and_then(|w| self.waypoint_sample.get_mut(w)) {
+            slot.get_or_insert(rec.index);
+        }
         if rec.segment != self.segment {
             // Runs never cross a segment boundary: each finding names one segment.
             for run in std::mem::take(&mut self.open) {

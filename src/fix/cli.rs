@@ -110,16 +110,7 @@ pub fn run_place(a: PlaceArgs) -> Result<u8> {
             .transpose()?
             .unwrap_or(Axis::ZERO),
     };
-    if grid.len() > place::MAX_PLACEMENTS {
-        return Err(Error::usage(
-            "--x/--y/--z/--yaw",
-            format!(
-                "the grid has {} placements, more than {}: use coarser steps or narrower ranges",
-                grid.len(),
-                place::MAX_PLACEMENTS
-            ),
-        ));
-    }
+    let placements = grid.checked_len()?;
     let (job, options) = a.settings.load_job(
         &a.path,
         &[
@@ -130,7 +121,7 @@ pub fn run_place(a: PlaceArgs) -> Result<u8> {
     )?;
     let robot = load_urdf(&job.robot, job.tip.as_deref())?;
     let bar = (std::io::stderr().is_terminal() && !is_stdout(a.json.as_deref())).then(|| {
-        let b = indicatif::ProgressBar::new(grid.len() as u64);
+        let b = indicatif::ProgressBar::new(placements as u64);
         b.set_style(
             indicatif::ProgressStyle::with_template(
                 "placing {bar:32} {pos}/{len} placements · {elapsed} elapsed, ~{eta} left",

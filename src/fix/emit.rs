@@ -147,6 +147,9 @@ pub fn path_file(job: &Job, header: &[String]) -> String {
     if let Some(sj) = &job.start_joints {
         let v: Vec<String> = sj.values.iter().map(|x| num(*x, 9)).collect();
         let _ = writeln!(out, "start_joints: [{}]", v.join(", "));
+        if sj.seed {
+            let _ = writeln!(out, "start_joints_seed: true");
+        }
     }
     let c = &job.config;
     let mut parts = Vec::new();

@@ -89,8 +89,14 @@ impl Axis {
     /// The values FROM, FROM + STEP, … up to TO (TO included when on the grid, within a
     /// millionth of a step to absorb decimal rounding).
     pub fn values(&self) -> Vec<f64> {
-        let n = ((self.to - self.from) / self.step + 1e-6).floor() as usize;
-        (0..=n).map(|i| self.from + self.step * i as f64).collect()
+        (0..self.count())
+            .map(|i| self.from + self.step * i as f64)
+            .collect()
+    }
+
+    /// Number of values, without making them (at most `MAX_PLACEMENTS + 1` after `parse`).
+    pub fn count(&self) -> u64 {
+        ((self.to - self.from) / self.step + 1e-6).floor() as u64 + 1
     }
 }
 
@@ -147,16 +153,28 @@ pub struct Grid {
 }
 
 impl Grid {
-    /// Number of placements.
-    pub fn len(&self) -> usize {
-        self.x.values().len()
-            * self.y.values().len()
-            * self.z.values().len()
-            * self.yaw.values().len()
+    /// Number of placements, exact: four axes of up to `MAX_PLACEMENTS + 1` values each
+    /// multiply to less than 2¹²⁸.
+    pub fn count(&self) -> u128 {
+        [self.x, self.y, self.z, self.yaw]
+            .iter()
+            .map(|a| u128::from(a.count()))
+            .product()
     }
 
-    pub fn is_empty(&self) -> bool {
-        self.len() == 0
+    /// The placement count when it is within [`MAX_PLACEMENTS`], else a usage error showing
+    /// the true count and the cap.
+    pub fn checked_len(&self) -> Result<usize> {
+        let n = self.count();
+        if n > MAX_PLACEMENTS as u128 {
+            return Err(Error::usage(
+                "--x/--y/--z/--yaw",
+                format!(
+                    "the grid has {n} placements, more than {MAX_PLACEMENTS}: use coarser steps or narrower ranges"
+                ),
+            ));
+        }
+        Ok(n as usize)
     }
 }
 
@@ -169,6 +187,11 @@ pub fn moved(job: &Job, dx: f64, dy: f64, dz: f64, dyaw: f64) -> Job {
     let origin = w.translation.vector + Vector3::new(dx, dy, dz) * l;
     let turn = UnitQuaternion::from_axis_angle(&Vector3::z_axis(), dyaw * a);
     j.base_T_work = Isometry3::from_parts(Translation3::from(origin), turn * w.rotation);
+    // The part moved: given start joints no longer stand on the first waypoint, they guide
+    // the first pose's solution only.
+    if let Some(sj) = &mut j.start_joints {
+        sj.seed = true;
+    }
     j
 }
 
@@ -181,16 +204,7 @@ pub fn search(
     options: &CheckOptions,
     tick: &(dyn Fn() + Sync),
 ) -> Result<Vec<Placement>> {
-    if grid.len() > MAX_PLACEMENTS {
-        return Err(Error::usage(
-            "--x/--y/--z/--yaw",
-            format!(
-                "the grid has {} placements, more than {MAX_PLACEMENTS}: use coarser steps or narrower ranges",
-                grid.len()
-            ),
-        ));
-    }
-    let mut points = Vec::with_capacity(grid.len());
+    let mut points = Vec::with_capacity(grid.checked_len()?);
     for &dx in &grid.x.values() {
         for &dy in &grid.y.values() {
             for &dz in &grid.z.values() {

@@ -386,6 +386,12 @@ fn amend(
     let work_T_base = job.base_T_work.inverse();
     let mut out = job.clone();
     out.waypoints.clear();
+    if spin[0] != 0.0 {
+        // The first pose turned: given start joints guide its solution only.
+        if let Some(sj) = &mut out.start_joints {
+            sj.seed = true;
+        }
+    }
     let mut added = 0;
     let first = &job.waypoints[0];
     out.waypoints.push(Waypoint {

@@ -100,6 +100,9 @@ pub struct StartJoints {
     pub length_to_m: f64,
     /// Field name for messages (`start_joints`).
     pub origin: String,
+    /// Use the values only as a starting guess for the first pose (`start_joints_seed: true`
+    /// or `--start-joints-as-seed`); otherwise they must put the TCP on the first waypoint.
+    pub seed: bool,
 }
 
 impl StartJoints {

@@ -106,6 +106,8 @@ pub struct Overrides {
     pub work_frame: Option<[f64; 6]>,
     /// Joints at the first waypoint (angle unit; length unit for prismatic joints).
     pub start_joints: Option<Vec<f64>>,
+    /// Use the start joints (from the file or the option) only as a starting guess.
+    pub start_joints_seed: bool,
     /// Largest tool angular speed, angle unit per second, > 0.
     pub tool_angular_speed: Option<f64>,
     /// Fraction of each URDF joint velocity limit that may be used, in (0, 1].
@@ -152,8 +154,12 @@ struct PathFileSpec {
     /// waypoints are given in the work frame. Default: the base frame.
     work_frame: Option<FrameSpec>,
     /// `start_joints: [j1, j2, ...]`: joints at the first waypoint, one per joint of the chain
-    /// (angle unit; length unit for prismatic joints). Optional.
+    /// (angle unit; length unit for prismatic joints). Optional. They must put the TCP on the
+    /// first waypoint (within the IK tolerance) unless `start_joints_seed` is true.
     start_joints: Option<Vec<f64>>,
+    /// `start_joints_seed: true`: use `start_joints` only as a starting guess for the first
+    /// pose (the solution nearest them in their configuration). Default false.
+    start_joints_seed: Option<bool>,
     /// `config: {shoulder, elbow, wrist}`: requested arm configuration at the first pose, see
     /// [`ConfigSpec`]. Optional.
     config: Option<ConfigSpec>,
@@ -1235,8 +1241,10 @@ impl Ctx<'_> {
     fn start_joints(
         &self,
         file: Option<&Vec<f64>>,
+        file_seed: bool,
         ov: &Overrides,
     ) -> Result<Option<StartJoints>, Error> {
+        let seed = file_seed || ov.start_joints_seed;
         let joints = |values: &Vec<f64>, u: &Units, at: At, origin: &str| {
             if values.is_empty() {
                 return Err(at.error("is empty: give one value per joint, or leave it out".into()));
@@ -1247,6 +1255,7 @@ impl Ctx<'_> {
                 angle_to_rad: u.angle_to_rad(),
                 length_to_m: u.length_to_m(),
                 origin: origin.to_string(),
+                seed,
             })
         };
         let from_file = file
@@ -1417,7 +1426,11 @@ fn build(
         base_T_work = override_pose(v, "--work-frame", &ou)?;
     }
 
-    let start_joints = cx.start_joints(spec.start_joints.as_ref(), ov)?;
+    let start_joints = cx.start_joints(
+        spec.start_joints.as_ref(),
+        spec.start_joints_seed.unwrap_or(false),
+        ov,
+    )?;
     let config = spec
         .config
         .as_ref()
@@ -1912,6 +1925,7 @@ mod tests {
             tool: Some([0.0, 0.0, 0.2, 0.0, 0.0, 90.0]),
             work_frame: Some([1.0, 0.0, 0.5, 0.0, 0.0, 0.0]),
             start_joints: Some(vec![10.0, 20.0]),
+            start_joints_seed: true,
             tool_angular_speed: Some(45.0),
             joint_speed_scale: Some(0.5),
             step: Some(0.004),
@@ -1940,6 +1954,7 @@ mod tests {
         assert_eq!(sj.values, vec![10.0, 20.0]);
         assert_eq!(sj.length_to_m, 1.0);
         assert_eq!(sj.origin, "--start-joints");
+        assert!(sj.seed, "--start-joints-as-seed marks the joints as a seed");
         assert_relative_eq!(job.limits.tool_angular_speed, PI / 4.0, epsilon = 1e-15);
         assert_eq!(job.limits.joint_speed_scale, 0.5);
         assert_eq!(job.sampling.step, 0.004);

@@ -186,6 +186,11 @@ impl Chain {
                 * self.last_T_tcp;
     }
 
+    /// Pose of the TCP in the last joint's frame (tip offset and tool).
+    pub fn last_T_tcp(&self) -> Isometry3<f64> {
+        self.last_T_tcp
+    }
+
     /// The mounted tool, TCP pose in the tip-link frame.
     pub fn tool(&self) -> Isometry3<f64> {
         self.tip_T_tcp

@@ -17,7 +17,7 @@ pub use ranges::{
 pub use singularity::{SingularityClass, SingularityModel};
 pub use wrist::{spherical_wrist, WristCheck, AXIS_ANGLE_TOLERANCE};
 
-use nalgebra::Isometry3;
+use nalgebra::{Isometry3, Vector3};
 use std::path::PathBuf;
 
 /// Name, kind, range and speed limit of one movable joint (SI: rad or m, rad/s or m/s).
@@ -144,6 +144,32 @@ impl Robot {
         self.reach
     }
 
+    /// A sphere (centre in the base frame, radius in m) that the TCP never leaves, whatever the
+    /// joints: the first joint's origin and the sum of the lengths of every fixed offset after
+    /// it (tool included) plus the largest travel of each prismatic joint. By the triangle
+    /// inequality no rotation lengthens the chain, so a target outside the sphere is out of
+    /// reach without solving anything.
+    pub fn reach_bound(&self) -> (Vector3<f64>, f64) {
+        let links = self.chain.joints();
+        let centre = links
+            .first()
+            .map(|j| j.parent_T_joint.translation.vector)
+            .unwrap_or_else(Vector3::zeros);
+        let offsets: f64 = links
+            .iter()
+            .skip(1)
+            .map(|j| j.parent_T_joint.translation.vector.norm())
+            .sum();
+        let travel: f64 = self
+            .joints
+            .iter()
+            .filter(|j| j.kind.is_prismatic())
+            .map(|j| j.lower.abs().max(j.upper.abs()))
+            .sum();
+        let last_T_tcp = self.chain.last_T_tcp().translation.vector.norm();
+        (centre, offsets + travel + last_T_tcp)
+    }
+
     fn estimate_reach(&self) -> f64 {
         let mut rng = crate::rng::SplitMix64::new(0x5eed_a7a7);
         let mut q = vec![0.0; self.dof()];
@@ -179,5 +205,42 @@ impl Robot {
             let hi = j.upper.min(2.0 * PI);
             *v = lo + (hi - lo) * rng.next_f64();
         }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use nalgebra::{Translation3, UnitQuaternion};
+
+    #[test]
+    fn reach_bound_holds_every_sampled_pose() {
+        // Every TCP position lies inside the sphere, and the sphere is no looser than the
+        // sampled reach plus the tool and a few centimetres (arm6 stretched is the sum of its
+        // offsets up to the small shoulder and elbow offsets).
+        // source: common practice (triangle inequality on the chain's fixed offsets)
+        let path = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("robots/arm6.urdf");
+        let mut robot = load_urdf(&path, None).unwrap();
+        robot.set_tool(Isometry3::from_parts(
+            Translation3::new(0.0, 0.05, 0.18),
+            UnitQuaternion::identity(),
+        ));
+        let (centre, radius) = robot.reach_bound();
+        let mut rng = crate::rng::SplitMix64::new(7);
+        let mut q = vec![0.0; robot.dof()];
+        let mut farthest: f64 = 0.0;
+        for _ in 0..5000 {
+            robot.random_config(&mut rng, &mut q);
+            let d = (robot.chain().fk(&q).translation.vector - centre).norm();
+            assert!(d <= radius + 1e-12, "{d} beyond the bound {radius}");
+            farthest = farthest.max(d);
+        }
+        let tool = (0.05f64 * 0.05 + 0.18 * 0.18).sqrt();
+        assert!(
+            radius < robot.reach() + tool + 0.05,
+            "{radius} vs {}",
+            robot.reach()
+        );
+        assert!(farthest > 0.5 * radius);
     }
 }
