@@ -41,7 +41,7 @@ median_ns() {
 for r in $(seq 1 "$runs"); do
   for b in "${benches[@]}"; do
     echo "run $r/$runs: cargo bench --bench $b" >&2
-    cargo bench --bench "$b" >"$out/$b.$r.log" 2>/dev/null
+    cargo bench --bench "$b" >"$out/$b.$r.log" 2>&1
   done
 done
 
@@ -64,4 +64,9 @@ for p in "${pairs[@]}"; do
   med=$(echo "$sorted" | awk -v n="$n" 'NR == int((n + 1) / 2) { print }')
   lo=$(echo "$sorted" | head -1); hi=$(echo "$sorted" | tail -1)
   printf '%-58s %-26s %s× [%s–%s]\n' "$label" "${ratios[*]}" "$med" "$lo" "$hi"
+done
+echo
+echo "success rates and path facts printed by the benches (run 1):"
+for b in "${benches[@]}"; do
+  grep -hE "success|samples|verdict" "$out/$b.1.log" | grep -v "^Benchmarking" | sed 's/^/  /' || true
 done
