@@ -28,7 +28,6 @@ pub mod check;
 pub mod configs;
 pub mod error;
 pub mod fix;
-pub mod flags;
 pub mod ik;
 pub mod job;
 pub mod output;

@@ -14,7 +14,6 @@
 //! `fix` re-checks the amended path in-process and reports before and after side by side.
 //! The amended file is re-emitted from the job ([`emit`] explains the choices).
 
-pub mod cli;
 pub mod emit;
 mod heatmap;
 pub mod place;

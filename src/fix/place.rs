@@ -295,3 +295,150 @@ pub fn best_per_cell(placements: &[Placement]) -> Vec<Placement> {
     }
     cells
 }
+
+/// The result of `armpath place`: the best placements and how long the search took.
+#[derive(Debug, Clone, serde::Serialize)]
+pub struct PlaceReport {
+    pub file: String,
+    pub length_unit: &'static str,
+    pub angle_unit: &'static str,
+    /// Placements checked.
+    pub placements: usize,
+    pub seconds: f64,
+    pub threads: usize,
+    /// The best placements, best first.
+    pub best: Vec<Placement>,
+    pub cautions: Vec<&'static str>,
+}
+
+impl PlaceReport {
+    /// Exit code of `place`: 0 when the best placement runs the path without errors, else 1.
+    pub fn exit_code(&self) -> i32 {
+        if self.best.first().is_some_and(|b| b.errors == 0) {
+            0
+        } else {
+            1
+        }
+    }
+}
+
+/// Terminal text of `armpath place`: the best placements as a table, then the cautions.
+pub fn render_text(r: &PlaceReport) -> String {
+    let mut out = String::new();
+    let _ = writeln!(
+        out,
+        "armpath place  {}\n{} checked in {:.2} s on {}\n",
+        crate::report::visible(&r.file),
+        crate::report::count(r.placements, "placement"),
+        r.seconds,
+        crate::report::count(r.threads, "thread")
+    );
+    let (l, a) = (r.length_unit, r.angle_unit);
+    let _ = writeln!(
+        out,
+        "  {:>4} {:>10} {:>10} {:>10} {:>10}  {:<7} {:>6} {:>8} {:>12} {:>12}",
+        "rank",
+        format!("dx {l}"),
+        format!("dy {l}"),
+        format!("dz {l}"),
+        format!("dyaw {a}"),
+        "verdict",
+        "errors",
+        "warnings",
+        "singularity",
+        "limit margin"
+    );
+    let o = |v: Option<f64>| v.map(|x| format!("{x:.4}")).unwrap_or_else(|| "-".into());
+    for (i, p) in r.best.iter().enumerate() {
+        let _ = writeln!(
+            out,
+            "  {:>4} {:>10} {:>10} {:>10} {:>10}  {:<7} {:>6} {:>8} {:>12} {:>12}",
+            i + 1,
+            super::emit::num(p.dx, 3),
+            super::emit::num(p.dy, 3),
+            super::emit::num(p.dz, 3),
+            super::emit::num(p.dyaw, 3),
+            p.verdict.name(),
+            p.errors,
+            p.warnings,
+            o(p.min_singularity),
+            o(p.min_limit_margin)
+        );
+    }
+    if r.best.first().is_none_or(|b| b.errors > 0) {
+        let _ = writeln!(out, "\nNo placement of the grid runs the path without errors: widen the grid or change the path.");
+    }
+    let _ = writeln!(out);
+    for c in &r.cautions {
+        let _ = writeln!(out, "caution: {c}");
+    }
+    out
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn placement(dx: f64, errors: usize) -> Placement {
+        Placement {
+            dx,
+            dy: 0.0,
+            dz: 0.0,
+            dyaw: 0.0,
+            verdict: if errors == 0 {
+                Verdict::Pass
+            } else {
+                Verdict::Fail
+            },
+            errors,
+            warnings: 0,
+            min_singularity: Some(0.5),
+            min_limit_margin: None,
+            score: 1.0,
+        }
+    }
+
+    fn report(best: Vec<Placement>) -> PlaceReport {
+        PlaceReport {
+            file: "cell.yaml".into(),
+            length_unit: "mm",
+            angle_unit: "deg",
+            placements: 9,
+            seconds: 0.25,
+            threads: 2,
+            best,
+            cautions: crate::report::CAUTIONS.to_vec(),
+        }
+    }
+
+    #[test]
+    fn exit_code_and_text_follow_the_best_placement() {
+        // source: common practice (exit 0 without error findings, 1 with them, as `check`)
+        let good = report(vec![placement(100.0, 0), placement(0.0, 2)]);
+        assert_eq!(good.exit_code(), 0);
+        let text = render_text(&good);
+        assert!(
+            text.contains("9 placements checked in 0.25 s on 2 threads"),
+            "{text}"
+        );
+        assert!(!text.contains("No placement of the grid"), "{text}");
+        // One table row per listed placement, ranked from 1.
+        let rows: Vec<&str> = text
+            .lines()
+            .filter(|l| {
+                l.starts_with("  ") && l.trim_start().starts_with(|c: char| c.is_ascii_digit())
+            })
+            .collect();
+        assert_eq!(rows.len(), 2, "{text}");
+        assert!(rows[0].trim_start().starts_with("1 ") && rows[0].contains("100"));
+        assert!(rows[1].contains(" fail "), "{text}");
+        for c in crate::report::CAUTIONS {
+            assert!(text.contains(&format!("caution: {c}")));
+        }
+
+        let bad = report(vec![placement(0.0, 1)]);
+        assert_eq!(bad.exit_code(), 1);
+        assert!(render_text(&bad).contains("No placement of the grid runs the path"));
+        assert_eq!(report(Vec::new()).exit_code(), 1);
+    }
+}

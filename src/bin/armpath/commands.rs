@@ -1,9 +1,10 @@
-//! The `armpath` command: parses flags, builds the job, runs the library, writes the outputs
-//! and picks the exit code (0 pass or warnings, 1 error findings, 2 bad input or usage).
+//! The commands that look at a robot (`robot`, `fk`, `ik`) and `check`: their flags, how
+//! the flags become library calls, and the outputs they write.
 
+use crate::flags::SettingFlags;
+use crate::progress::CheckProgress;
 use armpath::check::check;
 use armpath::error::{Error, Result};
-use armpath::flags::{FlagError, SettingFlags};
 use armpath::ik::analytic::OrthoParallel;
 use armpath::ik::{IkOptions, NumericIk};
 use armpath::output::{self, check_target, is_stdout, write_json};
@@ -12,38 +13,11 @@ use armpath::report::kinematics::{ClosedForm, IkReport, IkSolutionReport, PoseRe
 use armpath::report::{render_text, JointsCsv, Style};
 use armpath::robot::{load_urdf, Robot};
 use armpath::solve::SampleSink;
-use clap::{Args, Parser, Subcommand};
+use clap::Args;
 use nalgebra::{Isometry3, Translation3, Vector3};
 use std::io::IsTerminal;
 use std::io::Write;
 use std::path::{Path, PathBuf};
-use std::process::ExitCode;
-
-/// Checks offline-programmed tool paths for industrial robot arms: reach, joint limits,
-/// configuration jumps, singularities, tool angular speed and joint speeds.
-#[derive(Parser, Debug)]
-#[command(name = "armpath", version, about, long_about = None)]
-struct Cli {
-    #[command(subcommand)]
-    command: Command,
-}
-
-#[derive(Subcommand, Debug)]
-enum Command {
-    /// Check a tool path (YAML path file, or CSV waypoints with --robot and --speed).
-    Check(Box<CheckArgs>),
-    /// Show a robot: joints, ranges, speeds, reach and wrist type.
-    Robot(RobotArgs),
-    /// Forward kinematics: the TCP pose for given joints.
-    Fk(FkArgs),
-    /// Inverse kinematics: joints for a TCP pose.
-    Ik(IkArgs),
-    /// Search speeds, arm configuration and tool spin that make a path pass; write the
-    /// amended path file and compare the check before and after.
-    Fix(armpath::fix::cli::FixArgs),
-    /// Check the path with the work frame moved over a grid of placements.
-    Place(armpath::fix::cli::PlaceArgs),
-}
 
 #[derive(Args, Debug)]
 struct RobotSel {
@@ -58,7 +32,7 @@ struct RobotSel {
 }
 
 #[derive(Args, Debug)]
-struct RobotArgs {
+pub struct RobotArgs {
     /// The robot's URDF file.
     robot: PathBuf,
     /// Tip link of the chain (default: the only leaf link).
@@ -70,7 +44,7 @@ struct RobotArgs {
 }
 
 #[derive(Args, Debug)]
-struct FkArgs {
+pub struct FkArgs {
     #[command(flatten)]
     sel: RobotSel,
     /// Joint values "j1,j2,..." in degrees (mm for prismatic joints).
@@ -85,7 +59,7 @@ struct FkArgs {
 }
 
 #[derive(Args, Debug)]
-struct IkArgs {
+pub struct IkArgs {
     #[command(flatten)]
     sel: RobotSel,
     /// Target TCP pose "x,y,z,qw,qx,qy,qz" (mm; unit quaternion w first) in the base frame.
@@ -107,7 +81,7 @@ struct IkArgs {
 }
 
 #[derive(Args, Debug)]
-struct CheckArgs {
+pub struct CheckArgs {
     /// The path file (.yaml/.yml) or CSV waypoint file (.csv).
     path: PathBuf,
     #[command(flatten)]
@@ -126,106 +100,14 @@ struct CheckArgs {
     quiet: bool,
 }
 
-fn main() -> ExitCode {
-    let cli = match Cli::try_parse() {
-        Ok(c) => c,
-        Err(e) => {
-            use clap::error::ErrorKind;
-            return match e.kind() {
-                ErrorKind::DisplayHelp | ErrorKind::DisplayVersion => {
-                    let _ = e.print();
-                    ExitCode::SUCCESS
-                }
-                ErrorKind::DisplayHelpOnMissingArgumentOrSubcommand => {
-                    let _ = e.print();
-                    ExitCode::from(2)
-                }
-                _ => {
-                    let _ = writeln!(
-                        std::io::stderr(),
-                        "armpath: error: {}",
-                        one_line_usage_error(&e)
-                    );
-                    ExitCode::from(2)
-                }
-            };
-        }
-    };
-    if let Err(e) = output::remove_temp_files_on_signal() {
-        let _ = writeln!(
-            std::io::stderr(),
-            "armpath: error: {}",
-            armpath::report::visible(&e.to_string())
-        );
-        return ExitCode::from(2);
-    }
-    let result = match cli.command {
-        Command::Check(a) => run_check(*a),
-        Command::Robot(a) => run_robot(a),
-        Command::Fk(a) => run_fk(a),
-        Command::Ik(a) => run_ik(a),
-        Command::Fix(a) => armpath::fix::cli::run_fix(a),
-        Command::Place(a) => armpath::fix::cli::run_place(a),
-    };
-    match result {
-        Ok(code) => ExitCode::from(code),
-        Err(e) => {
-            let _ = writeln!(
-                std::io::stderr(),
-                "armpath: error: {}",
-                armpath::report::visible(&e.to_string())
-            );
-            ExitCode::from(2)
-        }
-    }
-}
-
-/// A command-line parse error as one line, like every other error: what is wrong (naming the
-/// option), the parser's suggestion if any, and where to find the options.
-fn one_line_usage_error(e: &clap::Error) -> String {
-    let command = match std::env::args().nth(1).as_deref() {
-        Some(c @ ("check" | "robot" | "fk" | "ik" | "fix" | "place")) => format!("armpath {c}"),
-        _ => "armpath".to_string(),
-    };
-    // A value refused by one of armpath's own value parsers: `--option: why`.
-    let own = std::error::Error::source(e).and_then(|s| s.downcast_ref::<FlagError>());
-    let option = e.get(clap::error::ContextKind::InvalidArg);
-    if let (Some(why), Some(clap::error::ContextValue::String(option))) = (own, option) {
-        let option = option.split(' ').next().unwrap_or(option);
-        return format!("{option}: {why}: see `{command} --help` for the options");
-    }
-    let text = e.render().to_string();
-    let lines: Vec<&str> = text
-        .lines()
-        .map(str::trim)
-        .filter(|l| !l.is_empty())
-        .collect();
-    let is_aside = |l: &&str| l.starts_with("tip: ") || l.starts_with("Usage: ");
-    // The message proper runs up to the first aside (a list of missing arguments follows
-    // "not provided:" on lines of its own) and stops before the "For more information" line.
-    let what = lines
-        .iter()
-        .take_while(|l| !is_aside(l) && !l.starts_with("For more information"))
-        .copied()
-        .collect::<Vec<_>>()
-        .join(" ");
-    let what = what.trim_start_matches("error: ");
-    let tip = lines
-        .iter()
-        .find_map(|l| l.strip_prefix("tip: "))
-        .map(|t| format!("{t}; "))
-        .unwrap_or_default();
-    format!("{what}: {tip}see `{command} --help` for the options")
-}
-
 /// Parse "a,b,c" into numbers; `option` names the flag in messages.
 fn numbers(option: &str, text: &str, count: Option<usize>) -> Result<Vec<f64>> {
-    armpath::flags::number_list(text, count).map_err(|e| Error::usage(option, e.0))
+    crate::flags::number_list(text, count).map_err(|e| Error::usage(option, e.0))
 }
 
 fn six(option: &str, text: &Option<String>) -> Result<Option<[f64; 6]>> {
     text.as_deref()
-        .map(|t| armpath::flags::pose6(t).map_err(|e| Error::usage(option, e.0)))
+        .map(|t| crate::flags::pose6(t).map_err(|e| Error::usage(option, e.0)))
         .transpose()
 }
 
@@ -269,7 +151,7 @@ fn check_json_target(json: Option<&Path>, urdf: &Path) -> Result<()> {
     output::refuse_overwrite(&[("the URDF", urdf)], &[("--json", json)])
 }
 
-fn run_robot(a: RobotArgs) -> Result<u8> {
+pub fn run_robot(a: RobotArgs) -> Result<u8> {
     check_json_target(a.json.as_deref(), &a.robot)?;
     let robot = load_urdf(&a.robot, a.tip.as_deref())?;
     let mut info = RobotInfo::new(&robot)?;
@@ -294,7 +176,7 @@ fn run_robot(a: RobotArgs) -> Result<u8> {
     Ok(0)
 }
 
-fn run_fk(a: FkArgs) -> Result<u8> {
+pub fn run_fk(a: FkArgs) -> Result<u8> {
     check_json_target(a.json.as_deref(), &a.sel.robot)?;
     let robot = load_robot(&a.sel)?;
     let q = joints_si(&robot, "--joints", &a.joints, a.rad)?;
@@ -322,7 +204,7 @@ fn run_fk(a: FkArgs) -> Result<u8> {
     Ok(0)
 }
 
-fn run_ik(a: IkArgs) -> Result<u8> {
+pub fn run_ik(a: IkArgs) -> Result<u8> {
     check_json_target(a.json.as_deref(), &a.sel.robot)?;
     let robot = load_robot(&a.sel)?;
     let p = numbers("--pose", &a.pose, Some(7))?;
@@ -417,46 +299,7 @@ fn run_ik(a: IkArgs) -> Result<u8> {
     Ok(if outcome.converged { 0 } else { 1 })
 }
 
-/// Progress on a terminal for long checks. Updated every 4,096 samples so that the bar's
-/// internal lock stays out of the per-sample loop; hidden for short paths.
-struct Progress {
-    bar: Option<indicatif::ProgressBar>,
-    count: u64,
-}
-
-impl Progress {
-    /// Paths below this many samples finish in well under a second: no bar.
-    const MIN_SAMPLES: u64 = 200_000;
-    const EVERY: u64 = 4096;
-}
-
-impl SampleSink for Progress {
-    fn begin(&mut self, _robot: &Robot, estimated_samples: u64) {
-        if estimated_samples >= Self::MIN_SAMPLES {
-            let bar = indicatif::ProgressBar::new(estimated_samples);
-            bar.set_style(
-                indicatif::ProgressStyle::with_template(
-                    "checking {bar:32} {pos}/{len} samples · {elapsed} elapsed, ~{eta} left",
-                )
-                .unwrap_or_else(|_| indicatif::ProgressStyle::default_bar()),
-            );
-            self.bar = Some(bar);
-        }
-    }
-    fn sample(&mut self, _robot: &Robot, _rec: &armpath::solve::SampleRecord) {
-        self.count += 1;
-        if self.count.is_multiple_of(Self::EVERY) {
-            if let Some(b) = &self.bar {
-                if self.count > b.length().unwrap_or(0) {
-                    b.set_length(self.count);
-                }
-                b.set_position(self.count);
-            }
-        }
-    }
-}
-
-fn run_check(a: CheckArgs) -> Result<u8> {
+pub fn run_check(a: CheckArgs) -> Result<u8> {
     let (job, options) = a.settings.load_job(
         &a.path,
         &[
@@ -476,10 +319,7 @@ fn run_check(a: CheckArgs) -> Result<u8> {
     // Progress goes to standard error, only on a terminal, never with JSON on stdout.
     let show_progress =
         !a.quiet && std::io::stderr().is_terminal() && !is_stdout(a.json.as_deref());
-    let mut progress = Progress {
-        bar: None,
-        count: 0,
-    };
+    let mut progress = CheckProgress::default();
     let report = {
         let mut sinks: Vec<&mut dyn SampleSink> = Vec::new();
         if let Some(c) = csv.as_mut() {
@@ -493,9 +333,7 @@ fn run_check(a: CheckArgs) -> Result<u8> {
         }
         check(&job, &robot, &options, &mut sinks)?
     };
-    if let Some(b) = progress.bar.take() {
-        b.finish_and_clear();
-    }
+    progress.finish();
     if let Some(c) = csv.take() {
         c.finish()?;
     }

@@ -4,10 +4,10 @@
 //! Malformed values are refused by clap's value parsers with a [`FlagError`]; the binary
 //! prints those as `--option: what is wrong`.
 
-use crate::check::CheckOptions;
-use crate::error::Result as Checked;
-use crate::job::{self, Job, Overrides};
-use crate::output;
+use armpath::check::CheckOptions;
+use armpath::error::Result as Checked;
+use armpath::job::{self, Job, Overrides};
+use armpath::output;
 use std::path::{Path, PathBuf};
 
 /// Why a flag's value was refused (the message says what to give instead).
