@@ -4,21 +4,22 @@ use crate::assess::{Assessor, Thresholds};
 use crate::assess::{Finding, Kind, Severity};
 use crate::configs::{feasibility, ConfigRow};
 use crate::error::{Error, Result};
-use crate::ik::analytic::{Config, Elbow, OrthoParallel, Shoulder, Wrist};
+use crate::ik::analytic::{Config, OrthoParallel};
 use crate::ik::IkOptions;
 use crate::job::{ConfigRequest, Job, StartJoints};
 use crate::plan::{plan, DEFAULT_MAX_SAMPLES};
 use crate::report::{Report, ReportInputs};
 use crate::robot::{Robot, SingularityModel};
 use crate::solve::{
-    best_in_config, choose_start, configuration_score, residual, SampleRecord, SampleSink,
-    StartChoice, Walker,
+    choose_start, config_matches, residual, SampleRecord, SampleSink, StartSolver, Walker,
 };
 
 /// Settings of a check beyond the job.
 #[derive(Debug, Clone, Copy)]
 pub struct CheckOptions {
+    /// IK tolerances and iteration limits.
     pub ik: IkOptions,
+    /// Thresholds of the findings.
     pub thresholds: Thresholds,
     /// Refuse plans with more samples than this.
     pub max_samples: u64,
@@ -111,14 +112,16 @@ pub fn check(
     let (start, table) = match &closed {
         Ok(solver) => {
             let table = feasibility(&robot, job, &plan, solver, options.ik);
-            let start = choose_closed_start(
+            let start = choose_start(
                 &robot,
                 &model,
-                solver,
                 &first,
                 start_si.as_deref(),
-                &job.config,
-                &table,
+                StartSolver::ClosedForm {
+                    solver,
+                    request: &job.config,
+                    table: &table,
+                },
             );
             (start, Some(table))
         }
@@ -129,15 +132,21 @@ pub fn check(
                 )));
             }
             (
-                choose_start(&robot, &model, &first, start_si.as_deref(), options.ik),
+                choose_start(
+                    &robot,
+                    &model,
+                    &first,
+                    start_si.as_deref(),
+                    StartSolver::Numeric(options.ik),
+                ),
                 None,
             )
         }
     };
     let mut walker = Walker::new(&robot, job, &plan, options.ik)
         .with_singularity_threshold(options.thresholds.singularity);
-    if let (Ok(solver), Some(_)) = (&closed, start.config) {
-        walker = walker.with_closed_form(solver);
+    if let (Ok(solver), Some(config)) = (&closed, start.config) {
+        walker = walker.with_closed_form(solver, config);
     }
     let mut assessor = Assessor::new(job, &plan, options.thresholds);
     let totals = {
@@ -215,7 +224,7 @@ fn check_start_joints(
         }
     }
     if let Some(c) = solver.and_then(|s| s.config_of(q)) {
-        if !matches(&job.config, c) {
+        if !config_matches(&job.config, c) {
             return refuse(format!(
                 "are in configuration {c} but `config:` asks for {}: drop `config:`, or give joints in that configuration",
                 describe(&job.config)
@@ -272,80 +281,6 @@ fn metres_look_like_mm(job: &Job, robot: &Robot) -> Option<String> {
 /// An `input` note not tied to a segment.
 fn note(message: String) -> Finding {
     Finding::input(None, None, None, message)
-}
-
-/// Does `c` satisfy the path file's `config:` request?
-fn matches(request: &ConfigRequest, c: Config) -> bool {
-    request
-        .shoulder_front
-        .is_none_or(|f| f == (c.shoulder == Shoulder::Front))
-        && request.elbow_up.is_none_or(|u| u == (c.elbow == Elbow::Up))
-        && request
-            .wrist_flip
-            .is_none_or(|f| f == (c.wrist == Wrist::Flip))
-}
-
-/// The first pose with the closed-form solver: from `start_joints` (its configuration,
-/// windings nearest the given joints); else among the configurations matching the `config:`
-/// request, those that run the whole path first, then the best-scoring start
-/// ([`configuration_score`]: margin to limits and singularities).
-fn choose_closed_start(
-    robot: &Robot,
-    model: &SingularityModel,
-    solver: &OrthoParallel,
-    target: &nalgebra::Isometry3<f64>,
-    start_joints: Option<&[f64]>,
-    request: &ConfigRequest,
-    table: &[ConfigRow],
-) -> StartChoice {
-    if let Some(q) = start_joints {
-        let config = solver.config_of(q);
-        let sol = config.and_then(|c| solver.solve_near(target, q, c));
-        return match (config, sol) {
-            (Some(c), Some(sol)) => StartChoice {
-                method: "start_joints",
-                joints: sol.to_vec(),
-                alternatives: 0,
-                config: Some(c),
-            },
-            _ => StartChoice {
-                method: "unreachable",
-                joints: q.to_vec(),
-                alternatives: 0,
-                config,
-            },
-        };
-    }
-    let mut best: Option<(bool, f64, Config, [f64; 6])> = None;
-    let mut alternatives = 0;
-    for row in table {
-        let Some(c) = row.parsed else { continue };
-        if !matches(request, c) {
-            continue;
-        }
-        let Some(q) = best_in_config(robot, model, solver, target, c) else {
-            continue;
-        };
-        alternatives += 1;
-        let key = (row.runs, configuration_score(robot, model, &q));
-        if best.is_none_or(|b| (key.0, key.1) > (b.0, b.1)) {
-            best = Some((key.0, key.1, c, q));
-        }
-    }
-    match best {
-        Some((_, _, c, q)) => StartChoice {
-            method: "search",
-            joints: q.to_vec(),
-            alternatives,
-            config: Some(c),
-        },
-        None => StartChoice {
-            method: "unreachable",
-            joints: robot.mid_range(),
-            alternatives: 0,
-            config: None,
-        },
-    }
 }
 
 /// Add to every stopping error (unreachable, joint limit, jump) which configurations would

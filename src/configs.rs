@@ -7,7 +7,9 @@ use crate::ik::IkOptions;
 use crate::job::Job;
 use crate::plan::Plan;
 use crate::robot::{Robot, SingularityModel};
-use crate::solve::{best_in_config, Reach, SampleRecord, SampleSink, StartChoice, Walker};
+use crate::solve::{
+    best_in_config, Reach, SampleRecord, SampleSink, StartChoice, StartMethod, Walker,
+};
 use serde::Serialize;
 
 /// What stops a configuration first.
@@ -15,9 +17,13 @@ use serde::Serialize;
 pub struct FirstFailure {
     /// `unreachable`, `joint_limit` or `joint_jump`.
     pub kind: &'static str,
+    /// Segment where it happens.
     pub segment: usize,
+    /// Name of the segment's first waypoint.
     pub from: String,
+    /// Name of the segment's last waypoint.
     pub to: String,
+    /// Path distance where it happens (mm).
     pub s_mm: f64,
     /// The joint concerned (`joint_limit`).
     pub joint: Option<String>,
@@ -31,16 +37,40 @@ pub struct ConfigRow {
     /// The whole path runs in this configuration without unreachable, joint-limit or jump
     /// errors.
     pub runs: bool,
+    /// The first error that would stop the walk in this configuration.
     pub first_failure: Option<FirstFailure>,
     /// Joints at the first waypoint in this configuration (deg / mm), if it reaches it.
     pub start_joints: Option<Vec<f64>>,
+    /// The configuration as a value.
     #[serde(skip)]
     pub parsed: Option<Config>,
 }
 
+/// The first stopping error of a walk.
+struct Stop {
+    /// `unreachable`, `joint_limit` or `joint_jump`.
+    kind: &'static str,
+    segment: usize,
+    /// Path distance (m).
+    s: f64,
+    /// Index of the joint concerned (`joint_limit`).
+    joint: Option<usize>,
+}
+
+impl Stop {
+    fn at(kind: &'static str, rec: &SampleRecord, joint: Option<usize>) -> Self {
+        Stop {
+            kind,
+            segment: rec.segment,
+            s: rec.s,
+            joint,
+        }
+    }
+}
+
 /// Records the first stopping error of a walk.
 struct FirstStop {
-    first: Option<(&'static str, usize, f64, Option<usize>)>,
+    first: Option<Stop>,
 }
 
 impl SampleSink for FirstStop {
@@ -52,16 +82,16 @@ impl SampleSink for FirstStop {
             return;
         }
         if rec.reach == Reach::Unreachable {
-            self.first = Some(("unreachable", rec.segment, rec.s, None));
+            self.first = Some(Stop::at("unreachable", rec, None));
         } else if rec.jump.is_some() {
-            self.first = Some(("joint_jump", rec.segment, rec.s, None));
+            self.first = Some(Stop::at("joint_jump", rec, None));
         } else if let Some(k) = robot
             .joints()
             .iter()
             .zip(rec.joints.iter())
             .position(|(j, q)| !j.contains(*q))
         {
-            self.first = Some(("joint_limit", rec.segment, rec.s, Some(k)));
+            self.first = Some(Stop::at("joint_limit", rec, Some(k)));
         }
     }
 }
@@ -103,26 +133,26 @@ pub fn feasibility(
                 };
             };
             let choice = StartChoice {
-                method: "configuration",
+                method: StartMethod::Configuration,
                 joints: start.to_vec(),
                 alternatives: 0,
                 config: Some(config),
             };
-            let walker = Walker::new(robot, job, plan, options)
-                .with_closed_form(solver)
+            let mut walker = Walker::new(robot, job, plan, options)
+                .with_closed_form(solver, config)
                 .light();
             let mut stop = FirstStop { first: None };
             walker.walk(&choice, &mut stop);
             ConfigRow {
                 config: config.to_string(),
                 runs: stop.first.is_none(),
-                first_failure: stop.first.map(|(kind, segment, s, joint)| FirstFailure {
-                    kind,
-                    segment,
-                    from: name(job, segment),
-                    to: name(job, segment + 1),
-                    s_mm: s * 1e3,
-                    joint: joint.map(|k| robot.joints()[k].name.clone()),
+                first_failure: stop.first.map(|stop| FirstFailure {
+                    kind: stop.kind,
+                    segment: stop.segment,
+                    from: name(job, stop.segment),
+                    to: name(job, stop.segment + 1),
+                    s_mm: stop.s * 1e3,
+                    joint: stop.joint.map(|k| robot.joints()[k].name.clone()),
                 }),
                 start_joints: Some(
                     robot

@@ -37,17 +37,27 @@ use std::path::{Path, PathBuf};
 /// One segment's speed row in display units (the file's length unit per second).
 #[derive(Debug, Clone, Serialize)]
 pub struct SpeedRow {
+    /// Segment index.
     pub segment: usize,
+    /// Name of the waypoint the segment starts at.
     pub from: String,
+    /// Name of the waypoint the segment ends at.
     pub to: String,
+    /// Motion of the segment.
     pub motion: crate::job::Motion,
+    /// A process segment (`process: true`: one speed along a run of them).
     pub process: bool,
+    /// Programmed TCP speed.
     pub programmed: f64,
     /// Worst speed over allowed speed at the programmed speed (≤ 1 within limits).
     pub ratio: f64,
+    /// What sets the ratio: a joint name, `tool angular speed`, or `-` when nothing moves.
     pub limited_by: String,
+    /// Largest TCP speed within every limit, when the TCP speed sets it.
     pub max_speed: Option<f64>,
+    /// Proposed TCP speed when the programmed one is too high.
     pub proposed: Option<f64>,
+    /// Why no proposal could be made although the segment is too fast.
     pub note: Option<String>,
 }
 
@@ -65,21 +75,27 @@ pub struct ConfigOutcome {
 /// The result of `armpath fix`.
 #[derive(Debug, Clone, Serialize)]
 pub struct FixReport {
+    /// The path file fixed.
     pub file: String,
     /// The amended path file, when anything was amended.
     pub amended_file: Option<String>,
     /// Speed unit of `speeds` (`mm/s` or `m/s`).
     pub speed_unit: String,
+    /// One row per segment.
     pub speeds: Vec<SpeedRow>,
+    /// What the configuration search found.
     pub configuration: ConfigOutcome,
+    /// What the tool-spin search found (free-spin tools).
     pub spin: Option<spin::SpinOutcome>,
     /// Why a free-spin tool got no spin profile.
     pub spin_note: Option<String>,
     /// What was changed, one line each.
     pub changes: Vec<String>,
+    /// The check of the programmed path.
     pub before: Summary,
     /// The re-check of the amended path (`None` when nothing was amended).
     pub after: Option<Summary>,
+    /// Safety cautions, printed with every report.
     pub cautions: Vec<&'static str>,
 }
 
@@ -276,11 +292,13 @@ pub fn fix(job: &Job, out: &Path, options: &CheckOptions) -> Result<FixReport> {
     })
 }
 
-/// The ranking margin of a check: the smaller of the limit margin over half the range and
-/// the singularity measure over 0.1 (as [`crate::solve::configuration_score`]).
+/// The ranking margin of a check: [`crate::solve::margin`] of its smallest limit ratio and
+/// smallest singularity measure (a missing one counts as fully clear).
 fn margin(s: &Summary) -> f64 {
-    let sing = s.min_singularity.map(|m| (m / 0.1).min(1.0)).unwrap_or(1.0);
-    s.min_limit_margin_ratio.unwrap_or(1.0).min(sing)
+    crate::solve::margin(
+        s.min_limit_margin_ratio.unwrap_or(1.0),
+        s.min_singularity.unwrap_or(f64::INFINITY),
+    )
 }
 
 /// Ask for configuration `config` (`front/up/noflip`) in the amended job. `start_joints`

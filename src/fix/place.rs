@@ -8,8 +8,8 @@
 //! depend on the number of threads.
 //!
 //! Ranking: verdict first (pass, then warn, then fail), then fewer errors, then the larger
-//! margin `min(smallest limit margin / half range, smallest singularity measure / 0.1)` — the
-//! same two terms and scaling the start-pose choice uses ([`crate::solve::configuration_score`]),
+//! margin ([`crate::solve::margin`] of the smallest limit ratio and the smallest singularity
+//! measure, the score the start-pose choice ranks with),
 //! then the smaller offset (the placement closest to the programmed one).
 
 use crate::check::{check, CheckOptions};
@@ -29,8 +29,11 @@ pub const MAX_PLACEMENTS: usize = 100_000;
 /// A grid axis `FROM:TO:STEP` in file units (deg or rad for yaw).
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct Axis {
+    /// First value.
     pub from: f64,
+    /// Last value (included when the steps land on it).
     pub to: f64,
+    /// Step between values.
     pub step: f64,
 }
 
@@ -103,12 +106,19 @@ impl Axis {
 /// One placement: offsets in file units and the check's result.
 #[derive(Debug, Clone, serde::Serialize)]
 pub struct Placement {
+    /// Offset along the base x axis (file length unit).
     pub dx: f64,
+    /// Offset along the base y axis (file length unit).
     pub dy: f64,
+    /// Offset along the base z axis (file length unit).
     pub dz: f64,
+    /// Turn about the base z axis (file angle unit).
     pub dyaw: f64,
+    /// Verdict of the check at this placement.
     pub verdict: Verdict,
+    /// Error findings.
     pub errors: usize,
+    /// Warning findings.
     pub warnings: usize,
     /// Smallest singularity measure along the path (0 singular … 1).
     pub min_singularity: Option<f64>,
@@ -146,9 +156,13 @@ impl Placement {
 /// The grid of a search, file units.
 #[derive(Debug, Clone, Copy)]
 pub struct Grid {
+    /// Offsets along x.
     pub x: Axis,
+    /// Offsets along y.
     pub y: Axis,
+    /// Offsets along z.
     pub z: Axis,
+    /// Turns about z.
     pub yaw: Axis,
 }
 
@@ -214,7 +228,6 @@ pub fn search(
             }
         }
     }
-    let threshold = 0.1;
     points
         .par_iter()
         .map(|&(dx, dy, dz, dyaw)| {
@@ -223,12 +236,10 @@ pub fn search(
             tick();
             let report = report?;
             let s = report.summary;
-            let sing = s.min_singularity.map(|m| (m / threshold).min(1.0));
-            let score = match (s.min_limit_margin_ratio, sing) {
-                (Some(a), Some(b)) => a.min(b),
-                (Some(a), None) => a,
-                (None, Some(b)) => b,
+            let score = match (s.min_limit_margin_ratio, s.min_singularity) {
                 (None, None) => 0.0,
+                (Some(a), None) => a,
+                (a, Some(m)) => crate::solve::margin(a.unwrap_or(1.0), m),
             };
             Ok(Placement {
                 dx,

@@ -19,8 +19,7 @@
 //!   (`velocity × joint_speed_scale × dt`) — so a path through the graph has no joint-speed
 //!   errors and no jumps at the sampled resolution.
 //! - The value of a path is, first, its smallest margin (largest is best), the margin of a
-//!   state being [`configuration_score`]: the smaller of the joint-limit margin over half the
-//!   range and the singularity measure over 0.1. Margins are compared in steps of 0.001, and
+//!   state being [`crate::solve::margin`] of its limit ratio and singularity measure. Margins are compared in steps of 0.001, and
 //!   among paths with the same smallest margin the one with less total spin change (plus the
 //!   spin at the start, so that an unneeded spin stays at zero) wins. The max–min value
 //!   propagates exactly through the layers (the bottleneck of a path is the smaller of its
@@ -46,7 +45,7 @@ use crate::ik::analytic::{Config, OrthoParallel};
 use crate::job::{Job, Motion, Waypoint};
 use crate::plan::plan;
 use crate::robot::{Robot, SingularityModel};
-use crate::solve::{best_in_config, configuration_score};
+use crate::solve::{best_in_config, limit_ratio};
 use nalgebra::{Isometry3, UnitQuaternion, Vector3};
 
 /// Spin grid step (deg); see module docs.
@@ -63,13 +62,17 @@ pub struct SpinOutcome {
     pub config: String,
     /// `deg` or `rad`: unit of the spin values.
     pub angle_unit: &'static str,
+    /// Smallest spin of the profile.
     pub min_spin: f64,
+    /// Largest spin of the profile.
     pub max_spin: f64,
     /// Spin at each original waypoint.
     pub waypoint_spins: Vec<f64>,
     /// Smallest margin along the path found (see module docs).
     pub margin: f64,
+    /// Smallest singularity measure along the path found.
     pub min_singularity: f64,
+    /// Smallest limit ratio along the path found (see [`crate::solve::limit_ratio`]).
     pub min_limit_margin: f64,
     /// Waypoints added to follow the spin profile.
     pub added_waypoints: usize,
@@ -79,7 +82,9 @@ pub struct SpinOutcome {
 
 /// A spin search result: the amended job and the outcome.
 pub struct SpinFound {
+    /// The job with the spin profile applied.
     pub job: Job,
+    /// What the search found.
     pub outcome: SpinOutcome,
     /// Any spin other than zero.
     pub changed: bool,
@@ -237,20 +242,14 @@ pub fn search(job: &Job, robot: &Robot, options: &CheckOptions) -> Result<Option
                 let state =
                     match q.filter(|q| robot.joints().iter().zip(q).all(|(j, v)| j.contains(*v))) {
                         Some(q) => {
-                            let margin = configuration_score(robot, &model, &q);
-                            let mut limit: f64 = 1.0;
-                            for (j, &v) in robot.joints().iter().zip(&q) {
-                                let half = 0.5 * (j.upper - j.lower);
-                                if half.is_finite() && half > 0.0 {
-                                    limit = limit.min(j.margin(v) / half);
-                                }
-                            }
+                            let limit = limit_ratio(robot, &q);
                             let mut jac = crate::robot::Jacobian::zeros();
                             robot.chain().fk_jacobian(&q, &mut jac);
+                            let singularity = model.measure(&jac, robot.dof());
                             State {
                                 q,
-                                margin,
-                                singularity: model.measure(&jac, robot.dof()),
+                                margin: crate::solve::margin(limit, singularity),
+                                singularity,
                                 limit,
                                 value: None,
                             }

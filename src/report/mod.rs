@@ -386,7 +386,7 @@ impl Report {
                 angle_step_deg: r.job.sampling.angle_step.to_degrees(),
                 singularity_threshold: r.singularity_threshold,
                 start: StartReport {
-                    method: r.start.method,
+                    method: r.start.method.name(),
                     joints: r
                         .robot
                         .joints()

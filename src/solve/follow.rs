@@ -1,0 +1,288 @@
+//! How the arm is followed from one sample to the next: on one configuration's branch of the
+//! closed form ([`ClosedBranch`]) or by numerical continuity from the previous joints
+//! ([`NumericContinuity`]). The walker holds one [`Follower`] and asks it for each linear
+//! sample and each joint move's end; everything else (reach sphere, jump test, speeds) is the
+//! walker's.
+
+use super::{residual, StartChoice, RESTARTS};
+use crate::ik::analytic::{AnalyticSolution, Config, OrthoParallel};
+use crate::ik::{IkOptions, NumericIk, WarmStart};
+use crate::robot::{Robot, MAX_DOF};
+use nalgebra::Isometry3;
+
+use super::Reach;
+
+/// The joints found for one target.
+#[derive(Debug, Clone, Copy)]
+pub(crate) struct Solved {
+    /// The joints; the last reached ones when the target is unreachable.
+    pub q: [f64; MAX_DOF],
+    pub reach: Reach,
+    /// Remaining position (m) and orientation (rad) error.
+    pub position_error: f64,
+    pub orientation_error: f64,
+    /// The configuration's branch ended and the walk went on in another, (from, to).
+    pub config_change: Option<(Config, Config)>,
+}
+
+impl Solved {
+    /// Solved at joints `q` with the residuals given.
+    pub fn reached(q: [f64; MAX_DOF], position_error: f64, orientation_error: f64) -> Self {
+        Solved {
+            q,
+            reach: Reach::Reached,
+            position_error,
+            orientation_error,
+            config_change: None,
+        }
+    }
+
+    /// Not solved: the joints stay at `last_good`, the residuals say how far the pose is.
+    pub fn unreachable(
+        last_good: [f64; MAX_DOF],
+        position_error: f64,
+        orientation_error: f64,
+    ) -> Self {
+        Solved {
+            reach: Reach::Unreachable,
+            ..Solved::reached(last_good, position_error, orientation_error)
+        }
+    }
+}
+
+/// One way of following the arm along the path. Implementations allocate nothing per call.
+pub(crate) trait Follower {
+    /// Set up for a walk from `start`; `light`: residuals of exact solutions need not be
+    /// measured.
+    fn begin(&mut self, start: &StartChoice, light: bool);
+
+    /// Joints for a linear-segment sample at `base_T_target`, continuing from `last_good`.
+    /// `full_search`: try hard (restarts, probes) on failure. `probe`: the distance of the
+    /// last measured unreachable sample, carried between full searches.
+    fn sample(
+        &mut self,
+        base_T_target: &Isometry3<f64>,
+        last_good: &[f64; MAX_DOF],
+        full_search: bool,
+        probe: &mut (f64, f64),
+    ) -> Solved;
+
+    /// Joints at the end `base_T_end` of a joint move starting at `q0`.
+    fn move_end(&mut self, base_T_end: &Isometry3<f64>, q0: &[f64; MAX_DOF]) -> Solved;
+
+    /// A sample was emitted; `last_good` are the last reached joints.
+    fn settle(&mut self, _last_good: &[f64; MAX_DOF]) {}
+}
+
+/// Numerical continuity: the position-unlimited tracker warm-started from the previous
+/// sample; a restart search inside the limits when it fails.
+pub(crate) struct NumericContinuity<'a> {
+    n: usize,
+    tracker: NumericIk<'a>,
+    limited: NumericIk<'a>,
+    /// Always the last reached joints, evaluated (see [`Follower::settle`]).
+    warm: WarmStart,
+}
+
+impl<'a> NumericContinuity<'a> {
+    /// A follower for `robot` with the IK `options`.
+    pub fn new(robot: &'a Robot, options: IkOptions) -> Self {
+        NumericContinuity {
+            n: robot.dof(),
+            tracker: NumericIk::unlimited(robot, options),
+            limited: NumericIk::new(robot, options),
+            warm: WarmStart::new(),
+        }
+    }
+}
+
+impl Follower for NumericContinuity<'_> {
+    fn begin(&mut self, start: &StartChoice, _light: bool) {
+        self.warm.reset(&start.joints);
+    }
+
+    fn sample(
+        &mut self,
+        base_T_target: &Isometry3<f64>,
+        last_good: &[f64; MAX_DOF],
+        full_search: bool,
+        _probe: &mut (f64, f64),
+    ) -> Solved {
+        let n = self.n;
+        let mut q = [0.0; MAX_DOF];
+        let out = self
+            .tracker
+            .solve_warm(base_T_target, &mut self.warm, &mut q[..n]);
+        if out.converged {
+            return Solved::reached(q, out.position_error, out.orientation_error);
+        }
+        if !full_search {
+            return Solved::unreachable(*last_good, out.position_error, out.orientation_error);
+        }
+        let alt =
+            self.limited
+                .solve_with_restarts(base_T_target, &last_good[..n], RESTARTS, &mut q[..n]);
+        if alt.converged {
+            Solved::reached(q, alt.position_error, alt.orientation_error)
+        } else {
+            Solved::unreachable(*last_good, alt.position_error, alt.orientation_error)
+        }
+    }
+
+    fn move_end(&mut self, base_T_end: &Isometry3<f64>, q0: &[f64; MAX_DOF]) -> Solved {
+        let n = self.n;
+        let mut q1 = [0.0; MAX_DOF];
+        let out = self
+            .limited
+            .solve_with_restarts(base_T_end, &q0[..n], RESTARTS, &mut q1[..n]);
+        if out.converged {
+            Solved::reached(q1, out.position_error, out.orientation_error)
+        } else {
+            Solved::unreachable(*q0, out.position_error, out.orientation_error)
+        }
+    }
+
+    fn settle(&mut self, last_good: &[f64; MAX_DOF]) {
+        // Keep the warm start on the last reached joints (a failed or restarted solve, or a
+        // joint segment, leaves it elsewhere).
+        let n = self.n;
+        if self.warm.joints()[..n] != last_good[..n] {
+            self.warm.reset(&last_good[..n]);
+        }
+    }
+}
+
+/// The closed form on one configuration's branch: windings nearest the previous joints,
+/// limits not applied (a branch running into a limit is reported). Where the branch ends the
+/// walk goes on in the nearest configuration that reaches the pose.
+pub(crate) struct ClosedBranch<'a> {
+    robot: &'a Robot,
+    solver: &'a OrthoParallel,
+    /// Numerical solve inside the limits: how far an unreachable pose is.
+    limited: NumericIk<'a>,
+    /// The configuration a walk starts in.
+    start_config: Config,
+    /// The configuration followed now.
+    config: Config,
+    /// Skip the residual of exact solutions.
+    light: bool,
+}
+
+impl<'a> ClosedBranch<'a> {
+    /// A follower on `solver`'s branch `config` (the start's configuration).
+    pub fn new(
+        robot: &'a Robot,
+        solver: &'a OrthoParallel,
+        config: Config,
+        options: IkOptions,
+    ) -> Self {
+        ClosedBranch {
+            robot,
+            solver,
+            limited: NumericIk::new(robot, options),
+            start_config: config,
+            config,
+            light: false,
+        }
+    }
+}
+
+/// Largest joint difference between `s` and `q`.
+fn distance(s: &AnalyticSolution, q: &[f64; MAX_DOF]) -> f64 {
+    (0..6).fold(0.0f64, |m, k| m.max((s.joints[k] - q[k]).abs()))
+}
+
+impl Follower for ClosedBranch<'_> {
+    fn begin(&mut self, start: &StartChoice, light: bool) {
+        self.config = start.config.unwrap_or(self.start_config);
+        self.light = light;
+    }
+
+    fn sample(
+        &mut self,
+        base_T_target: &Isometry3<f64>,
+        last_good: &[f64; MAX_DOF],
+        full_search: bool,
+        probe: &mut (f64, f64),
+    ) -> Solved {
+        let n = self.robot.dof();
+        let mut q = [0.0; MAX_DOF];
+        let config = self.config;
+        // Stay on the configuration's branch, windings nearest the previous joints.
+        if let Some(sol) = self
+            .solver
+            .solve_near(base_T_target, &last_good[..n], config)
+        {
+            q[..6].copy_from_slice(&sol);
+            // Closed-form solutions are exact to rounding (see `Parameters`' model
+            // deviation); the residual is measured only when it will be reported.
+            let (pe, oe) = if self.light {
+                (0.0, 0.0)
+            } else {
+                residual(self.robot, &q[..n], base_T_target)
+            };
+            return Solved::reached(q, pe, oe);
+        }
+        // The branch ends here (reach boundary of this configuration). Go on in the
+        // configuration whose solution is nearest, if any reaches the pose.
+        let next = self
+            .solver
+            .solve_all(base_T_target)
+            .iter()
+            .map(|s| (distance(s, last_good), s.config))
+            .min_by(|a, b| a.0.total_cmp(&b.0))
+            .map(|(_, c)| c);
+        if let Some(other) = next {
+            if let Some(sol) = self
+                .solver
+                .solve_near(base_T_target, &last_good[..n], other)
+            {
+                q[..6].copy_from_slice(&sol);
+                self.config = other;
+                let (pe, oe) = residual(self.robot, &q[..n], base_T_target);
+                return Solved {
+                    config_change: Some((config, other)),
+                    ..Solved::reached(q, pe, oe)
+                };
+            }
+        }
+        // Out of reach in every configuration: how far, from a local numerical solve.
+        if full_search {
+            let mut probe_q = [0.0; MAX_DOF];
+            let out = self
+                .limited
+                .solve(base_T_target, &last_good[..n], &mut probe_q[..n]);
+            *probe = (out.position_error, out.orientation_error);
+        }
+        Solved::unreachable(*last_good, probe.0, probe.1)
+    }
+
+    fn move_end(&mut self, base_T_end: &Isometry3<f64>, q0: &[f64; MAX_DOF]) -> Solved {
+        // The in-range solution of the current configuration nearest the start, else of any
+        // configuration (a joint move may change configuration; the branch followed
+        // afterwards is the one the move ends in).
+        let n = self.robot.dof();
+        let mut q1 = [0.0; MAX_DOF];
+        let sols = self.solver.solve(base_T_end);
+        let nearest = |a: &&AnalyticSolution, b: &&AnalyticSolution| {
+            distance(a, q0).total_cmp(&distance(b, q0))
+        };
+        let pick = sols
+            .iter()
+            .filter(|s| s.config == self.config)
+            .min_by(nearest)
+            .or_else(|| sols.iter().min_by(nearest));
+        match pick {
+            Some(sol) => {
+                q1[..6].copy_from_slice(&sol.joints);
+                self.config = sol.config;
+                let (pe, oe) = residual(self.robot, &q1[..n], base_T_end);
+                Solved::reached(q1, pe, oe)
+            }
+            None => {
+                let out = self.limited.solve(base_T_end, &q0[..n], &mut q1[..n]);
+                Solved::unreachable(*q0, out.position_error, out.orientation_error)
+            }
+        }
+    }
+}

@@ -1,0 +1,90 @@
+//! What the walk hands to its sinks: one [`SampleRecord`] per sample, and the totals.
+
+use crate::ik::analytic::Config;
+use crate::job::Motion;
+use crate::robot::{Robot, SingularityClass, MAX_DOF};
+use nalgebra::Isometry3;
+
+/// How the joints of a sample were obtained.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Reach {
+    /// IK converged within tolerance.
+    Reached,
+    /// No solution within tolerance and limits: the joints are the last reached ones.
+    Unreachable,
+}
+
+/// A discontinuity in the joint path between the previous sample and this one.
+#[derive(Debug, Clone, Copy)]
+pub struct Jump {
+    /// Joint change across the jump (rad or m), per joint.
+    pub delta: [f64; MAX_DOF],
+    /// With the closed-form solver: the arm configuration ended here and the walk went on in
+    /// another one, (from, to).
+    pub config_change: Option<(Config, Config)>,
+}
+
+/// One solved sample, as the sinks see it. All SI.
+#[derive(Debug, Clone, Copy)]
+pub struct SampleRecord {
+    /// Position of the sample in the walk, from 0.
+    pub index: usize,
+    /// Segment index; the first sample belongs to segment 0.
+    pub segment: usize,
+    /// `Some(i)` when the sample is waypoint `i`.
+    pub waypoint: Option<usize>,
+    /// Motion of the segment the sample belongs to.
+    pub motion: Motion,
+    /// Path distance of the TCP from the start (m).
+    pub s: f64,
+    /// Time from the start (s).
+    pub t: f64,
+    /// Time since the previous sample (s); 0 for the first.
+    pub dt: f64,
+    /// Commanded TCP pose (base frame).
+    pub target: Isometry3<f64>,
+    /// Whether the joints solve the commanded pose.
+    pub reach: Reach,
+    /// Remaining IK position error (m).
+    pub position_error: f64,
+    /// Remaining IK orientation error (rad).
+    pub orientation_error: f64,
+    /// Joints (first `dof` entries meaningful).
+    pub joints: [f64; MAX_DOF],
+    /// Joint speeds since the previous sample (rad/s or m/s; 0 for the first and across a
+    /// jump or an unreachable sample, where a speed has no meaning).
+    pub joint_speed: [f64; MAX_DOF],
+    /// Tool angular speed since the previous sample (rad/s).
+    pub tool_angular_speed: f64,
+    /// Singularity measure (see [`crate::robot::SingularityModel::measure`]).
+    pub singularity: f64,
+    /// Nearest singularity class, for arms where classes are defined.
+    pub singularity_class: Option<SingularityClass>,
+    /// A discontinuity between the previous sample and this one.
+    pub jump: Option<Jump>,
+}
+
+/// Receives every solved sample in path order.
+pub trait SampleSink {
+    /// Called once before the first sample with the plan's estimate of the sample count
+    /// (exact for linear segments, a lower bound for joint segments).
+    fn begin(&mut self, _robot: &Robot, _estimated_samples: u64) {}
+    /// One solved sample.
+    fn sample(&mut self, robot: &Robot, rec: &SampleRecord);
+    /// True when the sink needs no more samples: the walk may stop early (used by the
+    /// configuration table, which only wants the first stopping error).
+    fn done(&self) -> bool {
+        false
+    }
+}
+
+/// Totals of a walk.
+#[derive(Debug, Clone, Copy, Default)]
+pub struct WalkTotals {
+    /// Samples handed to the sink.
+    pub samples: usize,
+    /// Path distance of the last sample (m).
+    pub length: f64,
+    /// Time of the last sample (s).
+    pub duration: f64,
+}

@@ -1,0 +1,498 @@
+//! The walk: the plan's segments sample by sample, each sample's joints from the
+//! [`Follower`], joint moves interpolated in joint space, the jump test, speeds and the
+//! hand-off to the sinks. Only the previous sample is kept; the loop allocates nothing.
+
+use super::follow::{ClosedBranch, Follower, NumericContinuity, Solved};
+use super::{residual, Jump, Reach, SampleRecord, SampleSink, StartChoice, StartMethod};
+use super::{WalkTotals, RECOVER_EVERY};
+use crate::ik::analytic::{Config, OrthoParallel};
+use crate::ik::{IkOptions, NumericIk};
+use crate::job::{Job, Motion};
+use crate::plan::{Plan, Segment};
+use crate::robot::{Jacobian, Robot, SingularityModel, MAX_DOF};
+use crate::rotation;
+use nalgebra::{Isometry3, Vector3};
+
+/// Depth of the jump search: each level halves the Cartesian step. After 16 halvings the step
+/// is 1/65536 of a sample step; a continuous joint path shrinks with it, a jump does not.
+const JUMP_DEPTH: u32 = 16;
+
+/// A joint step that still holds more than this fraction of the original step after
+/// [`JUMP_DEPTH`] halvings did not shrink with the Cartesian step: a discontinuity. A
+/// continuous path keeps about 2⁻¹⁶ of it; any fraction far between the two works.
+const JUMP_KEEP_FRACTION: f64 = 0.25;
+
+/// Walks a plan and feeds the sinks.
+pub struct Walker<'a> {
+    robot: &'a Robot,
+    job: &'a Job,
+    plan: &'a Plan,
+    model: SingularityModel,
+    options: IkOptions,
+    /// Solves the Cartesian midpoints of the jump test (position limits not applied).
+    jump_ik: NumericIk<'a>,
+    /// How the arm is followed from sample to sample.
+    follower: Box<dyn Follower + 'a>,
+    /// Skip the per-sample singularity measure (feasibility walks need only reach, limits
+    /// and jumps).
+    light: bool,
+    /// Singularity classes are computed below this measure (and at new minima).
+    class_below: f64,
+    /// Sphere the TCP never leaves ([`Robot::reach_bound`]): centre (base frame) and radius.
+    reach_centre: Vector3<f64>,
+    reach_radius: f64,
+}
+
+impl<'a> Walker<'a> {
+    /// A walker following the arm by numerical continuity.
+    pub fn new(robot: &'a Robot, job: &'a Job, plan: &'a Plan, options: IkOptions) -> Self {
+        let (reach_centre, reach_radius) = robot.reach_bound();
+        Walker {
+            robot,
+            job,
+            plan,
+            model: SingularityModel::new(robot),
+            options,
+            jump_ik: NumericIk::unlimited(robot, options),
+            follower: Box::new(NumericContinuity::new(robot, options)),
+            light: false,
+            class_below: crate::assess::DEFAULT_SINGULARITY_THRESHOLD,
+            reach_centre,
+            reach_radius,
+        }
+    }
+
+    /// The singularity warning threshold, below which each sample's class is named.
+    pub fn with_singularity_threshold(mut self, threshold: f64) -> Self {
+        self.class_below = threshold;
+        self
+    }
+
+    /// Follow the path with the closed-form solver, on the branch of configuration `config`
+    /// (the start's, see [`StartChoice::config`]).
+    pub fn with_closed_form(mut self, solver: &'a OrthoParallel, config: Config) -> Self {
+        self.follower = Box::new(ClosedBranch::new(self.robot, solver, config, self.options));
+        self
+    }
+
+    /// Skip the singularity measure (for quick feasibility walks).
+    pub fn light(mut self) -> Self {
+        self.light = true;
+        self
+    }
+
+    /// The singularity model of the walked robot.
+    pub fn model(&self) -> &SingularityModel {
+        &self.model
+    }
+
+    /// Walk the whole path from the given start joints (the solution at waypoint 0).
+    pub fn walk(&mut self, start: &StartChoice, sink: &mut dyn SampleSink) -> WalkTotals {
+        let n = self.robot.dof();
+        let mut state = State {
+            prev: None,
+            min_measure: f64::INFINITY,
+            index: 0,
+            s: 0.0,
+            t: 0.0,
+            last_good: [0.0; MAX_DOF],
+            unreachable_run: 0,
+            probe: (0.0, 0.0),
+        };
+        state.last_good[..n].copy_from_slice(&start.joints);
+        self.follower.begin(start, self.light);
+        sink.begin(self.robot, self.plan.estimated_samples);
+        // The first sample: waypoint 0.
+        let first_target = self.plan.waypoints_base[0];
+        let reach = if start.method == StartMethod::Unreachable {
+            Reach::Unreachable
+        } else {
+            Reach::Reached
+        };
+        let mut q = [0.0; MAX_DOF];
+        q[..n].copy_from_slice(&start.joints);
+        let (pe, oe) = residual(self.robot, &q[..n], &first_target);
+        self.emit(
+            &mut state,
+            sink,
+            EmitArgs {
+                segment: 0,
+                waypoint: Some(0),
+                motion: Motion::Linear,
+                target: first_target,
+                solved: Solved {
+                    reach,
+                    ..Solved::reached(q, pe, oe)
+                },
+                dt: 0.0,
+                s: 0.0,
+                check_jump: false,
+            },
+        );
+        // Path distance at each segment's start: the sum of the straight-line lengths before
+        // it, joint moves included, so that the distance of every waypoint is fixed by the
+        // path alone and agrees across walks in different configurations.
+        let mut s0 = 0.0;
+        for seg in self.plan.segments() {
+            if sink.done() {
+                break;
+            }
+            match seg.motion {
+                Motion::Linear => self.walk_linear(&seg, s0, &mut state, sink),
+                Motion::Joint => self.walk_joint(&seg, s0, &mut state, sink),
+            }
+            s0 += seg.length;
+        }
+        WalkTotals {
+            samples: state.index,
+            length: state.s,
+            duration: state.t,
+        }
+    }
+
+    /// A linear segment starting at path distance `s0`.
+    fn walk_linear(
+        &mut self,
+        seg: &Segment,
+        s0: f64,
+        state: &mut State,
+        sink: &mut dyn SampleSink,
+    ) {
+        let steps = seg.steps;
+        if steps == 0 {
+            // A repeated waypoint: the previous sample already stands there.
+            return;
+        }
+        let dt = seg.duration / steps as f64;
+        for i in 1..=steps {
+            if sink.done() {
+                return;
+            }
+            let u = i as f64 / steps as f64;
+            let target = seg.pose_at(u);
+            let solved = self.solve_sample(&target, i == steps, state);
+            self.emit(
+                state,
+                sink,
+                EmitArgs {
+                    segment: seg.index,
+                    waypoint: (i == steps).then_some(seg.index + 1),
+                    motion: Motion::Linear,
+                    target,
+                    solved,
+                    dt,
+                    s: s0 + seg.length * u,
+                    check_jump: true,
+                },
+            );
+        }
+    }
+
+    /// How far `base_T_target` lies outside the reach sphere, if it does: then nothing needs
+    /// solving, and the distance is a lower bound of the distance to any reachable TCP
+    /// position.
+    fn beyond_reach(&self, base_T_target: &Isometry3<f64>) -> Option<f64> {
+        let excess =
+            (base_T_target.translation.vector - self.reach_centre).norm() - self.reach_radius;
+        (excess > 0.0).then_some(excess)
+    }
+
+    /// Joints for one linear-segment sample. `segment_end`: the segment's last sample (always
+    /// fully searched).
+    fn solve_sample(
+        &mut self,
+        base_T_target: &Isometry3<f64>,
+        segment_end: bool,
+        state: &mut State,
+    ) -> Solved {
+        if let Some(excess) = self.beyond_reach(base_T_target) {
+            state.probe = (excess, 0.0);
+            return Solved::unreachable(state.last_good, excess, 0.0);
+        }
+        let full_search = state.unreachable_run.is_multiple_of(RECOVER_EVERY) || segment_end;
+        self.follower.sample(
+            base_T_target,
+            &state.last_good,
+            full_search,
+            &mut state.probe,
+        )
+    }
+
+    /// Samples and time step of a joint move from `q0` to `q1`: no joint moves more than one
+    /// angle step (or length step for a prismatic joint) between samples; the duration is the
+    /// Cartesian one or the slowest joint's at its allowed speed, whichever is longer (a
+    /// synchronised joint move).
+    fn joint_move_timing(
+        &self,
+        seg: &Segment,
+        q0: &[f64; MAX_DOF],
+        q1: &[f64; MAX_DOF],
+    ) -> JointMoveTiming {
+        let scale = self.job.limits.joint_speed_scale;
+        let mut steps = seg.steps.max(1);
+        let mut duration = seg.duration;
+        for (i, j) in self.robot.joints().iter().enumerate() {
+            let d = (q1[i] - q0[i]).abs();
+            let step = if j.kind.is_prismatic() {
+                self.job.sampling.step
+            } else {
+                self.job.sampling.angle_step
+            };
+            steps = steps.max((d / step).ceil() as usize);
+            duration = duration.max(d / (j.velocity * scale));
+        }
+        JointMoveTiming {
+            steps,
+            dt: duration / steps as f64,
+        }
+    }
+
+    /// A joint move starting at path distance `s0`. It counts as its straight-line length,
+    /// spread evenly over its joint-space steps: the TCP's route depends on the configuration
+    /// and is not the programmed path.
+    fn walk_joint(&mut self, seg: &Segment, s0: f64, state: &mut State, sink: &mut dyn SampleSink) {
+        let n = self.robot.dof();
+        let q0 = state.last_good;
+        let end = match self.beyond_reach(&seg.end) {
+            Some(excess) => Solved::unreachable(q0, excess, 0.0),
+            None => self.follower.move_end(&seg.end, &q0),
+        };
+        if end.reach == Reach::Unreachable {
+            self.emit(
+                state,
+                sink,
+                EmitArgs {
+                    segment: seg.index,
+                    waypoint: Some(seg.index + 1),
+                    motion: Motion::Joint,
+                    target: seg.end,
+                    solved: end,
+                    dt: seg.duration,
+                    s: s0 + seg.length,
+                    check_jump: false,
+                },
+            );
+            return;
+        }
+        let q1 = end.q;
+        let JointMoveTiming { steps, dt } = self.joint_move_timing(seg, &q0, &q1);
+        for i in 1..=steps {
+            let u = i as f64 / steps as f64;
+            let mut q = [0.0; MAX_DOF];
+            for k in 0..n {
+                q[k] = q0[k] + (q1[k] - q0[k]) * u;
+            }
+            let last = i == steps;
+            let (pe, oe) = if last {
+                (end.position_error, end.orientation_error)
+            } else {
+                (0.0, 0.0)
+            };
+            self.emit(
+                state,
+                sink,
+                EmitArgs {
+                    segment: seg.index,
+                    waypoint: last.then_some(seg.index + 1),
+                    motion: Motion::Joint,
+                    target: if last {
+                        seg.end
+                    } else {
+                        self.robot.chain().fk(&q[..n])
+                    },
+                    solved: Solved::reached(q, pe, oe),
+                    dt,
+                    s: s0 + seg.length * u,
+                    check_jump: false,
+                },
+            );
+        }
+    }
+
+    fn emit(&mut self, state: &mut State, sink: &mut dyn SampleSink, a: EmitArgs) {
+        let n = self.robot.dof();
+        let Solved {
+            q,
+            reach,
+            position_error,
+            orientation_error,
+            config_change,
+        } = a.solved;
+        let (singularity, singularity_class) = if self.light {
+            (1.0, None)
+        } else {
+            let mut jac = Jacobian::zeros();
+            self.robot.chain().fk_jacobian(&q[..n], &mut jac);
+            let m = self.model.measure(&jac, n);
+            // The class is read where a finding or the path's minimum needs it: below the
+            // warning threshold or at a new smallest measure.
+            let class = if m < self.class_below || m < state.min_measure {
+                self.model.classify(self.robot.chain(), &q[..n])
+            } else {
+                None
+            };
+            state.min_measure = state.min_measure.min(m);
+            (m, class)
+        };
+        let mut joint_speed = [0.0; MAX_DOF];
+        let mut tool_angular_speed = 0.0;
+        let mut jump = None;
+        if let Some(prev) = &state.prev {
+            if a.dt > 0.0 {
+                tool_angular_speed =
+                    rotation::angle_between(&prev.target.rotation, &a.target.rotation) / a.dt;
+            }
+            let both_reached = prev.reach == Reach::Reached && reach == Reach::Reached;
+            if both_reached && a.check_jump {
+                jump = self.find_jump(prev, &a.target, &q);
+                if let Some(change) = config_change {
+                    // A change of configuration is a jump whatever the midpoint test says.
+                    let mut delta = [0.0; MAX_DOF];
+                    for (k, d) in delta.iter_mut().enumerate().take(n) {
+                        *d = q[k] - prev.joints[k];
+                    }
+                    jump = Some(Jump {
+                        delta,
+                        config_change: Some(change),
+                    });
+                }
+            }
+            if both_reached && jump.is_none() && a.dt > 0.0 {
+                for ((v, qk), q_prev) in joint_speed.iter_mut().zip(&q).zip(&prev.joints).take(n) {
+                    *v = (qk - q_prev) / a.dt;
+                }
+            }
+        }
+        state.s = a.s;
+        state.t += a.dt;
+        let rec = SampleRecord {
+            index: state.index,
+            segment: a.segment,
+            waypoint: a.waypoint,
+            motion: a.motion,
+            s: state.s,
+            t: state.t,
+            dt: a.dt,
+            target: a.target,
+            reach,
+            position_error,
+            orientation_error,
+            joints: q,
+            joint_speed,
+            tool_angular_speed,
+            singularity,
+            singularity_class,
+            jump,
+        };
+        sink.sample(self.robot, &rec);
+        state.index += 1;
+        if reach == Reach::Reached {
+            state.last_good = q;
+            state.unreachable_run = 0;
+        } else {
+            state.unreachable_run += 1;
+        }
+        self.follower.settle(&state.last_good);
+        state.prev = Some(rec);
+    }
+
+    /// Is the joint step from `prev` to (`target`, `q`) a discontinuity? Compare the pose
+    /// of the joint-space midpoint with the Cartesian midpoint; where they differ by more than
+    /// the IK tolerance, solve the Cartesian midpoint and recurse into the half with the larger
+    /// joint step. A step that keeps its size while the Cartesian step halves
+    /// [`JUMP_DEPTH`] times is a jump.
+    fn find_jump(
+        &self,
+        prev: &SampleRecord,
+        target: &Isometry3<f64>,
+        q: &[f64; MAX_DOF],
+    ) -> Option<Jump> {
+        let n = self.robot.dof();
+        let opts = self.options;
+        let size = |a: &[f64; MAX_DOF], b: &[f64; MAX_DOF]| {
+            (0..n).fold(0.0f64, |m, k| m.max((a[k] - b[k]).abs()))
+        };
+        let original = size(&prev.joints, q);
+        if original == 0.0 {
+            return None;
+        }
+        let (mut qa, mut qb) = (prev.joints, *q);
+        let (mut pa, mut pb) = (prev.target, *target);
+        for _ in 0..JUMP_DEPTH {
+            let mut qm = [0.0; MAX_DOF];
+            for k in 0..n {
+                qm[k] = 0.5 * (qa[k] + qb[k]);
+            }
+            let cart_mid = Isometry3::from_parts(
+                nalgebra::Translation3::from((pa.translation.vector + pb.translation.vector) * 0.5),
+                rotation::Geodesic::new(&pa.rotation, &pb.rotation).at(0.5),
+            );
+            let joint_mid = self.robot.chain().fk(&qm[..n]);
+            let dev_p = (joint_mid.translation.vector - cart_mid.translation.vector).norm();
+            let dev_r = rotation::angle_between(&joint_mid.rotation, &cart_mid.rotation);
+            if dev_p <= opts.position_tolerance && dev_r <= opts.orientation_tolerance {
+                return None;
+            }
+            let mut qs = [0.0; MAX_DOF];
+            let out = self.jump_ik.solve(&cart_mid, &qm[..n], &mut qs[..n]);
+            if !out.converged {
+                // The midpoint itself cannot be solved from here: the step crosses a
+                // singularity or a branch boundary.
+                break;
+            }
+            if size(&qa, &qs) >= size(&qs, &qb) {
+                qb = qs;
+                pb = cart_mid;
+            } else {
+                qa = qs;
+                pa = cart_mid;
+            }
+        }
+        if size(&qa, &qb) > JUMP_KEEP_FRACTION * original {
+            let mut delta = [0.0; MAX_DOF];
+            for k in 0..n {
+                delta[k] = q[k] - prev.joints[k];
+            }
+            Some(Jump {
+                delta,
+                config_change: None,
+            })
+        } else {
+            None
+        }
+    }
+}
+
+/// Samples and time step of a joint move (see [`Walker::joint_move_timing`]).
+struct JointMoveTiming {
+    steps: usize,
+    dt: f64,
+}
+
+/// What the walk keeps between samples.
+struct State {
+    prev: Option<SampleRecord>,
+    /// Smallest singularity measure so far.
+    min_measure: f64,
+    index: usize,
+    s: f64,
+    t: f64,
+    last_good: [f64; MAX_DOF],
+    /// Unreachable samples since the last reached one.
+    unreachable_run: usize,
+    /// Distance (position m, orientation rad) of the last measured unreachable sample.
+    probe: (f64, f64),
+}
+
+/// One sample to emit: where it is on the path and what was solved there.
+struct EmitArgs {
+    segment: usize,
+    waypoint: Option<usize>,
+    motion: Motion,
+    target: Isometry3<f64>,
+    solved: Solved,
+    dt: f64,
+    /// Path distance of the sample (m).
+    s: f64,
+    check_jump: bool,
+}
