@@ -106,7 +106,7 @@ pub fn check(
         OrthoParallel::from_robot(&robot)
     };
     if let (Some(sj), Some(q)) = (&job.start_joints, &start_si) {
-        check_start_joints(job, sj, &robot, q, &first, options.ik, closed.as_ref().ok())?;
+        check_start_joints(job, sj, &robot, q, &first, closed.as_ref().ok())?;
     }
     let mut notes: Vec<Finding> = unit_hint.into_iter().map(note).collect();
     let (start, table) = match &closed {
@@ -189,7 +189,19 @@ pub fn check(
     Ok(report)
 }
 
-/// Given start joints must put the TCP on the first waypoint within the IK tolerance (unless
+/// How far (m) the TCP of given start joints may be from the first waypoint. Joints copied
+/// from a controller display carry three decimals (±0.0005°); over six joints and a 2 m
+/// lever that moves the TCP by up to about 0.1 mm and 0.003°, well inside these bounds,
+/// while joints that belong to another pose, joint order, unit or tool miss by millimetres
+/// or degrees. Within the bounds the first pose is solved exactly, nearest the given joints
+/// (same configuration and windings).
+pub const START_JOINTS_POSITION_TOLERANCE: f64 = 0.5e-3;
+
+/// How far (rad) the tool orientation of given start joints may be from the first
+/// waypoint's: 0.05°, for the same reason as [`START_JOINTS_POSITION_TOLERANCE`].
+pub const START_JOINTS_ORIENTATION_TOLERANCE: f64 = 0.05 * std::f64::consts::PI / 180.0;
+
+/// Given start joints must put the TCP on the first waypoint within the start tolerance (unless
 /// they are only a seed), and with the closed-form solver their configuration must agree with
 /// the `config:` request.
 fn check_start_joints(
@@ -198,7 +210,6 @@ fn check_start_joints(
     robot: &Robot,
     q: &[f64],
     first: &nalgebra::Isometry3<f64>,
-    ik: IkOptions,
     solver: Option<&OrthoParallel>,
 ) -> Result<()> {
     let refuse = |message: String| {
@@ -210,16 +221,16 @@ fn check_start_joints(
     };
     if !sj.seed {
         let (pe, oe) = residual(robot, q, first);
-        if pe > ik.position_tolerance || oe > ik.orientation_tolerance {
+        if pe > START_JOINTS_POSITION_TOLERANCE || oe > START_JOINTS_ORIENTATION_TOLERANCE {
             return refuse(format!(
-                "these joints put the TCP {:.3} mm and {:.4}° away from the first waypoint '{}' (IK tolerance {} mm, {}°): \
+                "these joints put the TCP {:.3} mm and {:.4}° away from the first waypoint '{}' (allowed {} mm, {}°): \
                  give the joints at the first waypoint, or set `start_joints_seed: true` (--start-joints-as-seed) \
                  to use them only as a starting guess",
                 pe * 1e3,
                 oe.to_degrees(),
                 job.waypoints[0].name,
-                ik.position_tolerance * 1e3,
-                ik.orientation_tolerance.to_degrees()
+                START_JOINTS_POSITION_TOLERANCE * 1e3,
+                START_JOINTS_ORIENTATION_TOLERANCE.to_degrees()
             ));
         }
     }

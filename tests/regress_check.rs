@@ -108,6 +108,28 @@ fn start_joints_off_the_first_waypoint_are_refused_with_the_pose_error() {
     assert_eq!(report["path"]["start"]["method"], "start_joints");
 }
 
+#[test]
+fn start_joints_read_off_a_display_are_accepted_and_solved_onto_the_waypoint() {
+    // Derivation: a controller display shows joints to 0.001°, so a copied value is off by
+    // at most 0.0005°. With every joint off by 0.0004° the TCP moves by at most
+    // Σ|Δq|·(lever ≤ 2 m) = 6 · 0.0004° · π/180 · 2 m ≈ 0.084 mm and turns by at most
+    // 6 · 0.0004° = 0.0024°: inside the start tolerance (0.5 mm, 0.05°), beyond the IK
+    // tolerance (0.01 mm, 0.001°). The check must take them and solve the first pose exactly
+    // next to them.
+    // source: common practice (three decimals on joint displays); triangle inequality for
+    // the TCP displacement of a serial chain
+    let q: Vec<f64> = Q0.iter().map(|v| v + 0.0004).collect();
+    let (_d, file) = start_file(&q, "");
+    let (code, report) = check_json(&file, &[]);
+    assert_ne!(code, 2, "{report:#}");
+    assert_eq!(report["path"]["start"]["method"], "start_joints");
+    for (i, want) in Q0.iter().enumerate() {
+        let got = f64_of(&report["path"]["start"]["joints"][i]);
+        // Solved back within the display rounding of the given joints.
+        assert!((got - want).abs() < 0.01, "j{}: {got} vs {want}", i + 1);
+    }
+}
+
 /// The numbers of the `[...]` list that follows `key` in `text`.
 fn number_list(text: &str, key: &str) -> Vec<f64> {
     let rest = &text[text.find(key).unwrap() + key.len()..];
