@@ -98,7 +98,7 @@ pub fn check(
     }
     let plan = plan(job, options.max_samples)?;
     let model = SingularityModel::new(&robot);
-    let first = plan.waypoints_base[0];
+    let first = plan.first_base();
     let closed = if options.numeric_only {
         Err("the numerical solver was asked for (--ik numeric)".to_string())
     } else {

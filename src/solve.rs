@@ -302,7 +302,7 @@ impl<'a> Walker<'a> {
         state.warm.reset(&start.joints);
         sink.begin(self.robot, self.plan.estimated_samples);
         // The first sample: waypoint 0.
-        let first_target = self.plan.waypoints_base[0];
+        let first_target = self.plan.first_base();
         let reach = if start.method == "unreachable" {
             Reach::Unreachable
         } else {
