@@ -533,7 +533,35 @@ pub fn load(path: &Path, overrides: &Overrides) -> Result<Job, Error> {
     };
     check_file(path, what, "")?;
     let bytes = read_file(path, what)?;
-    load_bytes(&bytes, path, overrides)
+    if !is_csv(path) {
+        return load_bytes(&bytes, path, overrides);
+    }
+    let override_units = overrides.units()?;
+    let mut warnings = Vec::new();
+    let loaded = csv_file::parse_waypoints(&bytes, path, &override_units, &mut warnings)?;
+    // The file's text is no longer needed: free it before the job is assembled, so that it
+    // does not add to the peak memory of a long path.
+    drop(bytes);
+    csv_job(path, overrides, override_units, loaded, warnings)
+}
+
+/// The job of a CSV waypoint file loaded directly, from its parsed waypoints.
+fn csv_job(
+    path: &Path,
+    overrides: &Overrides,
+    override_units: Units,
+    loaded: Loaded,
+    warnings: Vec<InputWarning>,
+) -> Result<Job, Error> {
+    build(
+        path,
+        PathFileSpec::default(),
+        override_units,
+        overrides,
+        override_units,
+        Source::Csv(loaded, path.to_path_buf()),
+        warnings,
+    )
 }
 
 /// True when `path` names a CSV waypoint file (extension `.csv`, any case).
@@ -550,16 +578,8 @@ pub fn load_bytes(bytes: &[u8], path: &Path, overrides: &Overrides) -> Result<Jo
     let override_units = overrides.units()?;
     if is_csv(path) {
         let mut warnings = Vec::new();
-        let waypoints = csv_file::parse_waypoints(bytes, path, &override_units, &mut warnings)?;
-        build(
-            path,
-            PathFileSpec::default(),
-            override_units,
-            overrides,
-            override_units,
-            Source::Csv(waypoints, path.to_path_buf()),
-            warnings,
-        )
+        let loaded = csv_file::parse_waypoints(bytes, path, &override_units, &mut warnings)?;
+        csv_job(path, overrides, override_units, loaded, warnings)
     } else {
         let spec = parse_yaml(bytes, path)?;
         let file_units = match &spec.units {
