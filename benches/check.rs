@@ -42,7 +42,7 @@ fn bench(c: &mut Criterion) {
     let robot = load_urdf(&job.robot, None).unwrap();
     let plan = plan(&job, u64::MAX).unwrap();
     // The sample poses, as the checker makes them.
-    let mut targets = vec![plan.waypoints_base[0]];
+    let mut targets = vec![plan.first_base()];
     for seg in plan.segments() {
         for i in 1..=seg.steps {
             targets.push(seg.pose_at(i as f64 / seg.steps as f64));

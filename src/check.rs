@@ -99,7 +99,7 @@ pub fn check(
     }
     let plan = plan(job, options.max_samples)?;
     let model = SingularityModel::new(&robot);
-    let first = plan.waypoints_base[0];
+    let first = plan.first_base();
     let closed = if options.numeric_only {
         Err("the numerical solver was asked for (--ik numeric)".to_string())
     } else {
@@ -228,7 +228,7 @@ fn check_start_joints(
                  to use them only as a starting guess",
                 pe * 1e3,
                 oe.to_degrees(),
-                job.waypoints[0].name,
+                job.waypoint_name(0),
                 START_JOINTS_POSITION_TOLERANCE * 1e3,
                 START_JOINTS_ORIENTATION_TOLERANCE.to_degrees()
             ));
@@ -272,7 +272,7 @@ fn metres_look_like_mm(job: &Job, robot: &Robot) -> Option<String> {
     let tool = job.tool.tip_T_tcp.translation.vector.norm();
     let work = &job.base_T_work;
     let (mut beyond, mut inside_as_mm) = (0, 0);
-    for w in &job.waypoints {
+    for w in job.waypoints.iter() {
         let p = work.translation.vector + work.rotation * w.work_T_tcp.translation.vector;
         beyond += usize::from((p - centre).norm() > bare_radius + tool);
         let p_mm = p * 1e-3;

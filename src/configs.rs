@@ -97,10 +97,7 @@ impl SampleSink for FirstStop {
 }
 
 fn name(job: &Job, i: usize) -> String {
-    job.waypoints
-        .get(i)
-        .map(|w| w.name.clone())
-        .unwrap_or_default()
+    job.waypoint_name(i)
 }
 
 /// Walk the path in each of the eight configurations.
@@ -112,7 +109,7 @@ pub fn feasibility(
     options: IkOptions,
 ) -> Vec<ConfigRow> {
     let model = SingularityModel::new(robot);
-    let target = plan.waypoints_base[0];
+    let target = plan.first_base();
     Config::ALL
         .iter()
         .map(|&config| {

@@ -9,9 +9,10 @@
 //! sampled in joint space by the solver, which knows their end joints.
 
 use crate::error::{Error, Result};
-use crate::job::{Job, Motion};
+use crate::job::{Job, Motion, Waypoint};
 use crate::rotation::Geodesic;
 use nalgebra::{Isometry3, Translation3, Vector3};
+use std::sync::Arc;
 
 /// Samples a check may imply before it is refused: 10⁸ samples take minutes and say
 /// nothing a coarser sampling would not. Raise it with `--max-samples`.
@@ -54,8 +55,7 @@ impl Segment {
     }
 }
 
-/// What a segment takes from its end waypoint: all the plan keeps per segment besides the
-/// waypoint poses (16 bytes, so that a path of a million waypoints stays small).
+/// What a segment takes from its end waypoint besides its pose.
 #[derive(Debug, Clone, Copy)]
 struct SegmentKeys {
     /// Programmed TCP speed (m/s).
@@ -66,16 +66,20 @@ struct SegmentKeys {
 
 /// The planned path: waypoints turned into base-frame segments.
 ///
-/// Layout: the plan keeps one base-frame pose per waypoint and [`SegmentKeys`] per segment;
-/// each [`Segment`] (end poses, length, geodesic, duration, steps) is computed from them when
-/// asked for, by [`Plan::segment`] or [`Plan::segments`], the same way every time.
+/// Layout: the plan keeps nothing per waypoint; it shares the job's waypoints and derives a
+/// waypoint's base-frame pose (`base_T_work * work_T_tcp`, one product) and its
+/// [`SegmentKeys`] when asked. Each [`Segment`] (end poses, length, geodesic, duration,
+/// steps) is computed from them by [`Plan::segment`] or [`Plan::segments`], the same way
+/// every time.
 #[derive(Debug, Clone)]
 pub struct Plan {
-    /// Pose of every waypoint's TCP in the base frame.
-    pub waypoints_base: Vec<Isometry3<f64>>,
     /// Samples along linear segments plus a lower bound for joint segments, plus the first.
     pub estimated_samples: u64,
-    keys: Vec<SegmentKeys>,
+    /// The job's waypoints (work frame), shared.
+    waypoints: Arc<Vec<Waypoint>>,
+    base_T_work: Isometry3<f64>,
+    /// The job's TCP speed (m/s), for waypoints that set none.
+    speed: f64,
     orientation_speed: Option<f64>,
     step: f64,
     angle_step: f64,
@@ -84,7 +88,32 @@ pub struct Plan {
 impl Plan {
     /// Number of segments (one fewer than waypoints).
     pub fn segment_count(&self) -> usize {
-        self.keys.len()
+        self.waypoints.len().saturating_sub(1)
+    }
+
+    /// Pose of waypoint `k`'s TCP in the base frame, or `None` past the last.
+    #[inline]
+    pub fn waypoint_base(&self, k: usize) -> Option<Isometry3<f64>> {
+        self.waypoints
+            .get(k)
+            .map(|w| self.base_T_work * w.work_T_tcp)
+    }
+
+    /// Pose of the first waypoint's TCP in the base frame. A plan always has at least two
+    /// waypoints (the job refuses fewer); an empty one would give the identity.
+    #[inline]
+    pub fn first_base(&self) -> Isometry3<f64> {
+        self.waypoint_base(0).unwrap_or_else(Isometry3::identity)
+    }
+
+    /// Keys of segment `k`, taken from the waypoint it ends at.
+    fn keys(&self, k: usize) -> Option<SegmentKeys> {
+        let wp = self.waypoints.get(k + 1)?;
+        Some(SegmentKeys {
+            speed: wp.speed.unwrap_or(self.speed),
+            motion: wp.motion,
+            process: wp.process,
+        })
     }
 
     /// Segment `k` (from waypoint `k` to `k + 1`), or `None` past the last.
@@ -94,15 +123,15 @@ impl Plan {
 
     /// Every segment in path order, each computed when reached.
     pub fn segments(&self) -> impl Iterator<Item = Segment> + '_ {
-        (0..self.keys.len()).filter_map(|k| self.segment(k))
+        (0..self.segment_count()).filter_map(|k| self.segment(k))
     }
 
     /// Segment `k` and its step count as a float (which may be huge or infinite before the
     /// sample cap in [`plan`] has been checked).
     fn segment_and_steps(&self, k: usize) -> Option<(Segment, f64)> {
-        let keys = self.keys.get(k)?;
-        let start = *self.waypoints_base.get(k)?;
-        let end = *self.waypoints_base.get(k + 1)?;
+        let keys = self.keys(k)?;
+        let start = self.waypoint_base(k)?;
+        let end = self.waypoint_base(k + 1)?;
         let length = (end.translation.vector - start.translation.vector).norm();
         let geodesic = Geodesic::new(&start.rotation, &end.rotation);
         let angle = geodesic.angle();
@@ -132,25 +161,11 @@ impl Plan {
 
 /// Build the plan. Fails when the sampling would imply more than `max_samples` samples.
 pub fn plan(job: &Job, max_samples: u64) -> Result<Plan> {
-    let waypoints_base: Vec<Isometry3<f64>> = job
-        .waypoints
-        .iter()
-        .map(|w| job.base_T_work * w.work_T_tcp)
-        .collect();
-    let keys = job
-        .waypoints
-        .iter()
-        .skip(1)
-        .map(|wp| SegmentKeys {
-            speed: wp.speed.unwrap_or(job.speed),
-            motion: wp.motion,
-            process: wp.process,
-        })
-        .collect();
     let mut plan = Plan {
-        waypoints_base,
         estimated_samples: 0,
-        keys,
+        waypoints: Arc::clone(&job.waypoints),
+        base_T_work: job.base_T_work,
+        speed: job.speed,
         orientation_speed: job.orientation_speed,
         step: job.sampling.step,
         angle_step: job.sampling.angle_step,
@@ -166,7 +181,7 @@ pub fn plan(job: &Job, max_samples: u64) -> Result<Plan> {
                 format!(
                     "the path would need more than {max_samples} samples (at segment {k}, ending at '{}'): \
                      raise sampling.step / sampling.angle_step, or pass --max-samples N to allow more",
-                    job.waypoints[k + 1].name
+                    job.waypoint_name(k + 1)
                 ),
             ));
         }
@@ -182,12 +197,21 @@ mod tests {
     use std::path::Path;
 
     #[test]
-    fn per_segment_storage_stays_small() {
-        // The plan keeps one base pose (7 f64 = 56 bytes) per waypoint and these keys per
-        // segment; a million-waypoint path must not carry a full segment (some 200 bytes) each.
-        // source: common practice (memory per waypoint bounded by the data layout)
-        assert!(std::mem::size_of::<SegmentKeys>() <= 16);
-        assert_eq!(std::mem::size_of::<Isometry3<f64>>(), 56);
+    fn plan_shares_the_job_waypoints_instead_of_copying_them() {
+        // The plan holds the job's waypoint vector itself (one shared allocation), so it adds
+        // nothing per waypoint. source: common practice (the project's memory budget of 100
+        // bytes per waypoint, which the job's records take up almost entirely)
+        let text =
+            "robot: a.urdf\nspeed: 20\nwaypoints:\n  - {xyz: [0, 0, 0], rpy: [180, 0, 0]}\n  \
+                    - {xyz: [300, 0, 0], rpy: [180, 0, 0]}\n";
+        let job = load_bytes(text.as_bytes(), Path::new("p.yaml"), &Overrides::default()).unwrap();
+        let plan = plan(&job, DEFAULT_MAX_SAMPLES).unwrap();
+        assert!(Arc::ptr_eq(&plan.waypoints, &job.waypoints));
+        assert_eq!(
+            plan.waypoint_base(1),
+            Some(job.base_T_work * job.waypoints[1].work_T_tcp)
+        );
+        assert_eq!(plan.waypoint_base(2), None);
     }
 
     #[test]
@@ -210,6 +234,6 @@ mod tests {
         assert_eq!(plan.estimated_samples, 1 + 150 + 90);
         assert!(plan.segment(2).is_none());
         assert_eq!(segs[1].index, 1);
-        assert_eq!(plan.segment(1).unwrap().end, plan.waypoints_base[2]);
+        assert_eq!(plan.segment(1).unwrap().end, plan.waypoint_base(2).unwrap());
     }
 }

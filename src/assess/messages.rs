@@ -46,10 +46,7 @@ fn range_text(robot: &Robot, k: usize) -> String {
 }
 
 fn wp_name(job: &Job, i: usize) -> String {
-    job.waypoints
-        .get(i)
-        .map(|w| w.name.clone())
-        .unwrap_or_default()
+    job.waypoint_name(i)
 }
 
 /// Build the finding for a closed run.

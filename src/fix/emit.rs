@@ -188,7 +188,7 @@ pub fn path_file(job: &Job, header: &[String]) -> String {
     for (i, w) in job.waypoints.iter().enumerate() {
         let mut line = format!(
             "  - {{name: {}, {}",
-            quoted(&w.name),
+            quoted(&job.waypoint_name(i)),
             pose_fields(job, &w.work_T_tcp)
         );
         if i > 0 {

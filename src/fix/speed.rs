@@ -130,8 +130,8 @@ pub fn proposals(job: &Job, plan: &Plan, robot: &Robot, sink: &RatioSink) -> Vec
             });
             SegmentSpeed {
                 segment: seg.index,
-                from: job.waypoints[seg.index].name.clone(),
-                to: job.waypoints[seg.index + 1].name.clone(),
+                from: job.waypoint_name(seg.index),
+                to: job.waypoint_name(seg.index + 1),
                 motion: seg.motion,
                 process: seg.process,
                 programmed: seg.speed,
@@ -185,7 +185,7 @@ pub fn apply(job: &mut Job, speeds: &[SegmentSpeed]) -> usize {
     for s in speeds {
         if let Some(v) = s.proposed {
             if (v - s.programmed).abs() > 1e-12 {
-                job.waypoints[s.segment + 1].speed = Some(v);
+                std::sync::Arc::make_mut(&mut job.waypoints)[s.segment + 1].speed = Some(v);
                 changed += 1;
             }
         }

@@ -143,7 +143,7 @@ pub fn search(job: &Job, robot: &Robot, options: &CheckOptions) -> Result<Option
     let step = GRID_STEP_DEG.to_radians();
     let spin_rate = job.tool.spin_rate.unwrap_or(f64::INFINITY);
     let mut samples = vec![Sample {
-        pose: pl.waypoints_base[0],
+        pose: pl.first_base(),
         dt: 0.0,
         segment: 0,
         u: 0.0,
@@ -384,16 +384,20 @@ fn amend(
     let turn = |s: f64| UnitQuaternion::from_axis_angle(&Vector3::z_axis(), s);
     let work_T_base = job.base_T_work.inverse();
     let mut out = job.clone();
-    out.waypoints.clear();
     if spin[0] != 0.0 {
         // The first pose turned: given start joints guide its solution only.
         if let Some(sj) = &mut out.start_joints {
             sj.seed = true;
         }
     }
+    let mut waypoints = Vec::with_capacity(job.waypoints.len());
+    // Every name is written out, generated ones too, so that a waypoint keeps its name when
+    // added waypoints shift its position.
+    let mut names = crate::job::NamesBuilder::new();
     let mut added = 0;
     let first = &job.waypoints[0];
-    out.waypoints.push(Waypoint {
+    names.push(Some(&job.waypoint_name(0)));
+    waypoints.push(Waypoint {
         work_T_tcp: first.work_T_tcp * turn(spin[0]),
         ..first.clone()
     });
@@ -418,25 +422,29 @@ fn amend(
         for (n, &i) in keep.iter().enumerate().skip(1) {
             let smp = &samples[i];
             if i == end {
-                out.waypoints.push(Waypoint {
+                names.push(Some(&job.waypoint_name(seg.index + 1)));
+                waypoints.push(Waypoint {
                     work_T_tcp: wp.work_T_tcp * turn(spin[i]),
                     ..wp.clone()
                 });
             } else {
                 debug_assert_eq!(smp.segment, seg.index);
                 added += 1;
-                out.waypoints.push(Waypoint {
-                    name: format!("{}_spin{}", wp.name, n),
+                let name = format!("{}_spin{}", job.waypoint_name(seg.index + 1), n);
+                names.push(Some(&name));
+                waypoints.push(Waypoint {
                     work_T_tcp: work_T_base * seg.pose_at(smp.u) * turn(spin[i]),
                     motion: Motion::Linear,
                     speed: wp.speed,
+                    line: wp.line,
                     process: wp.process,
-                    origin: format!("{} (added by fix)", wp.origin),
                 });
             }
         }
         start = end;
     }
+    out.waypoints = std::sync::Arc::new(waypoints);
+    out.names = names.finish();
     (out, added)
 }
 

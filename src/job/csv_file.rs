@@ -23,8 +23,8 @@
 //! incrementally, so time grows linearly with the number of rows.
 
 use super::units::{self, PoseError, RawOrientation, Units};
-use super::yaml::{check_file, read_file, LoadedWaypoint};
-use super::{InputWarning, Motion, Waypoint};
+use super::yaml::{check_file, read_file, Loaded};
+use super::{InputWarning, Motion, NamesBuilder, Waypoint};
 use crate::error::Error;
 use std::path::Path;
 
@@ -59,7 +59,7 @@ pub(super) fn read_waypoints(
     units: &Units,
     referenced_by: &str,
     warnings: &mut Vec<InputWarning>,
-) -> Result<Vec<LoadedWaypoint>, Error> {
+) -> Result<Loaded, Error> {
     check_file(path, "CSV waypoint file", referenced_by)?;
     // Read whole (at most MAX_FILE_BYTES): line numbers are counted from the bytes, because
     // the csv reader's own line count skips comment lines.
@@ -73,7 +73,7 @@ pub(super) fn parse_waypoints(
     path: &Path,
     units: &Units,
     warnings: &mut Vec<InputWarning>,
-) -> Result<Vec<LoadedWaypoint>, Error> {
+) -> Result<Loaded, Error> {
     let mut lines = LineCounter::new(bytes);
     let mut reader = csv::ReaderBuilder::new()
         // The header is read by hand so that its line number is known and checked like data.
@@ -106,14 +106,26 @@ pub(super) fn parse_waypoints(
     // One waypoint per line at most: reserving that many at once avoids the transient double
     // allocation of a growing vector, which on a long file is the peak of the whole check.
     let rows = bytes.iter().filter(|&&b| b == b'\n').count();
-    let mut out = Vec::with_capacity(rows + 1);
+    // Each row goes straight into its compact form: the pose record and, when the file has
+    // a name column, the name appended to one shared text.
+    let mut out = Loaded {
+        waypoints: Vec::with_capacity(rows + 1),
+        names: NamesBuilder::new(),
+        first_motion_given: false,
+    };
     while read(&mut reader, &mut record, path, &mut lines)? {
         let line = lines.line_of(&record);
-        let index = out.len();
-        out.push(parse_row(
+        let index = out.waypoints.len();
+        let (waypoint, name, motion_given) = parse_row(
             &record, &cols, line, index, units, path, &file_name, warnings,
-        )?);
+        )?;
+        if index == 0 {
+            out.first_motion_given = motion_given;
+        }
+        out.waypoints.push(waypoint);
+        out.names.push(name);
     }
+    out.waypoints.shrink_to_fit();
     Ok(out)
 }
 
@@ -379,9 +391,10 @@ fn parse_header(record: &csv::StringRecord, line: u64, path: &Path) -> Result<Co
     })
 }
 
+/// One row: the waypoint, its name (if the row gives one) and whether the row gives a motion.
 #[allow(clippy::too_many_arguments)]
-fn parse_row(
-    record: &csv::StringRecord,
+fn parse_row<'r>(
+    record: &'r csv::StringRecord,
     cols: &Columns,
     line: u64,
     index: usize,
@@ -389,7 +402,7 @@ fn parse_row(
     path: &Path,
     file_name: &str,
     warnings: &mut Vec<InputWarning>,
-) -> Result<LoadedWaypoint, Error> {
+) -> Result<(Waypoint, Option<&'r str>, bool), Error> {
     if record.len() != cols.count {
         return Err(Error::input(
             path,
@@ -460,11 +473,10 @@ fn parse_row(
         });
     }
 
-    let name = cols.name.map(field).filter(|s| !s.is_empty());
-    let name_given = name.is_some();
-    let name = name
-        .map(str::to_string)
-        .unwrap_or_else(|| format!("wp{}", index + 1));
+    let name = cols
+        .name
+        .and_then(|i| record.get(i))
+        .filter(|s| !s.is_empty());
 
     let speed = match cols.speed.filter(|&i| !field(i).is_empty()) {
         None => None,
@@ -510,19 +522,15 @@ fn parse_row(
         }
     };
 
-    Ok(LoadedWaypoint {
-        waypoint: Waypoint {
-            name,
-            work_T_tcp,
-            motion,
-            speed,
-            process,
-            origin: format!("{file_name} line {line}"),
-        },
-        location: format!("line {line}"),
-        name_given,
-        motion_given,
-    })
+    let waypoint = Waypoint {
+        work_T_tcp,
+        speed,
+        // Lines are at most the file's bytes (512 MiB), which fit a u32.
+        line: u32::try_from(line).unwrap_or(u32::MAX),
+        motion,
+        process,
+    };
+    Ok((waypoint, name, motion_given))
 }
 
 #[cfg(test)]
@@ -591,12 +599,12 @@ mod tests {
         assert_eq!(job.waypoints.len(), 3);
         let w = &job.waypoints;
         assert_eq!(
-            [w[0].name.as_str(), &w[1].name, &w[2].name],
+            [0, 1, 2].map(|i| job.waypoint_name(i)),
             ["approach", "bead_a", "bead_b"]
         );
         // Line 2 is a comment, so the first waypoint is on line 3.
-        assert_eq!(w[0].origin, "bracket_bead.csv line 3");
-        assert_eq!(w[2].origin, "bracket_bead.csv line 5");
+        assert_eq!(job.waypoint_origin(0), "bracket_bead.csv line 3");
+        assert_eq!(job.waypoint_origin(2), "bracket_bead.csv line 5");
         assert_eq!(w[0].motion, Motion::Joint);
         assert_eq!(w[1].motion, Motion::Linear);
         assert_eq!(w[2].speed, Some(0.008));
@@ -622,8 +630,8 @@ mod tests {
         assert_relative_eq!(job.speed, 0.025);
         assert_eq!(job.robot, PathBuf::from("cell/arm.urdf"));
         assert!(job.source.ends_with("seam.csv"));
-        assert_eq!(job.waypoints[0].name, "wp1");
-        assert_eq!(job.waypoints[1].name, "wp2");
+        assert_eq!(job.waypoint_name(0), "wp1");
+        assert_eq!(job.waypoint_name(1), "wp2");
         assert_relative_eq!(job.waypoints[1].work_T_tcp.translation.x, 0.1);
         // [0, 1, 0, 0] is the half turn about x, Rx(π).
         // source: Rodrigues' formula at θ = π (Lynch & Park 2017, eq. 3.51)
@@ -818,7 +826,7 @@ mod tests {
         let text = "\u{feff}Name , X, Y, Z, QW, QX, QY, QZ, Motion, Process\n\"seam, start\", 0, 0, 0, 2, 0, 0, 0, JOINT, TRUE\nend,1,0,0,1,0,0,0,linear,0\n";
         let (job, _dir) = load_csv(text, &overrides());
         let job = job.unwrap();
-        assert_eq!(job.waypoints[0].name, "seam, start");
+        assert_eq!(job.waypoint_name(0), "seam, start");
         assert_eq!(job.waypoints[0].motion, Motion::Joint);
         assert!(job.waypoints[0].process);
         assert!(!job.waypoints[1].process);
@@ -903,7 +911,7 @@ mod tests {
         let job = load(&p, &overrides()).unwrap();
         let took = start.elapsed();
         assert_eq!(job.waypoints.len(), 100_000);
-        assert_eq!(job.waypoints[99_999].origin, "long.csv line 100001");
+        assert_eq!(job.waypoint_origin(99_999), "long.csv line 100001");
         // Linear reading takes ~0.1 s with optimisation; a quadratic step (1e10 operations)
         // would take far longer than this generous bound for a shared machine.
         assert!(took < Duration::from_secs(3), "took {took:?}");

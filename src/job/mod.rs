@@ -4,11 +4,14 @@
 
 use nalgebra::Isometry3;
 use std::path::PathBuf;
+use std::sync::Arc;
 
 mod csv_file;
+mod names;
 mod units;
 mod yaml;
 
+pub use names::{NamesBuilder, WaypointNames};
 pub use units::{AngleUnit, LengthUnit, Units};
 pub use units::{
     ANGLE_STEP_RANGE_RAD, ANGULAR_SPEED_RANGE_RAD_S, MAX_ABS_ANGLE_RAD, MAX_ABS_LENGTH_M,
@@ -26,21 +29,22 @@ pub enum Motion {
     Joint,
 }
 
-/// One programmed pose.
-#[derive(Debug, Clone)]
+/// One programmed pose: 80 bytes, nothing on the heap. Its name lives in [`Job::names`]
+/// and its location text is made from `line` when a message needs it
+/// ([`Job::waypoint_origin`]).
+#[derive(Debug, Clone, PartialEq)]
 pub struct Waypoint {
-    /// Name from the file, or `wp<index>` (1-based) when none was given.
-    pub name: String,
     /// Pose of the TCP in the work frame.
     pub work_T_tcp: Isometry3<f64>,
-    /// Motion of the segment that ends at this waypoint (ignored on the first waypoint).
-    pub motion: Motion,
     /// TCP speed (m/s) of the segment ending here; `None` = the job's speed.
     pub speed: Option<f64>,
+    /// Line of the CSV file the waypoint was read from (1-based), or 0 for a waypoint of a
+    /// YAML `waypoints:` list (located by its index).
+    pub line: u32,
+    /// Motion of the segment that ends at this waypoint (ignored on the first waypoint).
+    pub motion: Motion,
     /// The segment ending here is a process segment (constant speed required).
     pub process: bool,
-    /// Where the waypoint came from, for messages: `waypoints[3]` or `seam.csv line 5`.
-    pub origin: String,
 }
 
 /// The tool mounted on the tip link.
@@ -190,7 +194,59 @@ pub struct Job {
     pub sampling: Sampling,
     /// The units the file was written in (for echoing values back to the user).
     pub units: Units,
-    /// At least two waypoints (a path needs a start and an end).
-    pub waypoints: Vec<Waypoint>,
+    /// At least two waypoints (a path needs a start and an end). Shared with the plan,
+    /// which reads the poses from here instead of keeping a copy; change them through
+    /// `Arc::make_mut`.
+    pub waypoints: Arc<Vec<Waypoint>>,
+    /// One name per waypoint (shared with the report).
+    pub names: WaypointNames,
     pub warnings: Vec<InputWarning>,
+}
+
+impl Job {
+    /// Name of waypoint `i` (given or `wp<i + 1>`), empty past the last.
+    pub fn waypoint_name(&self, i: usize) -> String {
+        self.names
+            .get(i)
+            .map(|n| n.into_owned())
+            .unwrap_or_default()
+    }
+
+    /// Where waypoint `i` came from, for messages: `seam.csv line 5` or `waypoints[3]`.
+    pub fn waypoint_origin(&self, i: usize) -> String {
+        origin(
+            &self.waypoints_file,
+            self.waypoints.get(i).map_or(0, |w| w.line),
+            i,
+        )
+    }
+}
+
+/// `file line N` for a CSV line (`line > 0`), else `waypoints[index]`.
+pub(crate) fn origin(file: &std::path::Path, line: u32, index: usize) -> String {
+    if line == 0 {
+        return format!("waypoints[{index}]");
+    }
+    let name = file
+        .file_name()
+        .map(|n| n.to_string_lossy().into_owned())
+        .unwrap_or_else(|| file.display().to_string());
+    format!("{name} line {line}")
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn waypoint_record_fits_the_memory_budget() {
+        // Budget per waypoint for the whole check: 100 bytes (source: common practice, the
+        // project's stated budget). The record takes the pose (7 f64 = 56 B), the speed
+        // (`Option<f64>`, 16 B), the line (4 B), motion and process (1 B each), padded to 80 B;
+        // unnamed waypoints store nothing else (the plan and report share these records and
+        // the name store), named ones add their name bytes and a 4 B offset.
+        assert_eq!(std::mem::size_of::<Isometry3<f64>>(), 56);
+        assert_eq!(std::mem::size_of::<Waypoint>(), 80);
+        assert!(std::mem::size_of::<Waypoint>() + std::mem::size_of::<u32>() <= 100);
+    }
 }

@@ -24,14 +24,14 @@ use super::csv_file;
 use super::units::{self, check_finite_array, fmt_list, fmt_num, AngleUnit, LengthUnit, PoseError};
 use super::units::{RawOrientation, Units};
 use super::{
-    ConfigRequest, InputWarning, Job, Limits, Motion, Sampling, StartJoints, Tool, Waypoint,
+    ConfigRequest, InputWarning, Job, Limits, Motion, NamesBuilder, Sampling, StartJoints, Tool,
+    Waypoint, WaypointNames,
 };
 use crate::error::Error;
 use crate::rotation;
 use nalgebra::Isometry3;
 use serde::de::{self, Deserializer, MapAccess, SeqAccess, Visitor};
 use serde::Deserialize;
-use std::collections::HashMap;
 use std::fmt;
 use std::path::{Path, PathBuf};
 
@@ -424,16 +424,23 @@ enum MotionSpec {
     Joint,
 }
 
-/// A waypoint as read from a file, with what later checks need for their messages.
-#[derive(Debug, Clone)]
-pub(super) struct LoadedWaypoint {
-    pub waypoint: Waypoint,
-    /// Location in the waypoint file for errors: `waypoints[2]` or `line 5`.
-    pub location: String,
-    /// False when the name is the generated `wp<n>`.
-    pub name_given: bool,
-    /// The file gave the motion (`motion:` key or a non-empty `motion` cell).
-    pub motion_given: bool,
+/// The waypoints as read from a file, in their compact form, with what later checks need
+/// for their messages.
+#[derive(Debug)]
+pub(super) struct Loaded {
+    pub waypoints: Vec<Waypoint>,
+    pub names: NamesBuilder,
+    /// The file gave the first waypoint's motion (`motion:` key or a non-empty `motion` cell).
+    pub first_motion_given: bool,
+}
+
+/// Location of waypoint `i` in its file for errors: `waypoints[2]` or `line 5`.
+fn location(w: &Waypoint, i: usize) -> String {
+    if w.line == 0 {
+        format!("waypoints[{i}]")
+    } else {
+        format!("line {}", w.line)
+    }
 }
 
 /// Checks that `path` names a readable regular file of at most [`MAX_FILE_BYTES`]. `what` names
@@ -532,7 +539,35 @@ pub fn load(path: &Path, overrides: &Overrides) -> Result<Job, Error> {
     };
     check_file(path, what, "")?;
     let bytes = read_file(path, what)?;
-    load_bytes(&bytes, path, overrides)
+    if !is_csv(path) {
+        return load_bytes(&bytes, path, overrides);
+    }
+    let override_units = overrides.units()?;
+    let mut warnings = Vec::new();
+    let loaded = csv_file::parse_waypoints(&bytes, path, &override_units, &mut warnings)?;
+    // The file's text is no longer needed: free it before the job is assembled, so that it
+    // does not add to the peak memory of a long path.
+    drop(bytes);
+    csv_job(path, overrides, override_units, loaded, warnings)
+}
+
+/// The job of a CSV waypoint file loaded directly, from its parsed waypoints.
+fn csv_job(
+    path: &Path,
+    overrides: &Overrides,
+    override_units: Units,
+    loaded: Loaded,
+    warnings: Vec<InputWarning>,
+) -> Result<Job, Error> {
+    build(
+        path,
+        PathFileSpec::default(),
+        override_units,
+        overrides,
+        override_units,
+        Source::Csv(loaded, path.to_path_buf()),
+        warnings,
+    )
 }
 
 /// True when `path` names a CSV waypoint file (extension `.csv`, any case).
@@ -549,16 +584,8 @@ pub fn load_bytes(bytes: &[u8], path: &Path, overrides: &Overrides) -> Result<Jo
     let override_units = overrides.units()?;
     if is_csv(path) {
         let mut warnings = Vec::new();
-        let waypoints = csv_file::parse_waypoints(bytes, path, &override_units, &mut warnings)?;
-        build(
-            path,
-            PathFileSpec::default(),
-            override_units,
-            overrides,
-            override_units,
-            Source::Csv(waypoints, path.to_path_buf()),
-            warnings,
-        )
+        let loaded = csv_file::parse_waypoints(bytes, path, &override_units, &mut warnings)?;
+        csv_job(path, overrides, override_units, loaded, warnings)
     } else {
         let spec = parse_yaml(bytes, path)?;
         let file_units = match &spec.units {
@@ -585,7 +612,7 @@ enum Source {
     /// From the path file's `waypoints:` (a list or a CSV file name).
     Yaml,
     /// A CSV file loaded directly (already read), and its path.
-    Csv(Vec<LoadedWaypoint>, PathBuf),
+    Csv(Loaded, PathBuf),
 }
 
 /// `line L column C` (both 1-based, the column counted in characters) of byte `offset` of
@@ -1316,8 +1343,12 @@ impl Ctx<'_> {
     }
 
     /// The waypoints of a `waypoints:` list.
-    fn list_waypoints(&mut self, list: Vec<WaypointSpec>) -> Result<Vec<LoadedWaypoint>, Error> {
-        let mut out = Vec::with_capacity(list.len());
+    fn list_waypoints(&mut self, list: Vec<WaypointSpec>) -> Result<Loaded, Error> {
+        let mut out = Loaded {
+            waypoints: Vec::with_capacity(list.len()),
+            names: NamesBuilder::new(),
+            first_motion_given: false,
+        };
         for (i, w) in list.into_iter().enumerate() {
             let field = format!("waypoints[{i}]");
             let work_T_tcp =
@@ -1342,21 +1373,19 @@ impl Ctx<'_> {
                     "is empty: give a name or remove the key",
                 ));
             }
-            out.push(LoadedWaypoint {
-                name_given: w.name.is_some(),
-                motion_given: w.motion.is_some(),
-                waypoint: Waypoint {
-                    name: w.name.unwrap_or_else(|| format!("wp{}", i + 1)),
-                    work_T_tcp,
-                    motion: match w.motion {
-                        Some(MotionSpec::Joint) => Motion::Joint,
-                        Some(MotionSpec::Linear) | None => Motion::Linear,
-                    },
-                    speed,
-                    process: w.process.unwrap_or(false),
-                    origin: field.clone(),
+            if i == 0 {
+                out.first_motion_given = w.motion.is_some();
+            }
+            out.names.push(w.name.as_deref());
+            out.waypoints.push(Waypoint {
+                work_T_tcp,
+                speed,
+                line: 0,
+                motion: match w.motion {
+                    Some(MotionSpec::Joint) => Motion::Joint,
+                    Some(MotionSpec::Linear) | None => Motion::Linear,
                 },
-                location: field,
+                process: w.process.unwrap_or(false),
             });
         }
         Ok(out)
@@ -1464,7 +1493,7 @@ fn build(
         },
     };
     let mut warnings = cx.warnings;
-    let waypoints = check_waypoints(
+    let (waypoints, names) = check_waypoints(
         loaded,
         &waypoint_file,
         orientation_speed,
@@ -1486,7 +1515,8 @@ fn build(
         limits,
         sampling,
         units: fu,
-        waypoints,
+        waypoints: std::sync::Arc::new(waypoints),
+        names,
         warnings,
     })
 }
@@ -1494,10 +1524,9 @@ fn build(
 /// The warning for segment keys on the first waypoint, which ends no segment: it names the
 /// keys actually given (`motion: joint`, `speed`, `process: true`), or `None` when there are
 /// none. `process: false` and an absent motion change nothing and are not mentioned.
-fn first_waypoint_warning(first: &LoadedWaypoint) -> Option<InputWarning> {
-    let w = &first.waypoint;
+fn first_waypoint_warning(w: &Waypoint, motion_given: bool, file: &Path) -> Option<InputWarning> {
     let mut keys = Vec::new();
-    if first.motion_given {
+    if motion_given {
         keys.push(match w.motion {
             Motion::Joint => "`motion: joint`",
             Motion::Linear => "`motion: linear`",
@@ -1517,13 +1546,13 @@ fn first_waypoint_warning(first: &LoadedWaypoint) -> Option<InputWarning> {
             "them",
         ),
     };
-    let joint_hint = if first.motion_given && w.motion == Motion::Joint {
+    let joint_hint = if motion_given && w.motion == Motion::Joint {
         "; to reach it by a joint move, put a start waypoint (a home pose, say) before it"
     } else {
         ""
     };
     Some(InputWarning {
-        location: w.origin.clone(),
+        location: super::origin(file, w.line, 0),
         message: format!(
             "{list} {verb} the segment ending at a waypoint, and the first waypoint ends none, \
              so armpath ignores {pronoun} there: remove {pronoun} or move {pronoun} to the \
@@ -1535,97 +1564,128 @@ fn first_waypoint_warning(first: &LoadedWaypoint) -> Option<InputWarning> {
 
 /// Checks across waypoints: count, unique names, repeated poses, turns in place.
 fn check_waypoints(
-    loaded: Vec<LoadedWaypoint>,
+    loaded: Loaded,
     file: &Path,
     orientation_speed: Option<f64>,
     units: &Units,
     warnings: &mut Vec<InputWarning>,
-) -> Result<Vec<Waypoint>, Error> {
-    if loaded.len() < 2 {
+) -> Result<(Vec<Waypoint>, WaypointNames), Error> {
+    let Loaded {
+        waypoints,
+        names,
+        first_motion_given,
+    } = loaded;
+    let names = names.finish();
+    if waypoints.len() < 2 {
         return Err(Error::input(
             file,
             "waypoints",
             format!(
                 "has {} waypoint{}: a path needs at least two (a start and an end)",
-                loaded.len(),
-                if loaded.len() == 1 { "" } else { "s" }
+                waypoints.len(),
+                if waypoints.len() == 1 { "" } else { "s" }
             ),
         ));
     }
-    // Generated names (`wp<n>`, n the 1-based position) are unique among themselves, so only
-    // given names go into the map, with the generated names they could collide with; a path
-    // without names builds no map at all.
-    let given = loaded.iter().filter(|l| l.name_given).count();
-    let mut names: HashMap<&str, usize> = HashMap::with_capacity(2 * given);
-    for (i, l) in loaded.iter().enumerate().filter(|(_, l)| l.name_given) {
-        // The unnamed waypoint whose generated name this given name spells, if any.
-        let clash = l.waypoint.name.strip_prefix("wp").and_then(|digits| {
-            let n = digits.parse::<usize>().ok()?;
-            let j = n.checked_sub(1)?;
-            let generated = n.to_string() == digits && loaded.get(j).is_some_and(|o| !o.name_given);
-            (generated && j != i).then_some(j)
-        });
-        let first = names.insert(l.waypoint.name.as_str(), i).or(clash);
-        if let Some(first) = first {
-            let (first, second) = (first.min(i), first.max(i));
-            let describe = |l: &LoadedWaypoint| {
-                if l.name_given {
-                    l.location.clone()
-                } else {
-                    format!("{} (which has no name, so it got the default)", l.location)
-                }
-            };
-            let l = &loaded[second];
-            return Err(Error::input(
-                file,
-                l.location.clone(),
-                format!(
-                    "the name `{}` is also the name of {} and {}: give each waypoint its own \
-                     name",
-                    l.waypoint.name,
-                    describe(&loaded[first]),
-                    describe(l)
-                ),
-            ));
-        }
-    }
-    if let Some(w) = first_waypoint_warning(&loaded[0]) {
+    check_unique_names(&waypoints, &names, file)?;
+    if let Some(w) = first_waypoint_warning(&waypoints[0], first_motion_given, file) {
         warnings.push(w);
     }
-    for (i, pair) in loaded.windows(2).enumerate() {
-        let (a, b) = (&pair[0].waypoint, &pair[1].waypoint);
+    for (i, pair) in waypoints.windows(2).enumerate() {
+        let (a, b) = (&pair[0], &pair[1]);
         let distance = (b.work_T_tcp.translation.vector - a.work_T_tcp.translation.vector).norm();
         if distance >= SAME_POSITION {
             continue;
         }
+        let (a_name, b_name) = (
+            names.get(i).unwrap_or_default(),
+            names.get(i + 1).unwrap_or_default(),
+        );
         let angle = rotation::angle_between(&a.work_T_tcp.rotation, &b.work_T_tcp.rotation);
         if angle < SAME_ORIENTATION {
             warnings.push(InputWarning {
-                location: b.origin.clone(),
+                location: super::origin(file, b.line, i + 1),
                 message: format!(
-                    "`{}` repeats the pose of `{}` (the segment between them is empty): \
-                     remove one of them",
-                    b.name, a.name
+                    "`{b_name}` repeats the pose of `{a_name}` (the segment between them is \
+                     empty): remove one of them"
                 ),
                 waypoint: Some(i + 1),
             });
         } else if b.motion == Motion::Linear && orientation_speed.is_none() {
             return Err(Error::input(
                 file,
-                pair[1].location.clone(),
+                location(b, i + 1),
                 format!(
-                    "the linear segment from `{}` to `{}` turns the tool by {} {} without \
-                     moving the TCP, so the TCP speed gives it no duration: set \
+                    "the linear segment from `{a_name}` to `{b_name}` turns the tool by {} {} \
+                     without moving the TCP, so the TCP speed gives it no duration: set \
                      orientation_speed or move the TCP (or use motion: joint)",
-                    a.name,
-                    b.name,
                     fmt_num(angle / units.angle_to_rad()),
                     units.angle.name()
                 ),
             ));
         }
     }
-    Ok(loaded.into_iter().map(|l| l.waypoint).collect())
+    Ok((waypoints, names))
+}
+
+/// Refuses two waypoints of the same name. Generated names (`wp<n>`, n the 1-based position)
+/// are unique among themselves, so only a given name can clash: with another given name, or
+/// with the generated name of an unnamed waypoint. The pair reported is the one completed
+/// first in path order. Given names are compared by sorting their indices (4 bytes each), so
+/// a path of a million named waypoints needs no hash map; a path without names needs nothing.
+fn check_unique_names(
+    waypoints: &[Waypoint],
+    names: &WaypointNames,
+    file: &Path,
+) -> Result<(), Error> {
+    let given = |i: usize| names.given(i);
+    let mut order: Vec<u32> = (0..names.len())
+        .filter(|&i| given(i).is_some())
+        .filter_map(|i| u32::try_from(i).ok())
+        .collect();
+    if order.is_empty() {
+        return Ok(());
+    }
+    order.sort_unstable_by(|&a, &b| given(a as usize).cmp(&given(b as usize)).then(a.cmp(&b)));
+    // The earliest waypoint whose name an earlier given name already has, with that one.
+    let repeat = order
+        .windows(2)
+        .filter(|p| given(p[0] as usize) == given(p[1] as usize))
+        .map(|p| (p[1] as usize, p[0] as usize))
+        .min();
+    drop(order);
+    // The unnamed waypoint whose generated name the given name of `i` spells, if any.
+    let clash = |i: usize| {
+        let digits = given(i)?.strip_prefix("wp")?;
+        let n = digits.parse::<usize>().ok()?;
+        let j = n.checked_sub(1)?;
+        let generated = n.to_string() == digits && j < names.len() && given(j).is_none();
+        (generated && j != i).then_some(j)
+    };
+    let limit = repeat.map_or(names.len(), |(i, _)| i);
+    let pair = (0..limit).find_map(|i| clash(i).map(|j| (i, j))).or(repeat);
+    let Some((i, other)) = pair else {
+        return Ok(());
+    };
+    let (first, second) = (other.min(i), other.max(i));
+    let describe = |k: usize| {
+        let l = location(&waypoints[k], k);
+        if given(k).is_some() {
+            l
+        } else {
+            format!("{l} (which has no name, so it got the default)")
+        }
+    };
+    Err(Error::input(
+        file,
+        location(&waypoints[second], second),
+        format!(
+            "the name `{}` is also the name of {} and {}: give each waypoint its own name",
+            names.get(second).unwrap_or_default(),
+            describe(first),
+            describe(second)
+        ),
+    ))
 }
 
 #[cfg(test)]
@@ -1753,7 +1813,7 @@ mod tests {
         assert_relative_eq!(job.sampling.step, 0.002);
         assert_relative_eq!(job.sampling.angle_step, deg);
 
-        let names: Vec<&str> = job.waypoints.iter().map(|w| w.name.as_str()).collect();
+        let names: Vec<String> = job.names.iter().map(|n| n.into_owned()).collect();
         assert_eq!(names, ["approach", "bead_a", "bead_b", "wp4"]);
         let motions: Vec<Motion> = job.waypoints.iter().map(|w| w.motion).collect();
         assert_eq!(
@@ -1767,7 +1827,7 @@ mod tests {
         );
         assert_eq!(job.waypoints[2].speed, Some(0.008));
         assert!(job.waypoints[2].process && !job.waypoints[1].process);
-        assert_eq!(job.waypoints[2].origin, "waypoints[2]");
+        assert_eq!(job.waypoint_origin(2), "waypoints[2]");
         assert_relative_eq!(
             job.waypoints[2].work_T_tcp.translation.vector,
             Vector3::new(0.4, 0.0, 0.0)
@@ -1896,8 +1956,8 @@ mod tests {
         assert!(job.orientation_speed.is_none());
         assert_eq!(job.config, ConfigRequest::default());
         assert_eq!(job.units, Units::default());
-        assert_eq!(job.waypoints[0].name, "wp1");
-        assert_eq!(job.waypoints[1].name, "wp2");
+        assert_eq!(job.waypoint_name(0), "wp1");
+        assert_eq!(job.waypoint_name(1), "wp2");
         assert_eq!(job.waypoints[1].motion, Motion::Linear);
         assert!(job.warnings.is_empty());
     }
@@ -2508,9 +2568,9 @@ mod tests {
             "{HEAD}# {many}\nwaypoints:\n  - name: a{many}\n    xyz: [0, 0, 0]\n    rpy: [0, 0, 0]\n  - {{name: 'it''s {many}', xyz: [1, 0, 0], rpy: [0, 0, 0]}}\n  - {{name: \"\\\"{many}\", xyz: [2, 0, 0], rpy: [0, 0, 0]}}\n"
         ))
         .unwrap();
-        assert_eq!(job.waypoints[0].name, format!("a{many}"));
-        assert_eq!(job.waypoints[1].name, format!("it's {many}"));
-        assert_eq!(job.waypoints[2].name, format!("\"{many}"));
+        assert_eq!(job.waypoint_name(0), format!("a{many}"));
+        assert_eq!(job.waypoint_name(1), format!("it's {many}"));
+        assert_eq!(job.waypoint_name(2), format!("\"{many}"));
         // 64 levels pass the pre-scan and reach the reader, which reports the wrong shape.
         let deep64 = format!("{}{}", "[".repeat(63), "]".repeat(63));
         let (_, msg) = input_err(load_text(&format!("{HEAD}waypoints: [{deep64}]\n")));

@@ -164,7 +164,7 @@ pub struct SegmentReport {
 #[derive(Debug, Clone, Serialize)]
 pub struct PathReport {
     pub file: String,
-    pub waypoints: Vec<String>,
+    pub waypoints: crate::job::WaypointNames,
     pub segments: usize,
     pub speed_mm_s: f64,
     /// Programmed reorientation speed, if set.
@@ -335,7 +335,7 @@ impl Report {
             robot: RobotReport::new(r.robot),
             path: PathReport {
                 file: r.job.source.display().to_string(),
-                waypoints: r.job.waypoints.iter().map(|w| w.name.clone()).collect(),
+                waypoints: r.job.names.clone(),
                 segments: r.plan.segment_count(),
                 speed_mm_s: r.job.speed * 1e3,
                 orientation_speed_deg_s: r.job.orientation_speed.map(f64::to_degrees),
@@ -356,13 +356,7 @@ impl Report {
                     .segments()
                     .take(SEGMENT_TABLE_ROWS)
                     .map(|g| {
-                        let name = |i: usize| {
-                            r.job
-                                .waypoints
-                                .get(i)
-                                .map(|w| w.name.clone())
-                                .unwrap_or_default()
-                        };
+                        let name = |i: usize| r.job.waypoint_name(i);
                         SegmentReport {
                             index: g.index,
                             from: name(g.index),

@@ -103,7 +103,7 @@ impl<'a> Walker<'a> {
         self.follower.begin(start, self.light);
         sink.begin(self.robot, self.plan.estimated_samples);
         // The first sample: waypoint 0.
-        let first_target = self.plan.waypoints_base[0];
+        let first_target = self.plan.first_base();
         let reach = if start.method == StartMethod::Unreachable {
             Reach::Unreachable
         } else {

@@ -156,7 +156,7 @@ impl<'a> AxisData<'a> {
             .waypoints()
             .iter()
             .map(|w| {
-                let name = report.path.waypoints.get(w.index).cloned();
+                let name = report.path.waypoints.get(w.index).map(|n| n.into_owned());
                 let x = match axis {
                     Axis::Distance => w.s * 1e3,
                     Axis::Time => w.t,
@@ -469,7 +469,7 @@ fn views(
                         .path
                         .waypoints
                         .get(w.index)
-                        .cloned()
+                        .map(|n| n.into_owned())
                         .unwrap_or_default(),
                 )
             })

@@ -481,7 +481,7 @@ fn settings(o: &mut String, report: &Report, data: &PlotData) {
         .waypoints
         .iter()
         .take(MAX_WAYPOINT_NAMES)
-        .map(|w| escape(w))
+        .map(|w| escape(&w))
         .collect();
     if p.waypoints.len() > MAX_WAYPOINT_NAMES {
         wp.push(format!("… ({} in all)", p.waypoints.len()));
