@@ -8,17 +8,7 @@ use assert_cmd::Command;
 use common::repo;
 use std::time::Duration;
 
-/// The text of robots/arm6.urdf.
-fn arm6() -> String {
-    std::fs::read_to_string(repo("robots/arm6.urdf")).unwrap()
-}
-
-/// arm6 with the first `from` replaced by `to` (the edit must apply).
-fn arm6_with(from: &str, to: &str) -> String {
-    let a = arm6();
-    assert!(a.contains(from), "arm6.urdf has no `{from}`");
-    a.replacen(from, to, 1)
-}
+use common::{arm6_text as arm6, arm6_text_with as arm6_with};
 
 /// arm6 with extra elements on a line of their own before `</robot>`.
 fn arm6_plus(extra: &str) -> String {

@@ -13,6 +13,18 @@ pub fn arm6() -> String {
     repo("robots/arm6.urdf").display().to_string()
 }
 
+/// The text of robots/arm6.urdf.
+pub fn arm6_text() -> String {
+    std::fs::read_to_string(repo("robots/arm6.urdf")).unwrap()
+}
+
+/// The text of robots/arm6.urdf with the first `from` replaced by `to` (the edit must apply).
+pub fn arm6_text_with(from: &str, to: &str) -> String {
+    let a = arm6_text();
+    assert!(a.contains(from), "arm6.urdf has no `{from}`");
+    a.replacen(from, to, 1)
+}
+
 /// Write `yaml` as `path.yaml` in a fresh temporary folder; returns the folder and the file.
 pub fn path_file(yaml: &str) -> (tempfile::TempDir, PathBuf) {
     let dir = tempfile::tempdir().unwrap();
