@@ -161,10 +161,12 @@ impl PoseReport {
     pub fn of(pose: &Isometry3<f64>) -> Self {
         let t = pose.translation.vector * 1e3;
         let (r, p, y) = rotation::to_rpy(&pose.rotation);
+        // `+ 0.0` turns −0.0 into 0.0, so that no report shows a signed zero.
+        let q = rotation::quat_to_wxyz(&pose.rotation);
         PoseReport {
-            xyz_mm: [t.x, t.y, t.z],
-            quat_wxyz: rotation::quat_to_wxyz(&pose.rotation),
-            rpy_deg: [r.to_degrees(), p.to_degrees(), y.to_degrees()],
+            xyz_mm: [t.x + 0.0, t.y + 0.0, t.z + 0.0],
+            quat_wxyz: q.map(|v| v + 0.0),
+            rpy_deg: [r.to_degrees(), p.to_degrees(), y.to_degrees()].map(|v| v + 0.0),
         }
     }
 
