@@ -143,9 +143,12 @@ pub struct Assessor<'a> {
     findings: Vec<Finding>,
     extremes: Extremes,
     segment: usize,
-    /// Index of the first sample standing at each waypoint (sized once, in `new`): where the
-    /// input findings of a segment sit in path order.
-    waypoint_sample: Vec<Option<usize>>,
+    /// The job's and the plan's input findings, made once in `new`.
+    inputs: Vec<Finding>,
+    /// For each waypoint that starts a segment with an input finding (sorted, made in `new`):
+    /// the index of the first sample standing at it, where that finding sits in path order.
+    /// Only those waypoints are kept, so memory follows the findings, not the path length.
+    waypoint_sample: Vec<(usize, Option<usize>)>,
 }
 
 impl<'a> Assessor<'a> {
@@ -158,8 +161,24 @@ impl<'a> Assessor<'a> {
             findings: Vec::new(),
             extremes: Extremes::default(),
             segment: 0,
-            waypoint_sample: vec![None; job.waypoints.len()],
+            inputs: Vec::new(),
+            waypoint_sample: Vec::new(),
         }
+        .with_inputs()
+    }
+
+    fn with_inputs(mut self) -> Self {
+        self.inputs = messages::input_findings(self.job, self.plan);
+        let mut wanted: Vec<usize> = self
+            .inputs
+            .iter()
+            .filter(|f| f.samples.is_none())
+            .filter_map(|f| f.segment)
+            .collect();
+        wanted.sort_unstable();
+        wanted.dedup();
+        self.waypoint_sample = wanted.into_iter().map(|w| (w, None)).collect();
+        self
     }
 
     fn raise(&mut self, rec: &SampleRecord, f: Flag) {
@@ -229,14 +248,20 @@ impl<'a> Assessor<'a> {
         for run in std::mem::take(&mut self.open) {
             self.close(robot, run);
         }
-        let mut findings = messages::input_findings(self.job, self.plan);
+        let mut findings = std::mem::take(&mut self.inputs);
         findings.append(&mut self.findings);
         let starts = &self.waypoint_sample;
+        let start_of = |k: usize| {
+            starts
+                .binary_search_by_key(&k, |e| e.0)
+                .ok()
+                .and_then(|i| starts[i].1)
+        };
         findings.sort_by_cached_key(|f| {
             let first = f
                 .samples
                 .map(|s| s[0])
-                .or_else(|| f.segment.and_then(|k| starts.get(k).copied().flatten()))
+                .or_else(|| f.segment.and_then(start_of))
                 .unwrap_or(0);
             (first, f.segment, f.kind, f.joint.clone())
         });
@@ -246,14 +271,19 @@ impl<'a> Assessor<'a> {
 
 impl SampleSink for Assessor<'_> {
     fn sample(&mut self, robot: &Robot, rec: &SampleRecord) {
-        if let Some(slot) = rec.waypoint.and_then(|w| self.waypoint_sample.get_mut(w)) {
-            slot.get_or_insert(rec.index);
+        if let Some(w) = rec.waypoint {
+            if let Ok(i) = self.waypoint_sample.binary_search_by_key(&w, |e| e.0) {
+                self.waypoint_sample[i].1.get_or_insert(rec.index);
+            }
         }
         if rec.segment != self.segment {
-            // Runs never cross a segment boundary: each finding names one segment.
-            for run in std::mem::take(&mut self.open) {
+            // Runs never cross a segment boundary: each finding names one segment. The run
+            // list keeps its capacity, so segment changes allocate nothing.
+            let mut runs = std::mem::take(&mut self.open);
+            for run in runs.drain(..) {
                 self.close(robot, run);
             }
+            self.open = runs;
             self.segment = rec.segment;
         }
         if rec.reach == Reach::Unreachable {
