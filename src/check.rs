@@ -10,9 +10,7 @@ use crate::job::{ConfigRequest, Job, StartJoints};
 use crate::plan::{plan, DEFAULT_MAX_SAMPLES};
 use crate::report::{Report, ReportInputs};
 use crate::robot::{Robot, SingularityModel};
-use crate::solve::{
-    choose_start, config_matches, residual, SampleRecord, SampleSink, StartSolver, Walker,
-};
+use crate::solve::{choose_start, residual, SampleRecord, SampleSink, StartSolver, Walker};
 
 /// Settings of a check beyond the job.
 #[derive(Debug, Clone, Copy)]
@@ -235,30 +233,14 @@ fn check_start_joints(
         }
     }
     if let Some(c) = solver.and_then(|s| s.config_of(q)) {
-        if !config_matches(&job.config, c) {
+        if !job.config.admits(c) {
             return refuse(format!(
                 "are in configuration {c} but `config:` asks for {}: drop `config:`, or give joints in that configuration",
-                describe(&job.config)
+                job.config
             ));
         }
     }
     Ok(())
-}
-
-/// The requested parts of a `config:` request, e.g. `elbow down, wrist flip`.
-fn describe(request: &ConfigRequest) -> String {
-    let side = |v: Option<bool>, name: &str, yes: &str, no: &str| {
-        v.map(|b| format!("{name} {}", if b { yes } else { no }))
-    };
-    [
-        side(request.shoulder_front, "shoulder", "front", "back"),
-        side(request.elbow_up, "elbow", "up", "down"),
-        side(request.wrist_flip, "wrist", "flip", "noflip"),
-    ]
-    .into_iter()
-    .flatten()
-    .collect::<Vec<_>>()
-    .join(", ")
 }
 
 /// With `units: m`, a hint when most waypoints lie outside the arm's reach sphere

@@ -153,14 +153,14 @@ pub fn path_file(job: &Job, header: &[String]) -> String {
     }
     let c = &job.config;
     let mut parts = Vec::new();
-    if let Some(f) = c.shoulder_front {
-        parts.push(format!("shoulder: {}", if f { "front" } else { "back" }));
+    if let Some(v) = c.shoulder {
+        parts.push(format!("shoulder: {v}"));
     }
-    if let Some(u) = c.elbow_up {
-        parts.push(format!("elbow: {}", if u { "up" } else { "down" }));
+    if let Some(v) = c.elbow {
+        parts.push(format!("elbow: {v}"));
     }
-    if let Some(f) = c.wrist_flip {
-        parts.push(format!("wrist: {}", if f { "flip" } else { "noflip" }));
+    if let Some(v) = c.wrist {
+        parts.push(format!("wrist: {v}"));
     }
     if !parts.is_empty() {
         let _ = writeln!(out, "config: {{{}}}", parts.join(", "));

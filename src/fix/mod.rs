@@ -207,7 +207,9 @@ pub fn fix(job: &Job, out: &Path, options: &CheckOptions) -> Result<FixReport> {
     if !spun {
         if let Some(first) = running.first() {
             if used.as_ref().is_none_or(|u| !running.contains(u)) {
-                set_config(&mut amended, first);
+                if let Ok(c) = first.parse() {
+                    set_config(&mut amended, c);
+                }
                 changes.push(format!(
                     "arm configuration {first} (runs the whole path{})",
                     used.as_ref()
@@ -301,14 +303,9 @@ fn margin(s: &Summary) -> f64 {
     )
 }
 
-/// Ask for configuration `config` (`front/up/noflip`) in the amended job. `start_joints`
-/// would override it, so they are dropped.
-pub(crate) fn set_config(job: &mut Job, config: &str) {
-    let parts: Vec<&str> = config.split('/').collect();
-    if parts.len() == 3 {
-        job.config.shoulder_front = Some(parts[0] == "front");
-        job.config.elbow_up = Some(parts[1] == "up");
-        job.config.wrist_flip = Some(parts[2] == "flip");
-        job.start_joints = None;
-    }
+/// Ask for configuration `config` in the amended job. `start_joints` would override it, so
+/// they are dropped.
+pub(crate) fn set_config(job: &mut Job, config: crate::ik::analytic::Config) {
+    job.config = crate::job::ConfigRequest::exactly(config);
+    job.start_joints = None;
 }

@@ -350,7 +350,7 @@ pub fn search(job: &Job, robot: &Robot, options: &CheckOptions) -> Result<Option
         .collect();
     let changed = spin_of.iter().any(|s| s.abs() > 1e-12);
     let mut amended = amended;
-    super::set_config(&mut amended, &config.to_string());
+    super::set_config(&mut amended, config);
     Ok(Some(SpinFound {
         job: amended,
         changed,

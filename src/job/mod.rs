@@ -2,6 +2,7 @@
 //! types. Built once from a path file (YAML or CSV) plus command-line overrides; nothing
 //! downstream re-validates or sees mm, degrees or file syntax.
 
+use crate::ik::analytic::{Config, Elbow, Shoulder, Wrist};
 use nalgebra::Isometry3;
 use std::path::PathBuf;
 use std::sync::Arc;
@@ -85,12 +86,43 @@ pub struct Sampling {
 /// Requested arm configuration for the first pose (analytic solvers), each `None` = free.
 #[derive(Debug, Clone, Copy, Default, PartialEq, Eq)]
 pub struct ConfigRequest {
-    /// `Some(true)` = shoulder front, `Some(false)` = back.
-    pub shoulder_front: Option<bool>,
-    /// `Some(true)` = elbow up, `Some(false)` = down.
-    pub elbow_up: Option<bool>,
-    /// `Some(true)` = wrist flip, `Some(false)` = noflip.
-    pub wrist_flip: Option<bool>,
+    /// Shoulder side asked for; `None` leaves it to armpath.
+    pub shoulder: Option<Shoulder>,
+    /// Elbow side asked for; `None` leaves it to armpath.
+    pub elbow: Option<Elbow>,
+    /// Wrist sense asked for; `None` leaves it to armpath.
+    pub wrist: Option<Wrist>,
+}
+
+impl ConfigRequest {
+    /// A request for exactly configuration `c`.
+    pub fn exactly(c: Config) -> Self {
+        ConfigRequest {
+            shoulder: Some(c.shoulder),
+            elbow: Some(c.elbow),
+            wrist: Some(c.wrist),
+        }
+    }
+
+    /// Does configuration `c` satisfy the request?
+    pub fn admits(&self, c: Config) -> bool {
+        self.shoulder.is_none_or(|s| s == c.shoulder)
+            && self.elbow.is_none_or(|e| e == c.elbow)
+            && self.wrist.is_none_or(|w| w == c.wrist)
+    }
+}
+
+impl std::fmt::Display for ConfigRequest {
+    /// The requested parts, e.g. `elbow down, wrist flip` (empty when nothing is asked).
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        let parts = [
+            self.shoulder.map(|s| format!("shoulder {s}")),
+            self.elbow.map(|e| format!("elbow {e}")),
+            self.wrist.map(|w| format!("wrist {w}")),
+        ];
+        let parts: Vec<String> = parts.into_iter().flatten().collect();
+        f.write_str(&parts.join(", "))
+    }
 }
 
 /// Joint values given by the user, kept in file units until the robot says which joints are

@@ -28,6 +28,7 @@ use super::{
     Waypoint, WaypointNames,
 };
 use crate::error::Error;
+use crate::ik::analytic::{Elbow, Shoulder, Wrist};
 use crate::rotation;
 use nalgebra::Isometry3;
 use serde::de::{self, Deserializer, MapAccess, SeqAccess, Visitor};
@@ -250,27 +251,6 @@ struct ConfigSpec {
     elbow: Option<Elbow>,
     /// `wrist: flip|noflip`.
     wrist: Option<Wrist>,
-}
-
-#[derive(Debug, Clone, Copy, Deserialize)]
-#[serde(rename_all = "lowercase")]
-enum Shoulder {
-    Front,
-    Back,
-}
-
-#[derive(Debug, Clone, Copy, Deserialize)]
-#[serde(rename_all = "lowercase")]
-enum Elbow {
-    Up,
-    Down,
-}
-
-#[derive(Debug, Clone, Copy, Deserialize)]
-#[serde(rename_all = "lowercase")]
-enum Wrist {
-    Flip,
-    Noflip,
 }
 
 /// `limits:` keys, each optional.
@@ -1464,9 +1444,9 @@ fn build(
         .config
         .as_ref()
         .map(|c| ConfigRequest {
-            shoulder_front: c.shoulder.map(|s| matches!(s, Shoulder::Front)),
-            elbow_up: c.elbow.map(|e| matches!(e, Elbow::Up)),
-            wrist_flip: c.wrist.map(|w| matches!(w, Wrist::Flip)),
+            shoulder: c.shoulder,
+            elbow: c.elbow,
+            wrist: c.wrist,
         })
         .unwrap_or_default();
 
@@ -1799,9 +1779,9 @@ mod tests {
         assert_eq!(
             job.config,
             ConfigRequest {
-                shoulder_front: Some(true),
-                elbow_up: Some(true),
-                wrist_flip: Some(false)
+                shoulder: Some(Shoulder::Front),
+                elbow: Some(Elbow::Up),
+                wrist: Some(Wrist::NoFlip)
             }
         );
         assert_relative_eq!(job.speed, 0.02);

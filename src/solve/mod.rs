@@ -24,8 +24,8 @@ mod walk;
 
 pub use record::{Jump, Reach, SampleRecord, SampleSink, WalkTotals};
 pub use start::{
-    best_in_config, choose_start, config_matches, limit_ratio, margin, pose_margin, StartChoice,
-    StartMethod, StartSolver, WELL_CONDITIONED_MEASURE,
+    best_in_config, choose_start, limit_ratio, margin, pose_margin, StartChoice, StartMethod,
+    StartSolver, WELL_CONDITIONED_MEASURE,
 };
 pub use walk::Walker;
 

@@ -3,7 +3,7 @@
 
 use super::RESTARTS;
 use crate::configs::ConfigRow;
-use crate::ik::analytic::{Config, Elbow, OrthoParallel, Shoulder, Wrist};
+use crate::ik::analytic::{Config, OrthoParallel};
 use crate::ik::{IkOptions, NumericIk};
 use crate::job::ConfigRequest;
 use crate::robot::{Jacobian, Robot, SingularityModel, MAX_DOF};
@@ -241,7 +241,7 @@ fn closed_start(
     let mut alternatives = 0;
     for row in table {
         let Some(config) = row.parsed else { continue };
-        if !config_matches(request, config) {
+        if !request.admits(config) {
             continue;
         }
         let Some(joints) = best_in_config(robot, model, solver, base_T_start, config) else {
@@ -289,17 +289,6 @@ pub fn best_in_config(
         .map(|s| (pose_margin(robot, model, &s.joints), s.joints))
         .max_by(|a, b| a.0.total_cmp(&b.0))
         .map(|(_, q)| q)
-}
-
-/// Does configuration `c` satisfy the path file's `config:` request?
-pub fn config_matches(request: &ConfigRequest, c: Config) -> bool {
-    request
-        .shoulder_front
-        .is_none_or(|f| f == (c.shoulder == Shoulder::Front))
-        && request.elbow_up.is_none_or(|u| u == (c.elbow == Elbow::Up))
-        && request
-            .wrist_flip
-            .is_none_or(|f| f == (c.wrist == Wrist::Flip))
 }
 
 #[cfg(test)]
