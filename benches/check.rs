@@ -7,6 +7,7 @@
 use armpath::check::{check, CheckOptions};
 use armpath::job::{self, Overrides};
 use armpath::plan::plan;
+use armpath::report::Report;
 use armpath::robot::load_urdf;
 use criterion::{criterion_group, criterion_main, Criterion};
 use k::InverseKinematicsSolver;
@@ -52,19 +53,13 @@ fn bench(c: &mut Criterion) {
     assert!(targets.len() >= 30_000);
 
     let options = CheckOptions::default();
-    let report = check(&job, &robot, &options, &mut []).unwrap();
+    let outcome = check(&job, &robot, &options, &mut []).unwrap();
     eprintln!(
         "check: verdict {}, {} samples",
-        report.summary.verdict.name(),
-        report.summary.samples
+        outcome.verdict().name(),
+        outcome.totals.samples
     );
-    let start: Vec<f64> = report
-        .path
-        .start
-        .joints
-        .iter()
-        .map(|d| d.to_radians())
-        .collect();
+    let start: Vec<f64> = outcome.start.joints.clone();
 
     // k: the same TCP (flange × tool), warm-started, same tolerances.
     let kchain = k::Chain::<f64>::from_urdf_file(format!("{root}/robots/arm6.urdf")).unwrap();
@@ -83,7 +78,10 @@ fn bench(c: &mut Criterion) {
     g.sample_size(10);
     g.measurement_time(Duration::from_secs(20));
     g.bench_function("armpath check (all findings)", |b| {
-        b.iter(|| black_box(check(&job, &robot, &options, &mut []).unwrap()))
+        b.iter(|| {
+            let outcome = check(&job, &robot, &options, &mut []).unwrap();
+            black_box(Report::from_outcome(&outcome).unwrap())
+        })
     });
     g.bench_function("k IK loop (IK only)", |b| {
         b.iter(|| {

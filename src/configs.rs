@@ -1,7 +1,8 @@
 //! Which arm configurations run the whole path: for arms with a closed-form solver, the path
 //! is walked once per configuration (a quick walk without the singularity measure) and the
-//! first error that would stop it is recorded.
+//! first error that would stop it is recorded. Values are SI; the report converts them.
 
+use crate::assess::Kind;
 use crate::ik::analytic::{Config, OrthoParallel};
 use crate::ik::IkOptions;
 use crate::job::Job;
@@ -10,56 +11,23 @@ use crate::robot::{Robot, SingularityModel};
 use crate::solve::{
     best_in_config, Reach, SampleRecord, SampleSink, StartChoice, StartMethod, Walker,
 };
-use serde::Serialize;
 
-/// What stops a configuration first.
-#[derive(Debug, Clone, Serialize)]
-pub struct FirstFailure {
-    /// `unreachable`, `joint_limit` or `joint_jump`.
-    pub kind: &'static str,
+/// The first error that would stop a configuration's walk.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct FirstStop {
+    /// [`Kind::Unreachable`], [`Kind::JointLimit`] or [`Kind::JointJump`].
+    pub kind: Kind,
     /// Segment where it happens.
     pub segment: usize,
-    /// Name of the segment's first waypoint.
-    pub from: String,
-    /// Name of the segment's last waypoint.
-    pub to: String,
-    /// Path distance where it happens (mm).
-    pub s_mm: f64,
-    /// The joint concerned (`joint_limit`).
-    pub joint: Option<String>,
+    /// Path distance where it happens (m).
+    pub s: f64,
+    /// Index of the joint concerned ([`Kind::JointLimit`]).
+    pub joint: Option<usize>,
 }
 
-/// One row of the feasibility table.
-#[derive(Debug, Clone, Serialize)]
-pub struct ConfigRow {
-    /// `front/up/noflip` etc.
-    pub config: String,
-    /// The whole path runs in this configuration without unreachable, joint-limit or jump
-    /// errors.
-    pub runs: bool,
-    /// The first error that would stop the walk in this configuration.
-    pub first_failure: Option<FirstFailure>,
-    /// Joints at the first waypoint in this configuration (deg / mm), if it reaches it.
-    pub start_joints: Option<Vec<f64>>,
-    /// The configuration as a value.
-    #[serde(skip)]
-    pub parsed: Option<Config>,
-}
-
-/// The first stopping error of a walk.
-struct Stop {
-    /// `unreachable`, `joint_limit` or `joint_jump`.
-    kind: &'static str,
-    segment: usize,
-    /// Path distance (m).
-    s: f64,
-    /// Index of the joint concerned (`joint_limit`).
-    joint: Option<usize>,
-}
-
-impl Stop {
-    fn at(kind: &'static str, rec: &SampleRecord, joint: Option<usize>) -> Self {
-        Stop {
+impl FirstStop {
+    fn at(kind: Kind, rec: &SampleRecord, joint: Option<usize>) -> Self {
+        FirstStop {
             kind,
             segment: rec.segment,
             s: rec.s,
@@ -68,12 +36,31 @@ impl Stop {
     }
 }
 
-/// Records the first stopping error of a walk.
-struct FirstStop {
-    first: Option<Stop>,
+/// One configuration's walk over the whole path.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Feasibility {
+    /// The configuration walked.
+    pub config: Config,
+    /// The whole path runs in this configuration without unreachable, joint-limit or jump
+    /// errors.
+    pub runs: bool,
+    /// The first error that would stop the walk in this configuration.
+    pub first_stop: Option<FirstStop>,
+    /// Joints at the first waypoint in this configuration (rad / m), if it reaches it.
+    pub start_joints: Option<Vec<f64>>,
 }
 
-impl SampleSink for FirstStop {
+/// The configurations of `table` that run the whole path, in table order.
+pub fn running(table: &[Feasibility]) -> Vec<Config> {
+    table.iter().filter(|r| r.runs).map(|r| r.config).collect()
+}
+
+/// Records the first stopping error of a walk.
+struct StopWatch {
+    first: Option<FirstStop>,
+}
+
+impl SampleSink for StopWatch {
     fn done(&self) -> bool {
         self.first.is_some()
     }
@@ -82,51 +69,44 @@ impl SampleSink for FirstStop {
             return;
         }
         if rec.reach == Reach::Unreachable {
-            self.first = Some(Stop::at("unreachable", rec, None));
+            self.first = Some(FirstStop::at(Kind::Unreachable, rec, None));
         } else if rec.jump.is_some() {
-            self.first = Some(Stop::at("joint_jump", rec, None));
+            self.first = Some(FirstStop::at(Kind::JointJump, rec, None));
         } else if let Some(k) = robot
             .joints()
             .iter()
             .zip(rec.joints.iter())
             .position(|(j, q)| !j.contains(*q))
         {
-            self.first = Some(Stop::at("joint_limit", rec, Some(k)));
+            self.first = Some(FirstStop::at(Kind::JointLimit, rec, Some(k)));
         }
     }
 }
 
-fn name(job: &Job, i: usize) -> String {
-    job.waypoint_name(i)
-}
-
-/// Walk the path in each of the eight configurations.
+/// Walk the path in each of the eight configurations ([`Config::ALL`] order).
 pub fn feasibility(
     robot: &Robot,
     job: &Job,
     plan: &Plan,
     solver: &OrthoParallel,
     options: IkOptions,
-) -> Vec<ConfigRow> {
+) -> Vec<Feasibility> {
     let model = SingularityModel::new(robot);
     let target = plan.first_base();
     Config::ALL
         .iter()
         .map(|&config| {
             let Some(start) = best_in_config(robot, &model, solver, &target, config) else {
-                return ConfigRow {
-                    config: config.to_string(),
+                return Feasibility {
+                    config,
                     runs: false,
-                    first_failure: Some(FirstFailure {
-                        kind: "unreachable",
+                    first_stop: Some(FirstStop {
+                        kind: Kind::Unreachable,
                         segment: 0,
-                        from: name(job, 0),
-                        to: name(job, 1),
-                        s_mm: 0.0,
+                        s: 0.0,
                         joint: None,
                     }),
                     start_joints: None,
-                    parsed: Some(config),
                 };
             };
             let choice = StartChoice {
@@ -138,28 +118,13 @@ pub fn feasibility(
             let mut walker = Walker::new(robot, job, plan, options)
                 .with_closed_form(solver, config)
                 .light();
-            let mut stop = FirstStop { first: None };
+            let mut stop = StopWatch { first: None };
             walker.walk(&choice, &mut stop);
-            ConfigRow {
-                config: config.to_string(),
+            Feasibility {
+                config,
                 runs: stop.first.is_none(),
-                first_failure: stop.first.map(|stop| FirstFailure {
-                    kind: stop.kind,
-                    segment: stop.segment,
-                    from: name(job, stop.segment),
-                    to: name(job, stop.segment + 1),
-                    s_mm: stop.s * 1e3,
-                    joint: stop.joint.map(|k| robot.joints()[k].name.clone()),
-                }),
-                start_joints: Some(
-                    robot
-                        .joints()
-                        .iter()
-                        .zip(start)
-                        .map(|(j, v)| crate::report::joint_display(j.kind, v))
-                        .collect(),
-                ),
-                parsed: Some(config),
+                first_stop: stop.first,
+                start_joints: Some(start.to_vec()),
             }
         })
         .collect()

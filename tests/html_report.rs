@@ -11,6 +11,7 @@ mod common;
 use armpath::check::{check, CheckOptions};
 use armpath::job::{self, Motion, Overrides};
 use armpath::report::html::{render_html, PlotData, BUCKETS, TRACE_POINTS};
+use armpath::report::Report;
 use armpath::robot::{load_urdf, MAX_DOF};
 use armpath::solve::{Reach, SampleRecord, SampleSink};
 use assert_cmd::Command;
@@ -351,7 +352,8 @@ fn a_page_without_samples_still_renders() {
     // source: common practice (the renderer must not depend on the walk having run)
     let job = job::load(&repo("paths/bracket_fillet.yaml"), &Overrides::default()).unwrap();
     let robot = load_urdf(&job.robot, job.tip.as_deref()).unwrap();
-    let report = check(&job, &robot, &CheckOptions::default(), &mut []).unwrap();
+    let outcome = check(&job, &robot, &CheckOptions::default(), &mut []).unwrap();
+    let report = Report::from_outcome(&outcome).unwrap();
     let page = render_html(&report, &PlotData::new(&job));
     assert!(page.contains("id=\"verdict\">✓ PASS"));
     assert!(page.ends_with("</html>\n"));
@@ -361,7 +363,8 @@ fn a_page_without_samples_still_renders() {
 fn a_million_samples_make_a_light_page() {
     let job = job::load(&repo("paths/wrist_crossing.yaml"), &Overrides::default()).unwrap();
     let robot = load_urdf(&job.robot, job.tip.as_deref()).unwrap();
-    let report = check(&job, &robot, &CheckOptions::default(), &mut []).unwrap();
+    let outcome = check(&job, &robot, &CheckOptions::default(), &mut []).unwrap();
+    let report = Report::from_outcome(&outcome).unwrap();
     let n = 1_000_000;
     let spike = 654_321;
     let start = Instant::now();

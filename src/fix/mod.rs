@@ -24,7 +24,7 @@ mod text;
 pub use heatmap::svg as placement_map;
 pub use text::render_fix_text;
 
-use crate::check::{check, CheckOptions};
+use crate::check::{check, CheckOptions, CheckOutcome};
 use crate::error::{Error, Result};
 use crate::job::{self, Job, Overrides};
 use crate::report::{Report, Summary, CAUTIONS};
@@ -120,14 +120,17 @@ pub fn default_out(path: &Path) -> PathBuf {
     path.with_file_name(format!("{stem}.fixed.yaml"))
 }
 
-/// Check `job` with extra sinks (the robot is loaded from the job).
+/// Check `job` with extra sinks (the robot is loaded from the job): the outcome, and the
+/// report's summary (which refuses a check with non-finite numbers, as `check` does).
 fn run_check(
     job: &Job,
     options: &CheckOptions,
     sinks: &mut [&mut dyn SampleSink],
-) -> Result<Report> {
+) -> Result<(CheckOutcome, Summary)> {
     let robot = load_urdf(&job.robot, job.tip.as_deref())?;
-    check(job, &robot, options, sinks)
+    let outcome = check(job, &robot, options, sinks)?;
+    let summary = Report::from_outcome(&outcome)?.summary;
+    Ok((outcome, summary))
 }
 
 /// Run the fix search on `job` (loaded with any command-line overrides) and write the
@@ -142,7 +145,7 @@ pub fn fix(job: &Job, out: &Path, options: &CheckOptions) -> Result<FixReport> {
     let mut amended = job.clone();
     let mut changes = Vec::new();
 
-    let before = run_check(&job, options, &mut [])?;
+    let (before, before_summary) = run_check(&job, options, &mut [])?;
     // Spin first: it changes the orientations, hence the joint path the speeds come from. The
     // spun path is kept only when its check is better: fewer errors, or as many and a margin
     // larger by more than 0.01 (a tenth of the singularity-measure scale, so that rounding
@@ -154,9 +157,9 @@ pub fn fix(job: &Job, out: &Path, options: &CheckOptions) -> Result<FixReport> {
         robot.set_tool(job.tool.tip_T_tcp);
         if let Some(mut s) = spin::search(&job, &robot, options)? {
             if s.changed {
-                let trial = run_check(&s.job, options, &mut [])?;
-                let (t, b) = (&trial.summary, &before.summary);
-                if t.errors < b.errors || (t.errors == b.errors && margin(t) > margin(b) + 0.01) {
+                let (trial, _) = run_check(&s.job, options, &mut [])?;
+                let (t, b) = (trial.errors(), before.errors());
+                if t < b || (t == b && trial.margin() > before.margin() + 0.01) {
                     amended = s.job.clone();
                     spun = true;
                     s.outcome.applied = true;
@@ -184,7 +187,7 @@ pub fn fix(job: &Job, out: &Path, options: &CheckOptions) -> Result<FixReport> {
 
     // The walk the speeds come from: the (possibly spun) path at the programmed speeds.
     let mut ratios = RatioSink::new(&amended);
-    let base = if spun {
+    let (base, _) = if spun {
         run_check(&amended, options, &mut [&mut ratios])?
     } else {
         // Without a spin the same walk as the check before, with the ratio sink.
@@ -195,28 +198,18 @@ pub fn fix(job: &Job, out: &Path, options: &CheckOptions) -> Result<FixReport> {
     let speeds: Vec<SegmentSpeed> = speed::proposals(&amended, &plan, &robot, &ratios);
 
     // Configuration: keep the check's when it runs the path, else the first that does.
-    let running: Vec<String> = base
-        .configurations
-        .iter()
-        .flatten()
-        .filter(|r| r.runs)
-        .map(|r| r.config.clone())
-        .collect();
-    let used = base.path.start.config.clone();
+    let running = base.running();
+    let used = base.config();
     let mut chosen = None;
     if !spun {
-        if let Some(first) = running.first() {
-            if used.as_ref().is_none_or(|u| !running.contains(u)) {
-                if let Ok(c) = first.parse() {
-                    set_config(&mut amended, c);
-                }
+        if let Some(&first) = running.first() {
+            if used.is_none_or(|u| !running.contains(&u)) {
+                set_config(&mut amended, first);
                 changes.push(format!(
                     "arm configuration {first} (runs the whole path{})",
-                    used.as_ref()
-                        .map(|u| format!("; {u} does not"))
-                        .unwrap_or_default()
+                    used.map(|u| format!("; {u} does not")).unwrap_or_default()
                 ));
-                chosen = Some(first.clone());
+                chosen = Some(first);
             }
         }
     }
@@ -257,8 +250,8 @@ pub fn fix(job: &Job, out: &Path, options: &CheckOptions) -> Result<FixReport> {
                 format!("the amended path could not be read back ({e}); please report this"),
             )
         })?;
-        let after = run_check(&reloaded, options, &mut [])?;
-        (Some(out.display().to_string()), Some(after.summary))
+        let (_, after) = run_check(&reloaded, options, &mut [])?;
+        (Some(out.display().to_string()), Some(after))
     };
     Ok(FixReport {
         file: path.display().to_string(),
@@ -281,26 +274,17 @@ pub fn fix(job: &Job, out: &Path, options: &CheckOptions) -> Result<FixReport> {
             })
             .collect(),
         configuration: ConfigOutcome {
-            used,
-            running,
-            chosen,
+            used: used.map(|c| c.to_string()),
+            running: running.iter().map(|c| c.to_string()).collect(),
+            chosen: chosen.map(|c| c.to_string()),
         },
         spin: spin_outcome,
         spin_note,
         changes,
-        before: before.summary,
+        before: before_summary,
         after,
         cautions: CAUTIONS.to_vec(),
     })
-}
-
-/// The ranking margin of a check: [`crate::solve::margin`] of its smallest limit ratio and
-/// smallest singularity measure (a missing one counts as fully clear).
-fn margin(s: &Summary) -> f64 {
-    crate::solve::margin(
-        s.min_limit_margin_ratio.unwrap_or(1.0),
-        s.min_singularity.unwrap_or(f64::INFINITY),
-    )
 }
 
 /// Ask for configuration `config` in the amended job. `start_joints` would override it, so

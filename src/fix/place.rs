@@ -15,7 +15,7 @@
 use crate::check::{check, CheckOptions};
 use crate::error::{Error, Result};
 use crate::job::Job;
-use crate::report::Verdict;
+use crate::report::{Report, Verdict};
 use crate::robot::Robot;
 use nalgebra::{Isometry3, Translation3, UnitQuaternion, Vector3};
 use rayon::prelude::*;
@@ -232,25 +232,29 @@ pub fn search(
         .par_iter()
         .map(|&(dx, dy, dz, dyaw)| {
             let j = moved(job, dx, dy, dz, dyaw);
-            let report = check(&j, robot, options, &mut []);
+            let outcome = check(&j, robot, options, &mut []);
             tick();
-            let report = report?;
-            let s = report.summary;
-            let score = match (s.min_limit_margin_ratio, s.min_singularity) {
+            let outcome = outcome?;
+            // Refuse a check with non-finite numbers, as `check` does.
+            Report::from_outcome(&outcome)?;
+            let (ratio, measure) = outcome.margin_terms();
+            // A placement without any measured term ranks lowest; a limit ratio alone is taken
+            // as it is.
+            let score = match (ratio, measure) {
                 (None, None) => 0.0,
                 (Some(a), None) => a,
-                (a, Some(m)) => crate::solve::margin(a.unwrap_or(1.0), m),
+                (_, Some(_)) => outcome.margin(),
             };
             Ok(Placement {
                 dx,
                 dy,
                 dz,
                 dyaw,
-                verdict: s.verdict,
-                errors: s.errors,
-                warnings: s.warnings,
-                min_singularity: s.min_singularity,
-                min_limit_margin: s.min_limit_margin_ratio,
+                verdict: outcome.verdict(),
+                errors: outcome.errors(),
+                warnings: outcome.warnings(),
+                min_singularity: measure,
+                min_limit_margin: ratio,
                 score,
             })
         })

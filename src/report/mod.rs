@@ -12,11 +12,11 @@ pub use escape::{count, visible};
 pub use joints_csv::JointsCsv;
 pub use text::{render_text, Style};
 
-use crate::assess::{Extremes, Finding, Severity};
+use crate::assess::{Finding, Severity};
+use crate::check::{Advice, CheckOutcome, Feasibility};
+use crate::error::{Error, Result};
 use crate::job::{Job, Motion};
-use crate::plan::Plan;
 use crate::robot::{spherical_wrist, JointKind, Robot};
-use crate::solve::{StartChoice, WalkTotals};
 use serde::Serialize;
 
 /// The cautions every report carries.
@@ -293,46 +293,118 @@ pub struct Report {
     pub findings: Vec<FindingReport>,
     /// For arms with a closed-form solver: each arm configuration, whether the whole path
     /// runs in it, and if not where it first stops. Null for other arms.
-    pub configurations: Option<Vec<crate::configs::ConfigRow>>,
+    pub configurations: Option<Vec<ConfigurationReport>>,
     pub cautions: Vec<&'static str>,
 }
 
-/// Everything a report is built from.
-pub struct ReportInputs<'a> {
-    pub robot: &'a Robot,
-    pub job: &'a Job,
-    pub plan: &'a Plan,
-    pub start: &'a StartChoice,
-    pub totals: WalkTotals,
-    pub findings: &'a [Finding],
-    pub extremes: Extremes,
-    pub singularity_threshold: f64,
+/// What first stops a configuration's walk, in display units.
+#[derive(Debug, Clone, Serialize)]
+pub struct StopReport {
+    /// `unreachable`, `joint_limit` or `joint_jump`.
+    pub kind: &'static str,
+    /// Segment where it happens.
+    pub segment: usize,
+    /// Name of the segment's first waypoint.
+    pub from: String,
+    /// Name of the segment's last waypoint.
+    pub to: String,
+    /// Path distance where it happens (mm).
+    pub s_mm: f64,
+    /// The joint concerned (`joint_limit`).
+    pub joint: Option<String>,
+}
+
+/// One row of the configuration table, in display units.
+#[derive(Debug, Clone, Serialize)]
+pub struct ConfigurationReport {
+    /// `front/up/noflip` etc.
+    pub config: String,
+    /// The whole path runs in this configuration without unreachable, joint-limit or jump
+    /// errors.
+    pub runs: bool,
+    /// The first error that would stop the walk in this configuration.
+    pub first_failure: Option<StopReport>,
+    /// Joints at the first waypoint in this configuration (deg / mm), if it reaches it.
+    pub start_joints: Option<Vec<f64>>,
+}
+
+impl ConfigurationReport {
+    fn new(row: &Feasibility, robot: &Robot, job: &Job) -> Self {
+        ConfigurationReport {
+            config: row.config.to_string(),
+            runs: row.runs,
+            first_failure: row.first_stop.map(|stop| StopReport {
+                kind: stop.kind.name(),
+                segment: stop.segment,
+                from: job.waypoint_name(stop.segment),
+                to: job.waypoint_name(stop.segment + 1),
+                s_mm: stop.s * 1e3,
+                joint: stop.joint.map(|k| robot.joints()[k].name.clone()),
+            }),
+            start_joints: row.start_joints.as_ref().map(|q| {
+                robot
+                    .joints()
+                    .iter()
+                    .zip(q)
+                    .map(|(j, v)| joint_display(j.kind, *v))
+                    .collect()
+            }),
+        }
+    }
+}
+
+/// The advice as the text appended to the stopping errors' messages.
+fn advice_text(advice: &Advice) -> String {
+    match advice {
+        Advice::NoConfigurationRuns => {
+            " — no arm configuration runs the whole path: change the path, the tool or the placement"
+                .to_string()
+        }
+        Advice::RunsIn(configs) => format!(
+            " — the whole path runs in configuration {}: start there (config: or start_joints)",
+            configs
+                .iter()
+                .map(|c| c.to_string())
+                .collect::<Vec<_>>()
+                .join(", ")
+        ),
+    }
 }
 
 impl Report {
-    pub fn build(r: ReportInputs<'_>) -> Self {
-        let errors = r
-            .findings
-            .iter()
-            .filter(|f| f.severity() == Severity::Error)
-            .count();
-        let warnings = r.findings.len() - errors;
-        let verdict = if errors > 0 {
-            Verdict::Fail
-        } else if r
-            .findings
-            .iter()
-            .any(|f| f.kind != crate::assess::Kind::Input)
-        {
-            Verdict::Warn
-        } else {
-            Verdict::Pass
-        };
+    /// The report of a check: the outcome in display units, the configuration advice
+    /// appended to the stopping errors' messages. Refused when a number of it is not finite
+    /// (see [`Report::first_non_finite`]).
+    pub fn from_outcome(o: &CheckOutcome) -> Result<Report> {
+        let mut findings = o.findings.clone();
+        if let Some(advice) = &o.advice {
+            let hint = advice_text(advice);
+            for f in findings.iter_mut().filter(|f| Advice::applies_to(f)) {
+                f.message.push_str(&hint);
+            }
+        }
+        let report = Report::build(o, &findings);
+        if let Some(field) = report.first_non_finite() {
+            return Err(Error::robot(
+                o.robot.source(),
+                "report",
+                format!(
+                    "{field} is not a finite number, so no report is written: check the robot's \
+                     origins and limits, the tool, the work frame and the path values for extreme \
+                     magnitudes"
+                ),
+            ));
+        }
+        Ok(report)
+    }
+
+    fn build(o: &CheckOutcome, findings: &[Finding]) -> Self {
+        let r = o;
         let joint_name = |k: Option<usize>| k.map(|k| r.robot.joints()[k].name.clone());
-        let e = r.extremes;
+        let e = o.extremes;
         Report {
             armpath_version: env!("CARGO_PKG_VERSION"),
-            robot: RobotReport::new(r.robot),
+            robot: RobotReport::new(&r.robot),
             path: PathReport {
                 file: r.job.source.display().to_string(),
                 waypoints: r.job.names.clone(),
@@ -378,7 +450,7 @@ impl Report {
                 joint_speed_scale: r.job.limits.joint_speed_scale,
                 step_mm: r.job.sampling.step * 1e3,
                 angle_step_deg: r.job.sampling.angle_step.to_degrees(),
-                singularity_threshold: r.singularity_threshold,
+                singularity_threshold: r.thresholds.singularity,
                 start: StartReport {
                     method: r.start.method.name(),
                     joints: r
@@ -389,13 +461,13 @@ impl Report {
                         .map(|(j, v)| joint_display(j.kind, *v))
                         .collect(),
                     alternatives: r.start.alternatives,
-                    config: None,
+                    config: r.start.config.map(|c| c.to_string()),
                 },
             },
             summary: Summary {
-                verdict,
-                errors,
-                warnings,
+                verdict: o.verdict(),
+                errors: o.errors(),
+                warnings: o.warnings(),
                 samples: r.totals.samples,
                 length_mm: r.totals.length * 1e3,
                 duration_s: r.totals.duration,
@@ -408,12 +480,15 @@ impl Report {
                 min_limit_margin_ratio: finite(e.min_limit_margin_ratio),
                 min_limit_margin_joint: joint_name(e.min_limit_margin_joint),
             },
-            findings: r
-                .findings
+            findings: findings
                 .iter()
-                .map(|f| FindingReport::new(f, r.robot))
+                .map(|f| FindingReport::new(f, &r.robot))
                 .collect(),
-            configurations: None,
+            configurations: o.feasibility.as_ref().map(|rows| {
+                rows.iter()
+                    .map(|row| ConfigurationReport::new(row, &r.robot, &r.job))
+                    .collect()
+            }),
             cautions: CAUTIONS.to_vec(),
         }
     }
@@ -491,25 +566,11 @@ impl Report {
 
 #[cfg(test)]
 mod tests {
-    use std::path::Path;
-
     #[test]
     fn a_report_with_a_non_finite_number_names_the_field() {
         // source: common practice (IEEE 754: NaN and infinity are not finite)
-        let dir = Path::new(env!("CARGO_MANIFEST_DIR"));
-        let job = crate::job::load(
-            &dir.join("paths/bracket_fillet.yaml"),
-            &crate::job::Overrides::default(),
-        )
-        .unwrap();
-        let robot = crate::robot::load_urdf(&dir.join("robots/arm6.urdf"), None).unwrap();
-        let report = crate::check::check(
-            &job,
-            &robot,
-            &crate::check::CheckOptions::default(),
-            &mut [],
-        )
-        .unwrap();
+        let outcome = crate::check::demo_outcome("paths/bracket_fillet.yaml");
+        let report = super::Report::from_outcome(&outcome).unwrap();
         assert_eq!(report.first_non_finite(), None);
         let mut broken = report.clone();
         broken.summary.length_mm = f64::NAN;

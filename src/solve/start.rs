@@ -2,7 +2,6 @@
 //! candidates (and, in `fix`, whole checks).
 
 use super::RESTARTS;
-use crate::configs::ConfigRow;
 use crate::ik::analytic::{Config, OrthoParallel};
 use crate::ik::{IkOptions, NumericIk};
 use crate::job::ConfigRequest;
@@ -93,15 +92,15 @@ pub struct StartChoice {
 pub enum StartSolver<'a> {
     /// Numerical IK from random seeds.
     Numeric(IkOptions),
-    /// The closed form: one start per configuration allowed by `request`, ranked with the
-    /// feasibility `table`.
+    /// The closed form: one start per configuration allowed by `request`, those in `running`
+    /// first.
     ClosedForm {
         /// The arm's closed-form solver.
         solver: &'a OrthoParallel,
         /// The path file's `config:` request.
         request: &'a ConfigRequest,
-        /// Which configurations run the whole path.
-        table: &'a [ConfigRow],
+        /// The configurations that run the whole path.
+        running: &'a [Config],
     },
 }
 
@@ -126,7 +125,7 @@ pub fn choose_start(
         StartSolver::ClosedForm {
             solver,
             request,
-            table,
+            running,
         } => closed_start(
             robot,
             model,
@@ -134,7 +133,7 @@ pub fn choose_start(
             base_T_start,
             start_joints,
             request,
-            table,
+            running,
         ),
     }
 }
@@ -222,7 +221,7 @@ fn closed_start(
     base_T_start: &Isometry3<f64>,
     start_joints: Option<&[f64]>,
     request: &ConfigRequest,
-    table: &[ConfigRow],
+    running: &[Config],
 ) -> StartChoice {
     if let Some(q) = start_joints {
         let config = solver.config_of(q);
@@ -239,8 +238,7 @@ fn closed_start(
     }
     let mut best: Option<Candidate> = None;
     let mut alternatives = 0;
-    for row in table {
-        let Some(config) = row.parsed else { continue };
+    for config in Config::ALL {
         if !request.admits(config) {
             continue;
         }
@@ -249,7 +247,7 @@ fn closed_start(
         };
         alternatives += 1;
         let here = Candidate {
-            runs: row.runs,
+            runs: running.contains(&config),
             score: pose_margin(robot, model, &joints),
             config,
             joints,

@@ -10,7 +10,7 @@ use armpath::ik::{IkOptions, NumericIk};
 use armpath::output::{self, check_target, is_stdout, write_json};
 use armpath::report::html::HtmlReport;
 use armpath::report::kinematics::{ClosedForm, IkReport, IkSolutionReport, PoseReport, RobotInfo};
-use armpath::report::{render_text, JointsCsv, Style};
+use armpath::report::{render_text, JointsCsv, Report, Style};
 use armpath::robot::{load_urdf, Robot};
 use armpath::solve::SampleSink;
 use clap::Args;
@@ -333,6 +333,7 @@ pub fn run_check(a: CheckArgs) -> Result<u8> {
         }
         check(&job, &robot, &options, &mut sinks)?
     };
+    let report = Report::from_outcome(&report)?;
     progress.finish();
     if let Some(c) = csv.take() {
         c.finish()?;

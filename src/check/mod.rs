@@ -1,14 +1,18 @@
-//! The check, end to end: job + robot → plan → walk (IK per sample) → assessment → report.
+//! The check, end to end: job + robot → plan → walk (IK per sample) → assessment →
+//! [`CheckOutcome`] (SI, typed), which the report converts to display units.
 
+mod outcome;
+
+pub use outcome::{Advice, CheckOutcome, Feasibility, FirstStop};
+
+use crate::assess::Finding;
 use crate::assess::{Assessor, Thresholds};
-use crate::assess::{Finding, Kind, Severity};
-use crate::configs::{feasibility, ConfigRow};
+use crate::configs::feasibility;
 use crate::error::{Error, Result};
-use crate::ik::analytic::{Config, OrthoParallel};
+use crate::ik::analytic::OrthoParallel;
 use crate::ik::IkOptions;
 use crate::job::{ConfigRequest, Job, StartJoints};
 use crate::plan::{plan, DEFAULT_MAX_SAMPLES};
-use crate::report::{Report, ReportInputs};
 use crate::robot::{Robot, SingularityModel};
 use crate::solve::{choose_start, residual, SampleRecord, SampleSink, StartSolver, Walker};
 
@@ -66,7 +70,7 @@ pub fn check(
     robot: &Robot,
     options: &CheckOptions,
     sinks: &mut [&mut dyn SampleSink],
-) -> Result<Report> {
+) -> Result<CheckOutcome> {
     let unit_hint = metres_look_like_mm(job, robot);
     let mut robot = robot.clone();
     robot.set_tool(job.tool.tip_T_tcp);
@@ -110,6 +114,7 @@ pub fn check(
     let (start, table) = match &closed {
         Ok(solver) => {
             let table = feasibility(&robot, job, &plan, solver, options.ik);
+            let running = crate::configs::running(&table);
             let start = choose_start(
                 &robot,
                 &model,
@@ -118,7 +123,7 @@ pub fn check(
                 StartSolver::ClosedForm {
                     solver,
                     request: &job.config,
-                    table: &table,
+                    running: &running,
                 },
             );
             (start, Some(table))
@@ -157,34 +162,23 @@ pub fn check(
         walker.walk(&start, &mut fan)
     };
     let (mut findings, extremes) = assessor.finish(&robot);
+    drop(walker);
     findings.splice(0..0, notes);
-    if let Some(table) = &table {
-        suggest_configurations(&mut findings, table, start.config);
-    }
-    let mut report = Report::build(ReportInputs {
-        robot: &robot,
-        job,
-        plan: &plan,
-        start: &start,
-        totals,
-        findings: &findings,
+    let advice = table
+        .as_deref()
+        .and_then(|table| Advice::new(table, start.config));
+    Ok(CheckOutcome {
+        robot,
+        job: job.clone(),
+        plan,
+        start,
+        feasibility: table,
+        findings,
         extremes,
-        singularity_threshold: options.thresholds.singularity,
-    });
-    report.path.start.config = start.config.map(|c| c.to_string());
-    report.configurations = table;
-    if let Some(field) = report.first_non_finite() {
-        return Err(Error::robot(
-            robot.source(),
-            "report",
-            format!(
-                "{field} is not a finite number, so no report is written: check the robot's \
-                 origins and limits, the tool, the work frame and the path values for extreme \
-                 magnitudes"
-            ),
-        ));
-    }
-    Ok(report)
+        totals,
+        thresholds: options.thresholds,
+        advice,
+    })
 }
 
 /// How far (m) the TCP of given start joints may be from the first waypoint. Joints copied
@@ -276,34 +270,12 @@ fn note(message: String) -> Finding {
     Finding::input(None, None, None, message)
 }
 
-/// Add to every stopping error (unreachable, joint limit, jump) which configurations would
-/// run the whole path, or that none does.
-fn suggest_configurations(findings: &mut [Finding], table: &[ConfigRow], used: Option<Config>) {
-    let runs: Vec<&str> = table
-        .iter()
-        .filter(|r| r.runs)
-        .map(|r| r.config.as_str())
-        .collect();
-    let used_runs = used.is_some_and(|u| table.iter().any(|r| r.runs && r.parsed == Some(u)));
-    if used_runs {
-        return;
-    }
-    let hint = if runs.is_empty() {
-        " — no arm configuration runs the whole path: change the path, the tool or the placement"
-            .to_string()
-    } else {
-        format!(
-            " — the whole path runs in configuration {}: start there (config: or start_joints)",
-            runs.join(", ")
-        )
-    };
-    for f in findings.iter_mut().filter(|f| {
-        f.severity() == Severity::Error
-            && matches!(
-                f.kind,
-                Kind::Unreachable | Kind::JointLimit | Kind::JointJump
-            )
-    }) {
-        f.message.push_str(&hint);
-    }
+/// The check of a demo path (relative to the repository) on the robot it names, default
+/// options.
+#[cfg(test)]
+pub(crate) fn demo_outcome(path: &str) -> CheckOutcome {
+    let dir = std::path::Path::new(env!("CARGO_MANIFEST_DIR"));
+    let job = crate::job::load(&dir.join(path), &crate::job::Overrides::default()).unwrap();
+    let robot = crate::robot::load_urdf(&job.robot, job.tip.as_deref()).unwrap();
+    check(&job, &robot, &CheckOptions::default(), &mut []).unwrap()
 }
