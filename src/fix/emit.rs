@@ -2,21 +2,31 @@
 //!
 //! The amended file is re-emitted whole from the [`Job`] rather than patched as text: the job
 //! holds every setting the loader accepted (in SI), so converting back to the input file's
-//! `units:` reproduces the file's meaning exactly, whatever layout (block or flow YAML, a CSV
-//! waypoint file) it came in. What changes in form, not meaning: comments are not kept,
-//! orientations are written as quaternions (`quat: [w, x, y, z]`, exact for any rotation,
-//! where rpy would need a branch choice), `robot:` becomes an absolute path (so the file works
-//! from any folder), and defaults the loader filled in are written out explicitly.
+//! `units:` reproduces the file's meaning, whatever layout (block or flow YAML, a CSV waypoint
+//! file) it came in. It is written through the reader's own schema
+//! ([`crate::job::schema::PathFileSpec`], serialised by serde_yaml), so every key the reader
+//! accepts can be written and a name or path is quoted and escaped by the YAML writer, never
+//! able to start a key of its own. What changes in form, not meaning: comments are not kept
+//! (the `header` notes are written as comments at the top), orientations are written as
+//! quaternions (`quat: [w, x, y, z]`, exact for any rotation, where rpy would need a branch
+//! choice), `robot:` becomes an absolute path (so the file works from any folder), every
+//! waypoint is written with its name, and defaults the loader filled in (limits, sampling,
+//! work frame, tool pose) are written out explicitly.
 //!
-//! Numbers are written with 9 decimals for lengths and angles (1e-9 mm or deg is far below
-//! any robot's resolution, and round-trips through the loader within its 1 nm tolerance) and
-//! 12 for quaternion components (a 1e-12 component error is a rotation error of ~1e-12 rad).
+//! Numbers are written in their shortest form that reads back to the same double
+//! (serde_yaml's float writer), chosen so that the reader's unit conversion gives back the
+//! job's SI value exactly where one exists ([`file_value`]).
 
-use crate::job::{Job, Motion};
+use crate::error::Error;
+use crate::job::schema::{
+    ConfigSpec, FrameSpec, LimitsSpec, MarginSpec, MotionSpec, PathFileSpec, SamplingSpec,
+    SplitMargin, ToolSpec, UnitsSpec, WaypointSpec, WaypointsSpec,
+};
+use crate::job::{Job, Motion, Units};
 use nalgebra::Isometry3;
 use std::fmt::Write;
 
-/// A number for the file: fixed decimals with trailing zeros (and a bare `-0`) removed.
+/// A number for report text: fixed decimals with trailing zeros (and a bare `-0`) removed.
 pub fn num(v: f64, decimals: usize) -> String {
     let mut s = format!("{v:.decimals$}");
     if s.contains('.') {
@@ -33,220 +43,224 @@ pub fn num(v: f64, decimals: usize) -> String {
     s
 }
 
-/// `xyz: [..], quat: [..]` of a pose, lengths in the file's unit.
-fn pose_fields(job: &Job, pose: &Isometry3<f64>) -> String {
-    let l = job.units.length_to_m();
-    let t = pose.translation.vector / l;
-    let q = pose.rotation;
-    format!(
-        "xyz: [{}, {}, {}], quat: [{}, {}, {}, {}]",
-        num(t.x, 9),
-        num(t.y, 9),
-        num(t.z, 9),
-        num(q.w, 12),
-        num(q.i, 12),
-        num(q.j, 12),
-        num(q.k, 12)
-    )
+/// How many neighbouring doubles on each side of `si / unit` [`file_value`] tries: the
+/// quotient is within one rounding of the exact one and the reader's product adds one more,
+/// so a value that reads back exactly lies within a few units in the last place.
+const FILE_VALUE_NEIGHBOURS: u32 = 4;
+
+/// The number to write for SI value `si` in a unit of `si_per_unit` SI per unit (the reader
+/// multiplies it back). Among the doubles next to `si / si_per_unit`, the shortest written
+/// one that the reader turns back into exactly `si`; when none does (the product cannot hit
+/// every double), the plain quotient, which reads back within a rounding or two.
+pub fn file_value(si: f64, si_per_unit: f64) -> f64 {
+    if si_per_unit == 1.0 || !si.is_finite() {
+        return si;
+    }
+    let q = si / si_per_unit;
+    let mut best: Option<(usize, f64)> = None;
+    let mut consider = |v: f64| {
+        if v.is_finite() && v * si_per_unit == si {
+            let len = v.to_string().len();
+            if best.is_none_or(|(l, _)| len < l) {
+                best = Some((len, v));
+            }
+        }
+    };
+    consider(q);
+    let (mut up, mut down) = (q, q);
+    for _ in 0..FILE_VALUE_NEIGHBOURS {
+        up = up.next_up();
+        down = down.next_down();
+        consider(up);
+        consider(down);
+    }
+    best.map_or(q, |(_, v)| v)
 }
 
-/// True for the characters YAML reads as a line break or that a double-quoted scalar may not
-/// hold raw: C0 and C1 controls, DEL, the Unicode line and paragraph separators and the byte
-/// order mark.
+/// True for the characters YAML reads as a line break or that a comment may not hold raw:
+/// C0 and C1 controls, DEL, the Unicode line and paragraph separators and the byte order
+/// mark.
 fn needs_escape(c: char) -> bool {
     c.is_control() || matches!(c, '\u{2028}' | '\u{2029}' | '\u{feff}')
 }
 
-/// `c` as a YAML double-quoted escape sequence (YAML 1.2, section 5.7).
-fn push_escaped(out: &mut String, c: char) {
-    match c {
-        '\n' => out.push_str("\\n"),
-        '\r' => out.push_str("\\r"),
-        '\t' => out.push_str("\\t"),
-        c if (c as u32) <= 0xff => {
-            let _ = write!(out, "\\x{:02x}", c as u32);
-        }
-        c => {
-            let _ = write!(out, "\\u{:04x}", c as u32);
-        }
-    }
-}
-
-/// YAML double-quoted string: `"` and `\` escaped, and every control character or line break
-/// written as an escape sequence, so that any name or path stays one scalar on one line.
-fn quoted(s: &str) -> String {
-    let mut out = String::with_capacity(s.len() + 2);
-    out.push('"');
-    for c in s.chars() {
-        match c {
-            '"' => out.push_str("\\\""),
-            '\\' => out.push_str("\\\\"),
-            c if needs_escape(c) => push_escaped(&mut out, c),
-            c => out.push(c),
-        }
-    }
-    out.push('"');
-    out
-}
-
 /// A comment line's text: line breaks and other control characters (which a waypoint name in
-/// a change note may carry) are written as escapes, so the comment cannot end early and start
-/// a live line.
+/// a change note may carry) are written as YAML-style escapes (`\n`, `\x85`, `\u2028`), so
+/// the comment cannot end early and start a live line.
 fn comment(s: &str) -> String {
     let mut out = String::with_capacity(s.len());
     for c in s.chars() {
-        if needs_escape(c) {
-            push_escaped(&mut out, c);
-        } else {
-            out.push(c);
+        match c {
+            '\n' => out.push_str("\\n"),
+            '\r' => out.push_str("\\r"),
+            '\t' => out.push_str("\\t"),
+            c if needs_escape(c) && (c as u32) <= 0xff => {
+                let _ = write!(out, "\\x{:02x}", c as u32);
+            }
+            c if needs_escape(c) => {
+                let _ = write!(out, "\\u{:04x}", c as u32);
+            }
+            c => out.push(c),
         }
     }
     out
 }
 
-/// The whole path file for `job`, in the job's units. `header` lines are written first as
-/// comments (what was amended and why).
-pub fn path_file(job: &Job, header: &[String]) -> String {
-    let l = job.units.length_to_m();
-    let a = job.units.angle_to_rad();
-    let mut out = String::new();
+/// Position (file length unit) and quaternion `[w, x, y, z]` of a pose.
+fn pose_values(pose: &Isometry3<f64>, units: &Units) -> ([f64; 3], [f64; 4]) {
+    let l = units.length_to_m();
+    let t = pose.translation.vector;
+    let q = pose.rotation;
+    (
+        [t.x, t.y, t.z].map(|v| file_value(v, l)),
+        [q.w, q.i, q.j, q.k],
+    )
+}
+
+/// The start joints in the file's units. Values given on the command line in other units are
+/// converted when revolute and prismatic values scale alike; otherwise which factor applies
+/// depends on each joint's kind, which the job does not know, so the file cannot hold them.
+fn start_joints(job: &Job) -> Result<Option<Vec<f64>>, Error> {
+    let Some(sj) = &job.start_joints else {
+        return Ok(None);
+    };
+    let u = &job.units;
+    let angle = sj.angle_to_rad / u.angle_to_rad();
+    let length = sj.length_to_m / u.length_to_m();
+    if angle == 1.0 && length == 1.0 {
+        return Ok(Some(sj.values.clone()));
+    }
+    if angle == length {
+        let si = sj.angle_to_rad;
+        let to = u.angle_to_rad();
+        return Ok(Some(
+            sj.values.iter().map(|v| file_value(v * si, to)).collect(),
+        ));
+    }
+    Err(Error::usage(
+        sj.origin.clone(),
+        format!(
+            "is given in other units than the path file ({}), and the amended file can only \
+             hold joint values in the file's units: give the start joints in {} (with \
+             --units {},{}), or write them into the path file",
+            u,
+            u,
+            u.length.name(),
+            u.angle.name()
+        ),
+    ))
+}
+
+/// The path file spec of `job`, every value in the job's units (see the module notes on what
+/// is written).
+pub fn spec(job: &Job) -> Result<PathFileSpec, Error> {
+    let u = &job.units;
+    let (l, a) = (u.length_to_m(), u.angle_to_rad());
+    let length = |v: f64| file_value(v, l);
+    let angle = |v: f64| file_value(v, a);
+    let robot = std::fs::canonicalize(&job.robot).unwrap_or_else(|_| job.robot.clone());
+    let tool = &job.tool;
+    let (xyz, quat) = pose_values(&tool.tip_T_tcp, u);
+    let free = tool.free_spin;
+    let tool = ToolSpec {
+        xyz,
+        rpy: None,
+        quat: Some(quat),
+        rotvec: None,
+        // Spin settings only with a free spin: without it the reader ignores them with a
+        // warning.
+        free_spin: free.then_some(true),
+        spin_range: free.then(|| [angle(tool.spin_range.0), angle(tool.spin_range.1)]),
+        spin_rate: tool.spin_rate.filter(|_| free).map(angle),
+    };
+    let (xyz, quat) = pose_values(&job.base_T_work, u);
+    let work_frame = FrameSpec {
+        xyz,
+        rpy: None,
+        quat: Some(quat),
+        rotvec: None,
+    };
+    let c = &job.config;
+    let config =
+        (c.shoulder.is_some() || c.elbow.is_some() || c.wrist.is_some()).then_some(ConfigSpec {
+            shoulder: c.shoulder,
+            elbow: c.elbow,
+            wrist: c.wrist,
+        });
+    let lim = &job.limits;
+    let limits = LimitsSpec {
+        tool_angular_speed: Some(angle(lim.tool_angular_speed)),
+        joint_speed_scale: Some(lim.joint_speed_scale),
+        near_limit_margin: Some(MarginSpec::Split(SplitMargin {
+            angle: Some(angle(lim.near_limit_margin_angle)),
+            length: Some(length(lim.near_limit_margin_length)),
+        })),
+    };
+    let sampling = SamplingSpec {
+        step: Some(length(job.sampling.step)),
+        angle_step: Some(angle(job.sampling.angle_step)),
+    };
+    let waypoints = job
+        .waypoints
+        .iter()
+        .enumerate()
+        .map(|(i, w)| {
+            let (xyz, quat) = pose_values(&w.work_T_tcp, u);
+            // The first waypoint ends no segment: its segment keys mean nothing.
+            let segment = i > 0;
+            WaypointSpec {
+                name: Some(job.waypoint_name(i)),
+                xyz,
+                rpy: None,
+                quat: Some(quat),
+                rotvec: None,
+                motion: (segment && w.motion == Motion::Joint).then_some(MotionSpec::Joint),
+                speed: w.speed.filter(|_| segment).map(length),
+                process: (segment && w.process).then_some(true),
+            }
+        })
+        .collect();
+    Ok(PathFileSpec {
+        units: Some(UnitsSpec {
+            length: Some(u.length),
+            angle: Some(u.angle),
+        }),
+        robot: Some(robot.display().to_string()),
+        tip: job.tip.clone(),
+        tool: Some(tool),
+        work_frame: Some(work_frame),
+        start_joints: start_joints(job)?,
+        start_joints_seed: job
+            .start_joints
+            .as_ref()
+            .and_then(|s| s.seed.then_some(true)),
+        config,
+        speed: Some(length(job.speed)),
+        orientation_speed: job.orientation_speed.map(angle),
+        limits: Some(limits),
+        sampling: Some(sampling),
+        waypoints: WaypointsSpec::List(waypoints),
+    })
+}
+
+/// The whole path file for `job`, in the job's units: the `header` lines as comments (what
+/// was amended and why), then the [`spec`] of the job as YAML. Errors when the start joints
+/// cannot be written in the file's units (see `start_joints`) or the YAML writer fails.
+pub fn path_file(job: &Job, header: &[String]) -> Result<String, Error> {
+    let body = serde_yaml::to_string(&spec(job)?).map_err(|e| {
+        Error::input(
+            &job.source,
+            "amended file",
+            format!("the amended path could not be written as YAML ({e}); please report this"),
+        )
+    })?;
+    let mut out = String::with_capacity(body.len() + 80 * header.len());
     for h in header {
         let _ = writeln!(out, "# {}", comment(h));
     }
-    let _ = writeln!(
-        out,
-        "units: {{length: {}, angle: {}}}",
-        job.units.length.name(),
-        job.units.angle.name()
-    );
-    let robot = std::fs::canonicalize(&job.robot).unwrap_or_else(|_| job.robot.clone());
-    let _ = writeln!(out, "robot: {}", quoted(&robot.display().to_string()));
-    if let Some(tip) = &job.tip {
-        let _ = writeln!(out, "tip: {}", quoted(tip));
-    }
-    let tool = &job.tool;
-    let mut tool_line = format!("tool: {{{}", pose_fields(job, &tool.tip_T_tcp));
-    if tool.free_spin {
-        let _ = write!(
-            tool_line,
-            ", free_spin: true, spin_range: [{}, {}]",
-            num(tool.spin_range.0 / a, 9),
-            num(tool.spin_range.1 / a, 9)
-        );
-        if let Some(r) = tool.spin_rate {
-            let _ = write!(tool_line, ", spin_rate: {}", num(r / a, 9));
-        }
-    }
-    tool_line.push('}');
-    let _ = writeln!(out, "{tool_line}");
-    let _ = writeln!(
-        out,
-        "work_frame: {{{}}}",
-        pose_fields(job, &job.base_T_work)
-    );
-    if let Some(sj) = &job.start_joints {
-        let v: Vec<String> = sj.values.iter().map(|x| num(*x, 9)).collect();
-        let _ = writeln!(out, "start_joints: [{}]", v.join(", "));
-        if sj.seed {
-            let _ = writeln!(out, "start_joints_seed: true");
-        }
-    }
-    let c = &job.config;
-    let mut parts = Vec::new();
-    if let Some(v) = c.shoulder {
-        parts.push(format!("shoulder: {v}"));
-    }
-    if let Some(v) = c.elbow {
-        parts.push(format!("elbow: {v}"));
-    }
-    if let Some(v) = c.wrist {
-        parts.push(format!("wrist: {v}"));
-    }
-    if !parts.is_empty() {
-        let _ = writeln!(out, "config: {{{}}}", parts.join(", "));
-    }
-    let _ = writeln!(out, "speed: {}", num(job.speed / l, 9));
-    if let Some(w) = job.orientation_speed {
-        let _ = writeln!(out, "orientation_speed: {}", num(w / a, 9));
-    }
-    let lim = &job.limits;
-    let _ = writeln!(
-        out,
-        "limits: {{tool_angular_speed: {}, joint_speed_scale: {}, near_limit_margin: {{angle: {}, length: {}}}}}",
-        num(lim.tool_angular_speed / a, 9),
-        num(lim.joint_speed_scale, 12),
-        num(lim.near_limit_margin_angle / a, 9),
-        num(lim.near_limit_margin_length / l, 9)
-    );
-    let _ = writeln!(
-        out,
-        "sampling: {{step: {}, angle_step: {}}}",
-        num(job.sampling.step / l, 9),
-        num(job.sampling.angle_step / a, 9)
-    );
-    let _ = writeln!(out, "waypoints:");
-    for (i, w) in job.waypoints.iter().enumerate() {
-        let mut line = format!(
-            "  - {{name: {}, {}",
-            quoted(&job.waypoint_name(i)),
-            pose_fields(job, &w.work_T_tcp)
-        );
-        if i > 0 {
-            if w.motion == Motion::Joint {
-                line.push_str(", motion: joint");
-            }
-            if let Some(v) = w.speed {
-                let _ = write!(line, ", speed: {}", num(v / l, 9));
-            }
-            if w.process {
-                line.push_str(", process: true");
-            }
-        }
-        line.push('}');
-        let _ = writeln!(out, "{line}");
-    }
-    out
+    out.push_str(&body);
+    Ok(out)
 }
 
 #[cfg(test)]
-mod tests {
-    use super::{comment, num, quoted};
-
-    #[test]
-    fn quoted_strings_read_back_unchanged_as_one_scalar() {
-        // source: serde_yaml 0.9 as the reference YAML reader
-        let names = [
-            "plain",
-            "a\nstart_joints: [1, 2, 3, 4, 5, 6]",
-            "cr\rlf\r\n",
-            "tab\tand \"quotes\" and \\ back",
-            "nel\u{85} ls\u{2028} ps\u{2029} bom\u{feff} nul\u{0} del\u{7f}",
-            "}, start_joints: [0], x: {",
-        ];
-        for name in names {
-            let text = format!("{{name: {}, z: 1}}\n", quoted(name));
-            assert_eq!(text.lines().count(), 1, "{text:?}");
-            let v: serde_yaml::Mapping = serde_yaml::from_str(&text).unwrap();
-            assert_eq!(v.len(), 2, "{text:?}");
-            assert_eq!(v["name"].as_str(), Some(name));
-        }
-    }
-
-    #[test]
-    fn comments_stay_on_one_line() {
-        // source: common practice (a YAML comment ends at the line break)
-        let c = comment("segment 1 (a\nspeed: 1 → b\u{2028}c)");
-        assert_eq!(c, "segment 1 (a\\nspeed: 1 → b\\u2028c)");
-        let v: Option<serde_yaml::Value> = serde_yaml::from_str(&format!("# {c}\n")).unwrap();
-        assert!(v.is_none_or(|v| v.is_null()));
-    }
-
-    #[test]
-    fn numbers_lose_trailing_zeros_only() {
-        // source: common practice (fixed-point formatting)
-        assert_eq!(num(20.0, 9), "20");
-        assert_eq!(num(-0.0000000001, 9), "0");
-        assert_eq!(num(46.6, 9), "46.6");
-        assert_eq!(num(100.0, 0), "100");
-    }
-}
+mod tests;

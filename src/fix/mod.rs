@@ -241,7 +241,7 @@ pub fn fix(job: &Job, out: &Path, options: &CheckOptions) -> Result<FixReport> {
             "A simulated kinematic check is not a safety assessment: verify on the real cell, first runs at reduced speed.".to_string(),
         ];
         header.extend(changes.iter().map(|c| format!("- {c}")));
-        let text = emit::path_file(&amended, &header);
+        let text = emit::path_file(&amended, &header)?;
         crate::output::write_all(out, text.as_bytes())?;
         let reloaded = job::load(out, &Overrides::default()).map_err(|e| {
             Error::input(
