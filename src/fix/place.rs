@@ -314,15 +314,21 @@ pub fn best_per_cell(placements: &[Placement]) -> Vec<Placement> {
 /// The result of `armpath place`: the best placements and how long the search took.
 #[derive(Debug, Clone, serde::Serialize)]
 pub struct PlaceReport {
+    /// The path file searched, as given.
     pub file: String,
+    /// Length unit of the offsets (the path file's).
     pub length_unit: &'static str,
+    /// Angle unit of the yaw offsets (the path file's).
     pub angle_unit: &'static str,
     /// Placements checked.
     pub placements: usize,
+    /// Wall-clock time of the search (s).
     pub seconds: f64,
+    /// Worker threads the search ran on.
     pub threads: usize,
     /// The best placements, best first.
     pub best: Vec<Placement>,
+    /// The cautions every report carries.
     pub cautions: Vec<&'static str>,
 }
 

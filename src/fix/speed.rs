@@ -41,6 +41,8 @@ pub struct RatioSink {
 }
 
 impl RatioSink {
+    /// A sink for the segments of `job`, every ratio 0 (nothing seen yet), measured against
+    /// the job's tool angular speed limit and joint speed scale.
     pub fn new(job: &Job) -> Self {
         RatioSink {
             worst: vec![(0.0, None); job.waypoints.len().saturating_sub(1)],
@@ -75,10 +77,15 @@ impl SampleSink for RatioSink {
 /// The speed finding of one segment (SI: m/s).
 #[derive(Debug, Clone, serde::Serialize)]
 pub struct SegmentSpeed {
+    /// Segment index (0 = from the first waypoint to the second).
     pub segment: usize,
+    /// Name of the waypoint the segment starts at.
     pub from: String,
+    /// Name of the waypoint the segment ends at.
     pub to: String,
+    /// Motion of the segment.
     pub motion: Motion,
+    /// A process segment (one speed along a run of them).
     pub process: bool,
     /// Programmed TCP speed (m/s).
     pub programmed: f64,

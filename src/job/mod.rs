@@ -184,6 +184,8 @@ impl std::fmt::Display for ConfigRequest {
 /// prismatic (see [`StartJoints::to_si`]).
 #[derive(Debug, Clone)]
 pub struct StartJoints {
+    /// One value per joint of the chain, in the units they were given in (revolute values in
+    /// the angle unit, prismatic ones in the length unit).
     pub values: Vec<f64>,
     /// Multiply a revolute value by this to get rad.
     pub angle_to_rad: f64,
@@ -268,16 +270,21 @@ pub struct Job {
     pub robot: PathBuf,
     /// Tip link of the chain, if chosen.
     pub tip: Option<String>,
+    /// The tool mounted on the tip link (default: TCP at the tip-link frame).
     pub tool: Tool,
     /// Pose of the work frame in the robot base frame; waypoints are given in the work frame.
     pub base_T_work: Isometry3<f64>,
+    /// Joints at the first waypoint, if given (file or command line).
     pub start_joints: Option<StartJoints>,
+    /// Arm configuration asked for at the first pose (each part `None` = free).
     pub config: ConfigRequest,
     /// Programmed TCP speed (m/s), > 0.
     pub speed: f64,
     /// Programmed reorientation speed (rad/s), > 0, if set.
     pub orientation_speed: Option<f64>,
+    /// Limits the assessment applies, in SI.
     pub limits: Limits,
+    /// Sampling density along the path, in SI.
     pub sampling: Sampling,
     /// The units the file was written in (for echoing values back to the user).
     pub units: Units,
@@ -287,6 +294,7 @@ pub struct Job {
     pub waypoints: Arc<Vec<Waypoint>>,
     /// One name per waypoint (shared with the report).
     pub names: WaypointNames,
+    /// Problems in the input that armpath worked around, in the order found.
     pub warnings: Vec<InputWarning>,
 }
 

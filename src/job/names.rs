@@ -28,6 +28,7 @@ impl WaypointNames {
         self.0.count
     }
 
+    /// True when there are no waypoints.
     pub fn is_empty(&self) -> bool {
         self.0.count == 0
     }
@@ -77,6 +78,7 @@ pub struct NamesBuilder {
 }
 
 impl NamesBuilder {
+    /// An empty builder.
     pub fn new() -> Self {
         Self::default()
     }
@@ -102,10 +104,12 @@ impl NamesBuilder {
         self.count
     }
 
+    /// True when nothing was pushed yet.
     pub fn is_empty(&self) -> bool {
         self.count == 0
     }
 
+    /// The shared name store of the names pushed, in push order.
     pub fn finish(mut self) -> WaypointNames {
         self.text.shrink_to_fit();
         self.ends.shrink_to_fit();

@@ -99,7 +99,9 @@ impl AngleUnit {
 /// The units a file (or the command-line overrides) is written in. Default: mm and deg.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
 pub struct Units {
+    /// Unit of lengths (and, per second, of TCP speeds).
     pub length: LengthUnit,
+    /// Unit of angles (and, per second, of angular speeds).
     pub angle: AngleUnit,
 }
 
