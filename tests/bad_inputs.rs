@@ -90,7 +90,7 @@ const LIMIT: &str =
     "<axis xyz=\"0 0 1\"/><limit lower=\"-1\" upper=\"1\" effort=\"1\" velocity=\"1\"/>";
 
 /// Size of the catalogue when its last case was added; it may only grow.
-const FLOOR: usize = 112;
+const FLOOR: usize = 113;
 
 /// A valid path file head: robot and speed (2 lines), then whatever follows.
 const HEAD: &str = "robot: arm6.urdf\nspeed: 20\n";
@@ -419,6 +419,15 @@ fn cases() -> Vec<Case> {
         case("cli: ik with a zero quaternion", vec![], &["ik", "arm6.urdf", "--pose", "900,0,900,0,0,0,0"], &["--pose:", "zero length", "qw,qx,qy,qz"]),
         case("cli: robot --json to a folder", vec![("out", Entry::Folder)], &["robot", "arm6.urdf", "--json", "out"], &["--json:", "is a folder"]),
         case("check: sample cap exceeded mid-run", vec![good()], &["check", "good.yaml", "--max-samples", "1"], &["good.yaml: sampling:", "--max-samples N"]),
+        // fix amends this path (its speed is too high) and must write the start joints in the
+        // file's mm and deg, which it cannot for values given in rad and m without knowing
+        // each joint's kind.
+        case(
+            "fix: --start-joints in other units than the path file",
+            vec![text("w.yaml", std::fs::read_to_string(repo("paths/wrist_crossing.yaml")).unwrap().replace("../robots/arm6.urdf", "arm6.urdf"))],
+            &["fix", "w.yaml", "--out", "o.yaml", "--units", "m,rad", "--start-joints", "0,0,0,0,0,0", "--start-joints-as-seed"],
+            &["--start-joints:", "other units than the path file", "--units mm,deg"],
+        ),
     ]
 }
 
