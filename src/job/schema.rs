@@ -25,6 +25,7 @@ use serde::de::{self, Deserializer, MapAccess, SeqAccess, Visitor};
 use serde::{Deserialize, Serialize};
 use std::fmt;
 
+/// The top level of a path file. Every key is optional except `speed` (which `--speed` may
 /// supply instead), `robot` (or `--robot`) and `waypoints`. Unknown keys are errors.
 #[derive(Debug, Default, Deserialize, Serialize)]
 #[serde(

@@ -17,6 +17,7 @@ const SAME_POSITION: f64 = 1e-9;
 /// Two consecutive orientations closer than this (rad) are the same, for the same reason.
 const SAME_ORIENTATION: f64 = 1e-9;
 
+/// The waypoints as read from a file, in their compact form, with what later checks need
 /// for their messages.
 #[derive(Debug)]
 pub(super) struct Loaded {

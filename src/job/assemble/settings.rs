@@ -9,6 +9,7 @@ use nalgebra::Isometry3;
 
 // Defaults. Each is in SI; the comment says why it was chosen.
 
+/// 90 deg/s: a common process bound on tool reorientation speed in seam work (gluing,
 /// welding, deburring), slow enough that the process is not disturbed by the tool turning.
 const DEFAULT_TOOL_ANGULAR_SPEED_DEG_S: f64 = 90.0;
 /// 1.0: the URDF velocity limits are the robot's own; use them in full unless told otherwise.
