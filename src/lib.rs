@@ -37,5 +37,6 @@ pub mod rng;
 pub mod robot;
 pub mod rotation;
 pub mod solve;
+pub mod units_display;
 
 pub use error::{Error, Result};

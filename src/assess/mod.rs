@@ -12,13 +12,10 @@ pub use finding::{Finding, Kind, Quantity, Severity};
 
 use crate::job::{Job, Motion};
 use crate::plan::Plan;
+pub use crate::robot::DEFAULT_SINGULARITY_THRESHOLD;
+
 use crate::robot::{Robot, SingularityClass, MAX_DOF};
 use crate::solve::{Reach, SampleRecord, SampleSink};
-
-/// Singularity-measure threshold below which a `singularity` warning is raised. On the demo
-/// arm 0.01 corresponds to the wrist within about 3.5° of alignment (axes 4 and 6), where
-/// joints 4 and 6 turn about 16 times faster than the tool.
-pub const DEFAULT_SINGULARITY_THRESHOLD: f64 = 0.01;
 
 /// Speeds within this relative tolerance of their limit count as at the limit, not above:
 /// a segment timed exactly at a limit must not be flagged through rounding.

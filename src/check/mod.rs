@@ -3,7 +3,7 @@
 
 mod outcome;
 
-pub use outcome::{Advice, CheckOutcome, Feasibility, FirstStop};
+pub use outcome::{Advice, CheckOutcome, Feasibility, FirstStop, NonFinite, Verdict};
 
 use crate::assess::Finding;
 use crate::assess::{Assessor, Thresholds};
@@ -90,10 +90,10 @@ pub fn check(
                     format!(
                         "{} = {:.3} is outside its range {:.3} … {:.3} ({}): give joints inside the robot's limits",
                         j.name,
-                        crate::report::joint_display(j.kind, *v),
-                        crate::report::joint_display(j.kind, j.lower),
-                        crate::report::joint_display(j.kind, j.upper),
-                        crate::report::joint_unit(j.kind)
+                        crate::units_display::joint_display(j.kind, *v),
+                        crate::units_display::joint_display(j.kind, j.lower),
+                        crate::units_display::joint_display(j.kind, j.upper),
+                        crate::units_display::joint_unit(j.kind)
                     ),
                 ));
             }

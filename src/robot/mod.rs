@@ -14,7 +14,7 @@ pub use ranges::{
     check_offset, check_pose, MAX_EFFORT, MAX_JOINT_SPEED, MAX_LENGTH_M, MAX_ORIGIN_ANGLE_RAD,
     MAX_REVOLUTE_TURNS, MIN_JOINT_SPEED,
 };
-pub use singularity::{SingularityClass, SingularityModel};
+pub use singularity::{SingularityClass, SingularityModel, DEFAULT_SINGULARITY_THRESHOLD};
 pub use wrist::{spherical_wrist, WristCheck, AXIS_ANGLE_TOLERANCE};
 
 use nalgebra::{Isometry3, Vector3};

@@ -9,6 +9,11 @@
 use super::{scaled_jjt, spherical_wrist, Chain, Jacobian, Robot, MAX_DOF};
 use nalgebra::{Isometry3, Vector3};
 
+/// Singularity-measure threshold below which a `singularity` warning is raised. On the demo
+/// arm 0.01 corresponds to the wrist within about 3.5° of alignment (axes 4 and 6), where
+/// joints 4 and 6 turn about 16 times faster than the tool.
+pub const DEFAULT_SINGULARITY_THRESHOLD: f64 = 0.01;
+
 /// The three classic singularities of a 6-axis arm with a spherical wrist.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
 #[serde(rename_all = "snake_case")]

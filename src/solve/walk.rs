@@ -56,7 +56,7 @@ impl<'a> Walker<'a> {
             jump_ik: NumericIk::unlimited(robot, options),
             follower: Box::new(NumericContinuity::new(robot, options)),
             light: false,
-            class_below: crate::assess::DEFAULT_SINGULARITY_THRESHOLD,
+            class_below: crate::robot::DEFAULT_SINGULARITY_THRESHOLD,
             reach_centre,
             reach_radius,
         }

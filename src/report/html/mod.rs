@@ -11,6 +11,7 @@
 mod data;
 mod envelope;
 mod figures;
+mod inputs;
 mod page;
 mod plots;
 mod views;
