@@ -146,6 +146,9 @@ pub struct IkOutcome {
     pub orientation_error: f64,
     /// Iterations used.
     pub iterations: u32,
+    /// Random restarts run after the seed's solve failed
+    /// ([`NumericIk::solve_with_restarts`]; 0 from the other solves).
+    pub restarts: u32,
 }
 
 /// A numerical IK solver bound to one robot (with its tool). Cheap to build; holds copies of
@@ -427,6 +430,7 @@ impl<'r> NumericIk<'r> {
             position_error: err.fixed_rows::<3>(0).norm(),
             orientation_error: err.fixed_rows::<3>(3).norm(),
             iterations,
+            restarts: 0,
         }
     }
 
@@ -450,7 +454,9 @@ impl<'r> NumericIk<'r> {
         let mut rng = crate::rng::SplitMix64::new(0x1c0d_e5ee);
         let mut start = [0.0; MAX_DOF];
         let mut q = [0.0; MAX_DOF];
+        let mut tried = 0;
         for _ in 0..restarts {
+            tried += 1;
             self.robot.random_config(&mut rng, &mut start[..n]);
             let out = self.solve(target, &start[..n], &mut q[..n]);
             if out.converged || self.score(&out) < self.score(&best) {
@@ -462,6 +468,7 @@ impl<'r> NumericIk<'r> {
             }
         }
         q_out[..n].copy_from_slice(&best_q[..n]);
+        best.restarts = tried;
         best
     }
 }
@@ -480,5 +487,22 @@ mod tests {
         let ours = solve_spd6(&a, &b).unwrap();
         assert!((ours - reference).norm() < 1e-12);
         assert!(solve_spd6(&(-a), &b).is_none());
+    }
+
+    #[test]
+    fn restarts_are_counted_only_after_the_seed_fails() {
+        // source: common practice (a target 10 m out is beyond any 2 m arm, so every restart
+        // runs; the pose of the seed itself converges at once)
+        let dir = std::path::Path::new(env!("CARGO_MANIFEST_DIR"));
+        let robot = crate::robot::load_urdf(&dir.join("robots/arm6.urdf"), None).unwrap();
+        let ik = NumericIk::new(&robot, IkOptions::default());
+        let seed = [0.1, 0.2, -0.3, 0.4, 0.5, 0.6];
+        let mut q = [0.0; 6];
+        let near = robot.chain().fk(&seed);
+        assert_eq!(ik.solve_with_restarts(&near, &seed, 5, &mut q).restarts, 0);
+        let far = Isometry3::translation(10.0, 0.0, 0.0);
+        let out = ik.solve_with_restarts(&far, &seed, 5, &mut q);
+        assert!(!out.converged);
+        assert_eq!(out.restarts, 5);
     }
 }

@@ -23,6 +23,11 @@ pub(crate) struct Solved {
     pub orientation_error: f64,
     /// The configuration's branch ended and the walk went on in another, (from, to).
     pub config_change: Option<(Config, Config)>,
+    /// The solve ran a full search after failing: a random-restart search or the closed
+    /// form's numerical distance probe.
+    pub full_search: bool,
+    /// Random restarts the full search ran.
+    pub restarts: u32,
 }
 
 impl Solved {
@@ -34,6 +39,17 @@ impl Solved {
             position_error,
             orientation_error,
             config_change: None,
+            full_search: false,
+            restarts: 0,
+        }
+    }
+
+    /// The same solve, marked as having run a full search with `restarts` random restarts.
+    fn searched(self, restarts: u32) -> Self {
+        Solved {
+            full_search: true,
+            restarts,
+            ..self
         }
     }
 
@@ -122,11 +138,12 @@ impl Follower for NumericContinuity<'_> {
         let alt =
             self.limited
                 .solve_with_restarts(base_T_target, &last_good[..n], RESTARTS, &mut q[..n]);
-        if alt.converged {
+        let solved = if alt.converged {
             Solved::reached(q, alt.position_error, alt.orientation_error)
         } else {
             Solved::unreachable(*last_good, alt.position_error, alt.orientation_error)
-        }
+        };
+        solved.searched(alt.restarts)
     }
 
     fn move_end(&mut self, base_T_end: &Isometry3<f64>, q0: &[f64; MAX_DOF]) -> Solved {
@@ -135,10 +152,15 @@ impl Follower for NumericContinuity<'_> {
         let out = self
             .limited
             .solve_with_restarts(base_T_end, &q0[..n], RESTARTS, &mut q1[..n]);
-        if out.converged {
+        let solved = if out.converged {
             Solved::reached(q1, out.position_error, out.orientation_error)
         } else {
             Solved::unreachable(*q0, out.position_error, out.orientation_error)
+        };
+        if out.restarts > 0 {
+            solved.searched(out.restarts)
+        } else {
+            solved
         }
     }
 
@@ -253,6 +275,7 @@ impl Follower for ClosedBranch<'_> {
                 .limited
                 .solve(base_T_target, &last_good[..n], &mut probe_q[..n]);
             *probe = (out.position_error, out.orientation_error);
+            return Solved::unreachable(*last_good, probe.0, probe.1).searched(0);
         }
         Solved::unreachable(*last_good, probe.0, probe.1)
     }
@@ -281,7 +304,7 @@ impl Follower for ClosedBranch<'_> {
             }
             None => {
                 let out = self.limited.solve(base_T_end, &q0[..n], &mut q1[..n]);
-                Solved::unreachable(*q0, out.position_error, out.orientation_error)
+                Solved::unreachable(*q0, out.position_error, out.orientation_error).searched(0)
             }
         }
     }

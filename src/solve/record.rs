@@ -87,4 +87,16 @@ pub struct WalkTotals {
     pub length: f64,
     /// Time of the last sample (s).
     pub duration: f64,
+    /// Targets handed to a solver: linear samples and joint-move ends inside the reach
+    /// sphere, and the jump test's Cartesian midpoints. A bound on the walk's work that does
+    /// not depend on the machine's speed.
+    pub ik_solves: usize,
+    /// Full searches after a failed solve: random-restart searches, or the closed form's
+    /// numerical probes of how far an unreachable pose is.
+    pub full_searches: usize,
+    /// Random restarts those searches ran (at most [`super::RESTARTS`] each).
+    pub restarts: usize,
+    /// Samples settled by the reach sphere alone ([`crate::robot::Robot::reach_bound`]),
+    /// without any solve.
+    pub beyond_reach: usize,
 }

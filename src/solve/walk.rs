@@ -98,6 +98,7 @@ impl<'a> Walker<'a> {
             last_good: [0.0; MAX_DOF],
             unreachable_run: 0,
             probe: (0.0, 0.0),
+            work: WalkTotals::default(),
         };
         state.last_good[..n].copy_from_slice(&start.joints);
         self.follower.begin(start, self.light);
@@ -147,6 +148,7 @@ impl<'a> Walker<'a> {
             samples: state.index,
             length: state.s,
             duration: state.t,
+            ..state.work
         }
     }
 
@@ -207,15 +209,18 @@ impl<'a> Walker<'a> {
     ) -> Solved {
         if let Some(excess) = self.beyond_reach(base_T_target) {
             state.probe = (excess, 0.0);
+            state.work.beyond_reach += 1;
             return Solved::unreachable(state.last_good, excess, 0.0);
         }
         let full_search = state.unreachable_run.is_multiple_of(RECOVER_EVERY) || segment_end;
-        self.follower.sample(
+        let solved = self.follower.sample(
             base_T_target,
             &state.last_good,
             full_search,
             &mut state.probe,
-        )
+        );
+        state.count(&solved);
+        solved
     }
 
     /// Samples and time step of a joint move from `q0` to `q1`: no joint moves more than one
@@ -254,8 +259,15 @@ impl<'a> Walker<'a> {
         let n = self.robot.dof();
         let q0 = state.last_good;
         let end = match self.beyond_reach(&seg.end) {
-            Some(excess) => Solved::unreachable(q0, excess, 0.0),
-            None => self.follower.move_end(&seg.end, &q0),
+            Some(excess) => {
+                state.work.beyond_reach += 1;
+                Solved::unreachable(q0, excess, 0.0)
+            }
+            None => {
+                let end = self.follower.move_end(&seg.end, &q0);
+                state.count(&end);
+                end
+            }
         };
         if end.reach == Reach::Unreachable {
             self.emit(
@@ -317,6 +329,7 @@ impl<'a> Walker<'a> {
             position_error,
             orientation_error,
             config_change,
+            ..
         } = a.solved;
         let (singularity, singularity_class) = if self.light {
             (1.0, None)
@@ -344,7 +357,7 @@ impl<'a> Walker<'a> {
             }
             let both_reached = prev.reach == Reach::Reached && reach == Reach::Reached;
             if both_reached && a.check_jump {
-                jump = self.find_jump(prev, &a.target, &q);
+                jump = self.find_jump(prev, &a.target, &q, &mut state.work.ik_solves);
                 if let Some(change) = config_change {
                     // A change of configuration is a jump whatever the midpoint test says.
                     let mut delta = [0.0; MAX_DOF];
@@ -406,6 +419,7 @@ impl<'a> Walker<'a> {
         prev: &SampleRecord,
         target: &Isometry3<f64>,
         q: &[f64; MAX_DOF],
+        ik_solves: &mut usize,
     ) -> Option<Jump> {
         let n = self.robot.dof();
         let opts = self.options;
@@ -435,6 +449,7 @@ impl<'a> Walker<'a> {
             }
             let mut qs = [0.0; MAX_DOF];
             let out = self.jump_ik.solve(&cart_mid, &qm[..n], &mut qs[..n]);
+            *ik_solves += 1;
             if !out.converged {
                 // The midpoint itself cannot be solved from here: the step crosses a
                 // singularity or a branch boundary.
@@ -482,6 +497,17 @@ struct State {
     unreachable_run: usize,
     /// Distance (position m, orientation rad) of the last measured unreachable sample.
     probe: (f64, f64),
+    /// The work counters of [`WalkTotals`] (its other fields stay zero here).
+    work: WalkTotals,
+}
+
+impl State {
+    /// Count one solve handed to the follower.
+    fn count(&mut self, solved: &Solved) {
+        self.work.ik_solves += 1;
+        self.work.full_searches += usize::from(solved.full_search);
+        self.work.restarts += solved.restarts as usize;
+    }
 }
 
 /// One sample to emit: where it is on the path and what was solved there.
