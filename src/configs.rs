@@ -7,7 +7,7 @@ use crate::ik::analytic::{Config, OrthoParallel};
 use crate::ik::IkOptions;
 use crate::job::Job;
 use crate::plan::Plan;
-use crate::robot::{Robot, SingularityModel};
+use crate::robot::{Joints, Robot, SingularityModel};
 use crate::solve::{
     best_in_config, Reach, SampleRecord, SampleSink, StartChoice, StartMethod, Walker,
 };
@@ -44,7 +44,7 @@ pub struct Feasibility {
     /// The first error that would stop the walk in this configuration.
     pub first_stop: Option<FirstStop>,
     /// Joints at the first waypoint in this configuration (rad / m), if it reaches it.
-    pub start_joints: Option<Vec<f64>>,
+    pub start_joints: Option<Joints>,
 }
 
 impl Feasibility {
@@ -119,7 +119,7 @@ pub fn feasibility(
             };
             let choice = StartChoice {
                 method: StartMethod::Configuration,
-                joints: start.to_vec(),
+                joints: start,
                 alternatives: 0,
                 config: Some(config),
             };
@@ -131,7 +131,7 @@ pub fn feasibility(
             Feasibility {
                 config,
                 first_stop: stop.first,
-                start_joints: Some(start.to_vec()),
+                start_joints: Some(start),
             }
         })
         .collect()

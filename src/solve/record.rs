@@ -2,7 +2,7 @@
 
 use crate::ik::analytic::Config;
 use crate::job::Motion;
-use crate::robot::{Robot, SingularityClass, MAX_DOF};
+use crate::robot::{Joints, Robot, SingularityClass};
 use nalgebra::Isometry3;
 
 /// How the joints of a sample were obtained.
@@ -18,7 +18,7 @@ pub enum Reach {
 #[derive(Debug, Clone, Copy)]
 pub struct Jump {
     /// Joint change across the jump (rad or m), per joint.
-    pub delta: [f64; MAX_DOF],
+    pub delta: Joints,
     /// With the closed-form solver: the arm configuration ended here and the walk went on in
     /// another one, (from, to).
     pub config_change: Option<(Config, Config)>,
@@ -49,11 +49,11 @@ pub struct SampleRecord {
     pub position_error: f64,
     /// Remaining IK orientation error (rad).
     pub orientation_error: f64,
-    /// Joints (first `dof` entries meaningful).
-    pub joints: [f64; MAX_DOF],
+    /// Joints (rad / m), `dof` of them.
+    pub joints: Joints,
     /// Joint speeds since the previous sample (rad/s or m/s; 0 for the first and across a
-    /// jump or an unreachable sample, where a speed has no meaning).
-    pub joint_speed: [f64; MAX_DOF],
+    /// jump or an unreachable sample, where a speed has no meaning), `dof` of them.
+    pub joint_speed: Joints,
     /// Tool angular speed since the previous sample (rad/s).
     pub tool_angular_speed: f64,
     /// Singularity measure (see [`crate::robot::SingularityModel::measure`]).
