@@ -2,7 +2,7 @@
 //! tool, work frame, segments, arm configurations), user text escaped.
 
 use super::data::PlotData;
-use super::page::escape;
+use super::markup::escape;
 use crate::job::Motion;
 use crate::report::kinematics::PoseReport;
 use crate::report::{count, Report};

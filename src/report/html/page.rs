@@ -1,10 +1,11 @@
 //! The page: one self-contained HTML document (inline CSS and inline SVG, no scripts, no
 //! links to anything outside the file, generic font families). All text that comes from the
-//! user's files (names, paths, messages) is escaped here.
+//! user's files (names, paths, messages) is escaped ([`escape`]).
 
 use super::data::PlotData;
 use super::figures::{self, Figures, Place};
 use super::inputs::settings;
+use super::markup::escape;
 use super::plots::Figure;
 use crate::assess::Severity;
 use crate::report::{count, FindingReport, Report, Verdict};
@@ -12,22 +13,6 @@ use std::fmt::Write;
 
 /// Rows of the findings table; the rest are counted (the JSON report lists them all).
 pub const MAX_ROWS: usize = 500;
-
-/// Escape text for HTML element content and quoted attribute values.
-pub fn escape(text: &str) -> String {
-    let mut o = String::with_capacity(text.len());
-    for c in text.chars() {
-        match c {
-            '&' => o.push_str("&amp;"),
-            '<' => o.push_str("&lt;"),
-            '>' => o.push_str("&gt;"),
-            '"' => o.push_str("&quot;"),
-            '\'' => o.push_str("&#39;"),
-            other => o.push(other),
-        }
-    }
-    o
-}
 
 /// The page style (inline in every page).
 const STYLE: &str = include_str!("style.css");
@@ -417,20 +402,4 @@ fn views(o: &mut String, figs: &Figures) {
     figure(o, "view-side", "<b>Side view</b> x–z, from −y", side);
     figure(o, "view-end", "<b>End view</b> y–z, from +x", end);
     o.push_str("</div>\n");
-}
-
-#[cfg(test)]
-mod tests {
-    use super::*;
-
-    #[test]
-    fn escaping_covers_markup_and_quotes() {
-        // source: HTML Living Standard, "escaping a string" (&, <, >, " and ' in attributes)
-        assert_eq!(
-            escape(r#"<script>alert("x&y")</script> it's"#),
-            "&lt;script&gt;alert(&quot;x&amp;y&quot;)&lt;/script&gt; it&#39;s"
-        );
-        assert_eq!(escape("plain ø → ✓"), "plain ø → ✓");
-        assert_eq!(escape("&amp;"), "&amp;amp;");
-    }
 }
