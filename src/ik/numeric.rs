@@ -247,7 +247,7 @@ impl<'r> NumericIk<'r> {
     }
 
     /// Solve for `base_T_tcp = target`, starting at `seed` (`dof` joints, clamped into the
-    /// limits; missing ones count as zero). Writes the best joints found to `q_out` (`dof`
+    /// limits; missing ones start at zero). Writes the best joints found to `q_out` (`dof`
     /// joints) whether or not it converged. Allocation-free.
     pub fn solve(&self, target: &Isometry3<f64>, seed: &Joints, q_out: &mut Joints) -> IkOutcome {
         let n = self.robot.dof();

@@ -197,8 +197,9 @@ impl Chain {
         self.tip_T_tcp
     }
 
-    /// Pose of the TCP in the base frame at joint positions `q` (rad / m, `q.len() == dof`;
-    /// missing joints count as zero, extra ones are ignored).
+    /// Pose of the TCP in the base frame at joint positions `q` (rad / m). Contract:
+    /// `q.len() == dof`; extra values are ignored, and a shorter `q` stops at its last joint
+    /// (a meaningless pose, never a panic).
     #[inline]
     pub fn fk(&self, q: &Joints) -> Isometry3<f64> {
         let q = q.as_slice();
