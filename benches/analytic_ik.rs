@@ -19,8 +19,8 @@ const TARGETS: usize = 256;
 
 struct Case {
     target: Isometry3<f64>,
-    truth: [f64; 6],
-    seed: [f64; 6],
+    truth: armpath::Joints,
+    seed: armpath::Joints,
     config: Config,
 }
 
@@ -29,9 +29,8 @@ fn cases(solver: &OrthoParallel) -> Vec<Case> {
     let mut rng = SplitMix64::new(31);
     (0..TARGETS)
         .map(|_| {
-            let mut q = [0.0; 6];
-            robot.random_config(&mut rng, &mut q);
-            let seed = std::array::from_fn(|i| q[i] + if i % 2 == 0 { 0.05 } else { -0.05 });
+            let q = robot.random_config(&mut rng);
+            let seed = q.map(|i, v| v + if i % 2 == 0 { 0.05 } else { -0.05 });
             Case {
                 target: robot.chain().fk(&q),
                 truth: q,
@@ -70,7 +69,7 @@ fn bench(c: &mut Criterion) {
     });
 
     let numeric = NumericIk::new(&robot, IkOptions::default());
-    let mut q = [0.0; 6];
+    let mut q = armpath::Joints::zeros(6);
     group.bench_function("numeric_one_solve_near_seed", |b| {
         b.iter(|| {
             i = (i + 1) % TARGETS;

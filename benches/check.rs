@@ -59,7 +59,7 @@ fn bench(c: &mut Criterion) {
         outcome.verdict().name(),
         outcome.totals.samples
     );
-    let start: Vec<f64> = outcome.start.joints.clone();
+    let start: Vec<f64> = outcome.start.joints.to_vec();
 
     // k: the same TCP (flange × tool), warm-started, same tolerances.
     let kchain = k::Chain::<f64>::from_urdf_file(format!("{root}/robots/arm6.urdf")).unwrap();

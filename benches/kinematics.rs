@@ -72,7 +72,7 @@ fn setup() -> Setup {
     let configs: Vec<[f64; 6]> = (0..N_CONFIGS)
         .map(|_| {
             let mut q = [0.0; 6];
-            robot.random_config(&mut rng, &mut q);
+            q.copy_from_slice(&robot.random_config(&mut rng));
             q
         })
         .collect();
@@ -90,14 +90,21 @@ fn setup() -> Setup {
     // Start joints: elbow up, wrist bent down (j5 = 90° turns the flange from +x to −z).
     let ik = NumericIk::new(&robot, IkOptions::default());
     let guess = [0.0, 0.0, 0.0, 0.0, PI / 2.0, 0.0];
+    let mut solved_q0 = armpath::Joints::zeros(6);
+    let out = ik.solve_with_restarts(
+        &line_pose(0),
+        &armpath::Joints::from(guess),
+        16,
+        &mut solved_q0,
+    );
     let mut line_q0 = [0.0; 6];
-    let out = ik.solve_with_restarts(&line_pose(0), &guess, 16, &mut line_q0);
+    line_q0.copy_from_slice(&solved_q0);
     assert!(out.converged, "line start not reachable: {out:?}");
     let line_targets = (1..=LINE_STEPS).map(line_pose).collect();
 
     let mut random_targets = Vec::with_capacity(N_CONFIGS);
     for q in &configs {
-        let target = robot.chain().fk(q);
+        let target = robot.chain().fk(&armpath::Joints::from_slice(q).unwrap());
         let mut seed = [0.0; 6];
         for (i, (s, j)) in seed.iter_mut().zip(robot.joints()).enumerate() {
             let sign = if rng.next_u64() & 1 == 0 { -1.0 } else { 1.0 };
@@ -129,8 +136,11 @@ fn k_solver(options: &IkOptions, multiplier: f64) -> k::JacobianIkSolver<f64> {
 /// The one success check applied to both solvers: joints within limits and the TCP within
 /// both tolerances of the target, measured with armpath's FK (which matches k's to 1e-12).
 fn solved(robot: &Robot, options: &IkOptions, q: &[f64], target: &Isometry3<f64>) -> bool {
-    let e = pose_error(&robot.chain().fk(q), target);
-    robot.within_limits(q)
+    let e = pose_error(
+        &robot.chain().fk(&armpath::Joints::from_slice(q).unwrap()),
+        target,
+    );
+    robot.within_limits(&armpath::Joints::from_slice(q).unwrap())
         && e.fixed_rows::<3>(0).norm() <= options.position_tolerance
         && e.fixed_rows::<3>(3).norm() <= options.orientation_tolerance
 }
@@ -140,7 +150,7 @@ fn check_same_kinematics(s: &Setup) {
     let mut jac = Jacobian::zeros();
     let mut worst: f64 = 0.0;
     for q in &s.configs {
-        let ours = chain.fk_jacobian(q, &mut jac);
+        let ours = chain.fk_jacobian(&armpath::Joints::from_slice(q).unwrap(), &mut jac);
         s.serial.set_joint_positions_unchecked(q);
         let theirs = s.serial.end_transform();
         worst = worst.max((ours.translation.vector - theirs.translation.vector).norm());
@@ -193,8 +203,8 @@ fn line_rates(s: &Setup, options: &IkOptions, multiplier: f64) -> Rates {
         k_ok: 0,
         total: s.line_targets.len(),
     };
-    let mut prev = s.line_q0;
-    let mut q = [0.0; 6];
+    let mut prev = armpath::Joints::from(s.line_q0);
+    let mut q = armpath::Joints::zeros(6);
     s.serial.set_joint_positions_unchecked(&s.line_q0);
     for target in &s.line_targets {
         let out = ik.solve(target, &prev, &mut q);
@@ -218,9 +228,9 @@ fn random_rates(s: &Setup, options: &IkOptions, multiplier: f64) -> Rates {
         k_ok: 0,
         total: s.random_targets.len(),
     };
-    let mut q = [0.0; 6];
+    let mut q = armpath::Joints::zeros(6);
     for (target, seed) in &s.random_targets {
-        let out = ik.solve(target, seed, &mut q);
+        let out = ik.solve(target, &armpath::Joints::from(*seed), &mut q);
         r.ours_iterations += u64::from(out.iterations);
         r.ours += usize::from(out.converged && solved(&s.robot, options, &q, target));
         s.serial.set_joint_positions_unchecked(seed);
@@ -231,13 +241,22 @@ fn random_rates(s: &Setup, options: &IkOptions, multiplier: f64) -> Rates {
     r
 }
 
+/// The benchmark configurations as armpath joint vectors, made before timing.
+fn joint_vectors(s: &Setup) -> Vec<armpath::Joints> {
+    s.configs
+        .iter()
+        .map(|q| armpath::Joints::from(*q))
+        .collect()
+}
+
 fn bench_fk(c: &mut Criterion, s: &Setup) {
     let chain = s.robot.chain();
     let mut g = c.benchmark_group("fk");
+    let configs = joint_vectors(s);
     g.bench_function("armpath", |b| {
         let mut i = 0;
         b.iter(|| {
-            let q = &s.configs[i % N_CONFIGS];
+            let q = &configs[i % N_CONFIGS];
             i += 1;
             black_box(chain.fk(black_box(q)))
         })
@@ -257,11 +276,12 @@ fn bench_fk(c: &mut Criterion, s: &Setup) {
 fn bench_jacobian(c: &mut Criterion, s: &Setup) {
     let chain = s.robot.chain();
     let mut g = c.benchmark_group("jacobian");
+    let configs = joint_vectors(s);
     g.bench_function("armpath", |b| {
         let mut i = 0;
         let mut jac = Jacobian::zeros();
         b.iter(|| {
-            let q = &s.configs[i % N_CONFIGS];
+            let q = &configs[i % N_CONFIGS];
             i += 1;
             let pose = chain.fk_jacobian(black_box(q), &mut jac);
             black_box((&pose, &jac));
@@ -292,12 +312,12 @@ fn bench_ik_line(c: &mut Criterion, s: &Setup) {
         // solution with its pose and Jacobian already evaluated (`solve_warm`).
         let mut i = 0;
         let mut warm = WarmStart::new();
-        warm.reset(&s.line_q0);
-        let mut q = [0.0; 6];
+        warm.reset(&armpath::Joints::from_slice(&s.line_q0).unwrap());
+        let mut q = armpath::Joints::zeros(6);
         b.iter(|| {
             if i == LINE_STEPS {
                 i = 0;
-                warm.reset(&s.line_q0);
+                warm.reset(&armpath::Joints::from_slice(&s.line_q0).unwrap());
             }
             black_box(ik.solve_warm(&s.line_targets[i], &mut warm, &mut q));
             i += 1;
@@ -332,9 +352,15 @@ fn bench_ik_random(c: &mut Criterion, s: &Setup) {
     let mut g = c.benchmark_group("ik_random");
     g.bench_function("armpath", |b| {
         let mut i = 0;
-        let mut q = [0.0; 6];
+        let mut q = armpath::Joints::zeros(6);
+        let seeds: Vec<armpath::Joints> = s
+            .random_targets
+            .iter()
+            .map(|(_, seed)| armpath::Joints::from(*seed))
+            .collect();
         b.iter(|| {
-            let (target, seed) = &s.random_targets[i % N_CONFIGS];
+            let (target, _) = &s.random_targets[i % N_CONFIGS];
+            let seed = &seeds[i % N_CONFIGS];
             i += 1;
             black_box(ik.solve(target, seed, &mut q));
         })

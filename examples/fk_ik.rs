@@ -16,7 +16,9 @@ fn main() -> Result<(), armpath::Error> {
         UnitQuaternion::identity(),
     ));
     let q_true = [0.2, 0.4, -0.3, 0.5, 1.1, -0.4];
-    let base_T_tcp = robot.chain().fk(&q_true);
+    let base_T_tcp = robot
+        .chain()
+        .fk(&armpath::Joints::from_slice(&q_true).unwrap());
     println!(
         "{} ({} joints): TCP at {:.1?} mm",
         robot.name(),
@@ -25,12 +27,16 @@ fn main() -> Result<(), armpath::Error> {
     );
     let ik = NumericIk::new(&robot, IkOptions::default());
     let seed: Vec<f64> = q_true.iter().map(|v| v + 0.1).collect();
-    let mut q = [0.0; 6];
-    let out = ik.solve(&base_T_tcp, &seed, &mut q);
+    let mut q = armpath::Joints::zeros(6);
+    let out = ik.solve(
+        &base_T_tcp,
+        &armpath::Joints::from_slice(&seed).unwrap(),
+        &mut q,
+    );
     println!(
         "IK from a seed 0.1 rad off: converged {} in {} iterations, residual {:.2e} m / {:.2e} rad",
         out.converged, out.iterations, out.position_error, out.orientation_error
     );
-    println!("joints (deg): {:.3?}", q.map(f64::to_degrees));
+    println!("joints (deg): {:.3?}", q.map(|_, v| v.to_degrees()));
     Ok(())
 }

@@ -7,7 +7,7 @@ use crate::ik::analytic::{Config, OrthoParallel};
 use crate::ik::IkOptions;
 use crate::job::Job;
 use crate::plan::Plan;
-use crate::robot::{Robot, SingularityModel};
+use crate::robot::{Joints, Robot, SingularityModel};
 use crate::solve::{
     best_in_config, Reach, SampleRecord, SampleSink, StartChoice, StartMethod, Walker,
 };
@@ -41,18 +41,27 @@ impl FirstStop {
 pub struct Feasibility {
     /// The configuration walked.
     pub config: Config,
-    /// The whole path runs in this configuration without unreachable, joint-limit or jump
-    /// errors.
-    pub runs: bool,
     /// The first error that would stop the walk in this configuration.
     pub first_stop: Option<FirstStop>,
     /// Joints at the first waypoint in this configuration (rad / m), if it reaches it.
-    pub start_joints: Option<Vec<f64>>,
+    pub start_joints: Option<Joints>,
+}
+
+impl Feasibility {
+    /// The whole path runs in this configuration without unreachable, joint-limit or jump
+    /// errors: nothing stopped its walk.
+    pub fn runs(&self) -> bool {
+        self.first_stop.is_none()
+    }
 }
 
 /// The configurations of `table` that run the whole path, in table order.
 pub fn running(table: &[Feasibility]) -> Vec<Config> {
-    table.iter().filter(|r| r.runs).map(|r| r.config).collect()
+    table
+        .iter()
+        .filter(|r| r.runs())
+        .map(|r| r.config)
+        .collect()
 }
 
 /// Records the first stopping error of a walk.
@@ -99,7 +108,6 @@ pub fn feasibility(
             let Some(start) = best_in_config(robot, &model, solver, &target, config) else {
                 return Feasibility {
                     config,
-                    runs: false,
                     first_stop: Some(FirstStop {
                         kind: Kind::Unreachable,
                         segment: 0,
@@ -111,7 +119,7 @@ pub fn feasibility(
             };
             let choice = StartChoice {
                 method: StartMethod::Configuration,
-                joints: start.to_vec(),
+                joints: start,
                 alternatives: 0,
                 config: Some(config),
             };
@@ -122,9 +130,8 @@ pub fn feasibility(
             walker.walk(&choice, &mut stop);
             Feasibility {
                 config,
-                runs: stop.first.is_none(),
                 first_stop: stop.first,
-                start_joints: Some(start.to_vec()),
+                start_joints: Some(start),
             }
         })
         .collect()

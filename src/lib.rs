@@ -11,13 +11,14 @@
 //! ```
 //! use armpath::ik::{IkOptions, NumericIk};
 //! use armpath::robot::load_urdf;
+//! use armpath::Joints;
 //!
 //! let robot = load_urdf(std::path::Path::new("robots/arm6.urdf"), None).unwrap();
-//! let q_true = [0.1, 0.2, -0.3, 0.4, 0.5, 0.6];
+//! let q_true = Joints::from([0.1, 0.2, -0.3, 0.4, 0.5, 0.6]);
 //! let base_T_tcp = robot.chain().fk(&q_true);
 //! let ik = NumericIk::new(&robot, IkOptions::default());
-//! let mut q = [0.0; 6];
-//! let seed = q_true.map(|v| v + 0.05);
+//! let mut q = Joints::zeros(robot.dof());
+//! let seed = q_true.map(|_, v| v + 0.05);
 //! let outcome = ik.solve(&base_T_tcp, &seed, &mut q);
 //! assert!(outcome.converged && outcome.position_error < 1e-5);
 //! ```
@@ -37,5 +38,7 @@ pub mod rng;
 pub mod robot;
 pub mod rotation;
 pub mod solve;
+pub mod units_display;
 
 pub use error::{Error, Result};
+pub use robot::Joints;

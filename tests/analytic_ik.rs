@@ -29,7 +29,7 @@ fn tool() -> Isometry3<f64> {
 
 /// Position (m) and orientation (rad) error of `q` against `target`.
 fn fk_error(robot: &Robot, q: &[f64], target: &Isometry3<f64>) -> (f64, f64) {
-    let p = robot.chain().fk(q);
+    let p = robot.chain().fk(&armpath::Joints::from_slice(q).unwrap());
     (
         (p.translation.vector - target.translation.vector).norm(),
         angle_between(&p.rotation, &target.rotation),
@@ -65,7 +65,7 @@ fn max_abs_diff(a: &[f64], b: &[f64]) -> f64 {
 fn axes(robot: &Robot, q: &[f64]) -> ([Vector3<f64>; 6], [Vector3<f64>; 6]) {
     let chain = robot.chain();
     let mut frames = [Isometry3::identity(); 6];
-    chain.joint_frames(q, &mut frames);
+    chain.joint_frames(&armpath::Joints::from_slice(q).unwrap(), &mut frames);
     (
         std::array::from_fn(|i| frames[i].translation.vector),
         std::array::from_fn(|i| frames[i].rotation * chain.joints()[i].axis.into_inner()),
@@ -112,7 +112,11 @@ fn geometric_config(robot: &Robot, q: &[f64]) -> (Config, f64) {
         Elbow::Down
     };
     let u4 = d[3] * (w - p[2]).dot(&d[3]).signum();
-    let tip = robot.chain().fk_tip(q).translation.vector;
+    let tip = robot
+        .chain()
+        .fk_tip(&armpath::Joints::from_slice(q).unwrap())
+        .translation
+        .vector;
     let u6 = d[5] * (tip - w).dot(&d[5]).signum();
     let wrist_disc = u4.cross(&u6).dot(&d[4]);
     let wrist = if wrist_disc > 0.0 {
@@ -191,8 +195,8 @@ fn round_trip(robot: &Robot, solver: &OrthoParallel, count: usize, seed: u64) ->
     let mut q = [0.0; 6];
     let (mut max_p, mut max_r, mut max_true) = (0.0f64, 0.0f64, 0.0f64);
     for _ in 0..count {
-        robot.random_config(&mut rng, &mut q);
-        let target = robot.chain().fk(&q);
+        q.copy_from_slice(&robot.random_config(&mut rng));
+        let target = robot.chain().fk(&armpath::Joints::from_slice(&q).unwrap());
         let sols = solver.solve(&target);
         assert!(!sols.truncated());
         assert!(!sols.is_empty(), "no solution for the pose of {q:?}");
@@ -241,7 +245,9 @@ fn every_solution_reproduces_the_pose_on_100k_poses() {
     // set_tool on a solver built without one is the same as building it with the tool.
     let mut late = OrthoParallel::from_robot(&arm6()).unwrap();
     late.set_tool(tool());
-    let target = with_tool.chain().fk(&[0.3, 0.2, -0.4, 1.0, 0.7, -2.0]);
+    let target = with_tool
+        .chain()
+        .fk(&armpath::Joints::from_slice(&[0.3, 0.2, -0.4, 1.0, 0.7, -2.0]).unwrap());
     let (a, b) = (late.solve(&target), solver.solve(&target));
     assert_eq!(a.len(), b.len());
     for (x, y) in a.iter().zip(b.iter()) {
@@ -261,8 +267,8 @@ fn in_limit_windings_are_all_there_and_nothing_else() {
     let mut q = [0.0; 6];
     let (mut total, mut with_two_j4) = (0usize, 0usize);
     for _ in 0..3_000 {
-        robot.random_config(&mut rng, &mut q);
-        let target = robot.chain().fk(&q);
+        q.copy_from_slice(&robot.random_config(&mut rng));
+        let target = robot.chain().fk(&armpath::Joints::from_slice(&q).unwrap());
         let sols = solver.solve(&target);
         let raw = solver.solve_all(&target);
         let mut expected = 0usize;
@@ -318,23 +324,25 @@ fn solution_set_equals_what_the_numerical_solver_finds() {
     let ik = NumericIk::new(&robot, IkOptions::default());
     let psi = params.a2.atan2(params.c3);
     let canonical =
-        |q: &[f64; 6], i: usize| params.axis_signs[i] as f64 * q[i] + params.joint_offsets[i];
+        |q: &[f64], i: usize| params.axis_signs[i] as f64 * q[i] + params.joint_offsets[i];
     let mut rng = SplitMix64::new(2024);
     let mut seed_rng = SplitMix64::new(7);
     let mut q = [0.0; 6];
-    let mut seed = [0.0; 6];
-    let mut out = [0.0; 6];
+    let mut seed = armpath::Joints::zeros(6);
+    let mut out = armpath::Joints::zeros(6);
     let (mut poses, mut compared_solutions, mut seeds_used) = (0, 0, 0usize);
     while poses < 200 {
-        robot.random_config(&mut rng, &mut q);
-        let target = robot.chain().fk(&q);
+        q.copy_from_slice(&robot.random_config(&mut rng));
+        let target = robot.chain().fk(&armpath::Joints::from_slice(&q).unwrap());
         let raw = solver.solve_all(&target);
         let near_special = raw.iter().any(|s| {
             canonical(&s.joints, 4).sin().abs() < 0.1
                 || (canonical(&s.joints, 2) + psi).sin().abs() < 0.1
         }) || {
             let mut frames = [Isometry3::identity(); 6];
-            robot.chain().joint_frames(&q, &mut frames);
+            robot
+                .chain()
+                .joint_frames(&armpath::Joints::from_slice(&q).unwrap(), &mut frames);
             // source: robots/arm6.urdf: j5's origin is the wrist centre
             frames[4].translation.vector.xy().norm() < 0.05
         };
@@ -342,18 +350,18 @@ fn solution_set_equals_what_the_numerical_solver_finds() {
             continue;
         }
         poses += 1;
-        let analytic: Vec<[f64; 6]> = raw
+        let analytic: Vec<armpath::Joints> = raw
             .iter()
             .filter(|s| s.within_limits)
             .map(|s| s.joints)
             .collect();
-        let mut found: Vec<[f64; 6]> = Vec::new();
+        let mut found: Vec<armpath::Joints> = Vec::new();
         // 200 seeds first; keep going (up to 2,000) only while some analytic solution has not
         // been found, so a miss is a real miss and not bad luck of the draw.
         let mut tries = 0;
         while tries < 2_000 && (tries < 200 || found.len() < analytic.len()) {
             tries += 1;
-            robot.random_config(&mut seed_rng, &mut seed);
+            seed.copy_from_slice(&robot.random_config(&mut seed_rng));
             let o = ik.solve(&target, &seed, &mut out);
             if !o.converged {
                 continue;
@@ -397,8 +405,8 @@ fn configuration_labels_follow_their_geometric_definitions() {
         let mut q = [0.0; 6];
         let mut seen = [0usize; 8];
         for _ in 0..2_000 {
-            robot.random_config(&mut rng, &mut q);
-            let target = robot.chain().fk(&q);
+            q.copy_from_slice(&robot.random_config(&mut rng));
+            let target = robot.chain().fk(&armpath::Joints::from_slice(&q).unwrap());
             for s in &solver.solve_all(&target) {
                 let (geo, margin) = geometric_config(&robot, &s.joints);
                 if margin < 1e-6 {
@@ -574,8 +582,8 @@ fn rounded_axis_angles_are_tolerated_and_their_deviation_reported() {
     let mut q = [0.0; 6];
     let (mut worst_p, mut worst_r) = (0.0f64, 0.0f64);
     for _ in 0..2_000 {
-        robot.random_config(&mut rng, &mut q);
-        let target = robot.chain().fk(&q);
+        q.copy_from_slice(&robot.random_config(&mut rng));
+        let target = robot.chain().fk(&armpath::Joints::from_slice(&q).unwrap());
         for s in &solver.solve(&target) {
             let (dp, dr) = fk_error(&robot, &s.joints, &target);
             worst_p = worst_p.max(dp);
@@ -610,8 +618,10 @@ fn check_special(
     q: &[f64; 6],
     flag: impl Fn(&armpath::ik::analytic::SpecialPose) -> bool,
 ) -> usize {
-    let target = robot.chain().fk(q);
-    let truth = solver.config_of(q).unwrap();
+    let target = robot.chain().fk(&armpath::Joints::from_slice(q).unwrap());
+    let truth = solver
+        .config_of(&armpath::Joints::from_slice(q).unwrap())
+        .unwrap();
     let mut flagged = 0;
     for sols in [solver.solve(&target), solver.solve_all(&target)] {
         for s in &sols {
@@ -647,9 +657,13 @@ fn special_poses_give_finite_exact_flagged_solutions() {
         q[4] = from_canonical(&solver, 4, 0.0);
         assert!(check_special(&robot, &solver, &q, |s| s.wrist_singular) >= 2);
         // The free θ4 follows the reference: solve_near from the true joints returns them.
-        let target = robot.chain().fk(&q);
-        let truth = solver.config_of(&q).unwrap();
-        let near = solver.solve_near(&target, &q, truth).unwrap();
+        let target = robot.chain().fk(&armpath::Joints::from_slice(&q).unwrap());
+        let truth = solver
+            .config_of(&armpath::Joints::from_slice(&q).unwrap())
+            .unwrap();
+        let near = solver
+            .solve_near(&target, &armpath::Joints::from_slice(&q).unwrap(), truth)
+            .unwrap();
         assert!(max_abs_diff(&near, &q) < 1e-9, "{near:?} vs {q:?}");
         // solve() documents q4 = 0 there.
         let s = solver
@@ -663,13 +677,13 @@ fn special_poses_give_finite_exact_flagged_solutions() {
         // Elbow stretched: θ3 = −ψ (forearm in line with the upper arm).
         let mut q = [-0.7, 0.2, 0.0, 0.5, 0.9, 0.3];
         q[2] = from_canonical(&solver, 2, -psi);
-        assert!(robot.within_limits(&q));
+        assert!(robot.within_limits(&armpath::Joints::from_slice(&q).unwrap()));
         assert!(check_special(&robot, &solver, &q, |s| s.elbow_stretched) >= 2);
 
         // Elbow folded: θ3 = π − ψ (outside arm6's j3 range: only among the raw solutions).
         let mut q = [0.2, 0.5, 0.0, -0.5, 0.9, 0.3];
         q[2] = from_canonical(&solver, 2, PI - psi);
-        let target = robot.chain().fk(&q);
+        let target = robot.chain().fk(&armpath::Joints::from_slice(&q).unwrap());
         let folded: Vec<_> = solver
             .solve_all(&target)
             .iter()
@@ -687,9 +701,10 @@ fn special_poses_give_finite_exact_flagged_solutions() {
         // source: robots/arm6.urdf: axis 1 is the base z axis, j5's origin is the wrist centre
         let wc_x = |q3: f64| {
             let mut frames = [Isometry3::identity(); 6];
-            robot
-                .chain()
-                .joint_frames(&[0.0, -0.5, q3, 0.3, 0.8, -0.4], &mut frames);
+            robot.chain().joint_frames(
+                &armpath::Joints::from_slice(&[0.0, -0.5, q3, 0.3, 0.8, -0.4]).unwrap(),
+                &mut frames,
+            );
             frames[4].translation.vector.x
         };
         let (mut lo, mut hi) = (-1.5, 1.2);
@@ -704,7 +719,7 @@ fn special_poses_give_finite_exact_flagged_solutions() {
         }
         let q = [0.0, -0.5, lo, 0.3, 0.8, -0.4];
         assert!(wc_x(lo).abs() < 1e-12);
-        let target = robot.chain().fk(&q);
+        let target = robot.chain().fk(&armpath::Joints::from_slice(&q).unwrap());
         let sols = solver.solve(&target);
         assert!(!sols.is_empty());
         for s in &sols {
@@ -717,7 +732,7 @@ fn special_poses_give_finite_exact_flagged_solutions() {
         let mut q = [0.0; 6];
         q[2] = from_canonical(&solver, 2, -psi);
         q[4] = from_canonical(&solver, 4, 0.0);
-        let target = robot.chain().fk(&q);
+        let target = robot.chain().fk(&armpath::Joints::from_slice(&q).unwrap());
         for s in &solver.solve_all(&target) {
             assert!(s.joints.iter().all(|v| v.is_finite()));
             let (dp, dr) = fk_error(&robot, &s.joints, &target);
@@ -734,15 +749,17 @@ fn solve_near_follows_one_branch_and_winding() {
     let solver = OrthoParallel::from_robot(&robot).unwrap();
     // j6 at 5.0 rad (one turn up from -1.28) and j4 at -3.2 rad (beyond -π).
     let mut q = [0.3, 0.4, -0.9, -3.2, 0.7, 5.0];
-    let config = solver.config_of(&q).unwrap();
-    let mut prev = q;
+    let config = solver
+        .config_of(&armpath::Joints::from_slice(&q).unwrap())
+        .unwrap();
+    let mut prev = armpath::Joints::from(q);
     let mut max_step = 0.0f64;
     for k in 0..200 {
         q[0] += 0.004;
         q[1] -= 0.003;
         q[4] += 0.002 * (k as f64 * 0.1).sin();
         q[5] += 0.01;
-        let target = robot.chain().fk(&q);
+        let target = robot.chain().fk(&armpath::Joints::from_slice(&q).unwrap());
         let got = solver.solve_near(&target, &prev, config).unwrap();
         assert!(max_abs_diff(&got, &q) < 1e-9, "step {k}: {got:?} vs {q:?}");
         max_step = max_step.max(max_abs_diff(&got, &prev));
@@ -750,10 +767,18 @@ fn solve_near_follows_one_branch_and_winding() {
     }
     assert!(max_step < 0.02);
     // Too short a reference or an unreachable pose: None, never a panic.
-    let target = robot.chain().fk(&q);
-    assert!(solver.solve_near(&target, &q[..5], config).is_none());
+    let target = robot.chain().fk(&armpath::Joints::from_slice(&q).unwrap());
+    assert!(solver
+        .solve_near(
+            &target,
+            &armpath::Joints::from_slice(&q[..5]).unwrap(),
+            config
+        )
+        .is_none());
     let far = Isometry3::translation(3.0, 0.0, 0.5);
-    assert!(solver.solve_near(&far, &q, config).is_none());
+    assert!(solver
+        .solve_near(&far, &armpath::Joints::from_slice(&q).unwrap(), config)
+        .is_none());
 }
 
 #[test]

@@ -24,21 +24,30 @@ fn round_trip_from_perturbed_seed() {
         let mut rng_cfg = armpath::rng::SplitMix64::new(99);
         let (mut ok, total) = (0usize, 10_000usize);
         let mut q_true = vec![0.0; n];
-        let mut q = vec![0.0; n];
+        let mut q = armpath::Joints::zeros(n);
         let mut iterations = 0u64;
         for _ in 0..total {
-            robot.random_config(&mut rng_cfg, &mut q_true);
-            let target = robot.chain().fk(&q_true);
+            q_true.copy_from_slice(&robot.random_config(&mut rng_cfg));
+            let target = robot
+                .chain()
+                .fk(&armpath::Joints::from_slice(&q_true).unwrap());
             let seed: Vec<f64> = q_true
                 .iter()
                 .map(|v| v + rng.gen_range(-0.2..=0.2))
                 .collect();
-            let out = ik.solve(&target, &seed, &mut q);
+            let out = ik.solve(
+                &target,
+                &armpath::Joints::from_slice(&seed).unwrap(),
+                &mut q,
+            );
             iterations += out.iterations as u64;
-            assert!(robot.within_limits(&q), "{path}: result outside the limits");
+            assert!(
+                robot.within_limits(&armpath::Joints::from_slice(&q).unwrap()),
+                "{path}: result outside the limits"
+            );
             if out.converged {
                 // Verify independently of the solver's own residual.
-                let reached = robot.chain().fk(&q);
+                let reached = robot.chain().fk(&armpath::Joints::from_slice(&q).unwrap());
                 let dp = (reached.translation.vector - target.translation.vector).norm();
                 let dr = rotation::angle_between(&reached.rotation, &target.rotation);
                 assert!(
@@ -64,11 +73,13 @@ fn unreachable_target_fails_within_limits() {
     // robots/arm6.urdf (sum of its link lengths)
     let robot = load_urdf(Path::new("robots/arm6.urdf"), None).unwrap();
     let ik = NumericIk::new(&robot, IkOptions::default());
-    let mut target = robot.chain().fk(&[0.0; 6]);
+    let mut target = robot
+        .chain()
+        .fk(&armpath::Joints::from_slice(&[0.0; 6]).unwrap());
     target.translation.vector.x = 3.0;
-    let mut q = [0.0; 6];
-    let out = ik.solve_with_restarts(&target, &[0.0; 6], 8, &mut q);
+    let mut q = armpath::Joints::zeros(6);
+    let out = ik.solve_with_restarts(&target, &armpath::Joints::zeros(6), 8, &mut q);
     assert!(!out.converged);
     assert!(out.position_error > 1.0);
-    assert!(robot.within_limits(&q));
+    assert!(robot.within_limits(&armpath::Joints::from_slice(&q).unwrap()));
 }

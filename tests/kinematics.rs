@@ -49,7 +49,7 @@ fn fk_matches_k_on_every_robot() {
             let q = random_q(&robot, &mut rng);
             serial.set_joint_positions_unchecked(&q);
             let reference = serial.end_transform();
-            let ours = robot.chain().fk(&q);
+            let ours = robot.chain().fk(&armpath::Joints::from_slice(&q).unwrap());
             worst = worst.max((ours.translation.vector - reference.translation.vector).norm());
             worst = worst.max(rotation::angle_between(&ours.rotation, &reference.rotation));
         }
@@ -92,7 +92,9 @@ fn fk_and_jacobian_match_pinocchio_fixtures() {
         assert_eq!(names, r.joint_names, "{}", r.urdf);
         for s in &r.samples {
             let mut jac = Jacobian::zeros();
-            let pose = robot.chain().fk_jacobian(&s.q, &mut jac);
+            let pose = robot
+                .chain()
+                .fk_jacobian(&armpath::Joints::from_slice(&s.q).unwrap(), &mut jac);
             let (pin_rot, _) = rotation::quat_from_wxyz(s.quat_wxyz).unwrap();
             assert_relative_eq!(
                 pose.translation.vector,
@@ -125,8 +127,10 @@ fn numeric_jacobian(robot: &Robot, q: &[f64]) -> Jacobian {
         let (mut qp, mut qm) = (q.to_vec(), q.to_vec());
         qp[i] += h;
         qm[i] -= h;
-        let (tp, tm): (Isometry3<f64>, Isometry3<f64>) =
-            (robot.chain().fk(&qp), robot.chain().fk(&qm));
+        let (tp, tm): (Isometry3<f64>, Isometry3<f64>) = (
+            robot.chain().fk(&armpath::Joints::from_slice(&qp).unwrap()),
+            robot.chain().fk(&armpath::Joints::from_slice(&qm).unwrap()),
+        );
         let lin = (tp.translation.vector - tm.translation.vector) / (2.0 * h);
         let ang = rotation::log(&(tp.rotation * tm.rotation.inverse())) / (2.0 * h);
         for r in 0..3 {
@@ -151,7 +155,9 @@ fn jacobian_matches_finite_differences_with_a_tool() {
         for _ in 0..200 {
             let q = random_q(&robot, &mut rng);
             let mut jac = Jacobian::zeros();
-            robot.chain().fk_jacobian(&q, &mut jac);
+            robot
+                .chain()
+                .fk_jacobian(&armpath::Joints::from_slice(&q).unwrap(), &mut jac);
             let reference = numeric_jacobian(&robot, &q);
             let diff = (jac - reference).abs().max();
             assert!(diff < 1e-8, "{path}: Jacobian deviates by {diff:e}");
@@ -172,7 +178,9 @@ fn planar_2r_closed_form_and_yoshikawa_manipulability() {
         let q = random_q(&robot, &mut rng);
         let (t1, t12) = (q[0], q[0] + q[1]);
         let mut jac = Jacobian::zeros();
-        let pose = robot.chain().fk_jacobian(&q, &mut jac);
+        let pose = robot
+            .chain()
+            .fk_jacobian(&armpath::Joints::from_slice(&q).unwrap(), &mut jac);
         assert_relative_eq!(
             pose.translation.x,
             l1 * t1.cos() + l2 * t12.cos(),
@@ -197,7 +205,9 @@ fn planar_2r_closed_form_and_yoshikawa_manipulability() {
     // The maximum over θ2 sits at ±90°.
     let w_at = |t2: f64| {
         let mut jac = Jacobian::zeros();
-        robot.chain().fk_jacobian(&[0.3, t2], &mut jac);
+        robot
+            .chain()
+            .fk_jacobian(&armpath::Joints::from_slice(&[0.3, t2]).unwrap(), &mut jac);
         manipulability(&jac, 2, &[0, 1])
     };
     let best = (-300..=300)

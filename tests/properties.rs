@@ -111,14 +111,14 @@ proptest! {
     ) {
         // source: common practice (IK solution reproduces the pose within tolerance)
         let robot = load_urdf(std::path::Path::new("robots/arm6.urdf"), None).unwrap();
-        prop_assume!(robot.within_limits(&q));
-        let target = robot.chain().fk(&q);
+        prop_assume!(robot.within_limits(&armpath::Joints::from_slice(&q).unwrap()));
+        let target = robot.chain().fk(&armpath::Joints::from_slice(&q).unwrap());
         let seed: Vec<f64> = q.iter().zip(&dq).map(|(a, b)| a + b).collect();
         let ik = NumericIk::new(&robot, IkOptions::default());
-        let mut sol = [0.0; 6];
-        let out = ik.solve(&target, &seed, &mut sol);
+        let mut sol = armpath::Joints::zeros(6);
+        let out = ik.solve(&target, &armpath::Joints::from_slice(&seed).unwrap(), &mut sol);
         prop_assert!(out.converged);
-        let back = robot.chain().fk(&sol);
+        let back = robot.chain().fk(&armpath::Joints::from_slice(&sol).unwrap());
         prop_assert!((back.translation.vector - target.translation.vector).norm() <= 1e-5);
         prop_assert!(angle_between(&back.rotation, &target.rotation) <= 0.001f64.to_radians());
     }

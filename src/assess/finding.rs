@@ -1,5 +1,6 @@
 //! Findings: what the assessment reports, located on the path.
 
+use crate::robot::Joints;
 use serde::Serialize;
 
 /// The kind of a finding. The names are fixed: scripts match on them.
@@ -108,7 +109,7 @@ pub struct Finding {
     pub limit: Option<f64>,
     pub quantity: Quantity,
     /// Per-joint change across a jump (rad or m), `joint_jump` only.
-    pub deltas: Option<Vec<f64>>,
+    pub deltas: Option<Joints>,
     /// Sample index where the worst value occurs.
     pub worst_sample: Option<usize>,
     /// What happened and what to try.

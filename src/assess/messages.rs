@@ -175,7 +175,7 @@ pub(super) fn finding(robot: &Robot, job: &Job, plan: &Plan, run: &Run) -> Findi
         // A jump has no limit: any discontinuity is one.
         limit: (run.kind != Kind::JointJump).then_some(run.limit),
         quantity: q,
-        deltas: (run.kind == Kind::JointJump).then(|| run.delta[..robot.dof()].to_vec()),
+        deltas: (run.kind == Kind::JointJump).then_some(run.delta),
         worst_sample: Some(run.worst_sample),
         message,
     }

@@ -12,13 +12,10 @@ pub use finding::{Finding, Kind, Quantity, Severity};
 
 use crate::job::{Job, Motion};
 use crate::plan::Plan;
-use crate::robot::{Robot, SingularityClass, MAX_DOF};
-use crate::solve::{Reach, SampleRecord, SampleSink};
+pub use crate::robot::DEFAULT_SINGULARITY_THRESHOLD;
 
-/// Singularity-measure threshold below which a `singularity` warning is raised. On the demo
-/// arm 0.01 corresponds to the wrist within about 3.5° of alignment (axes 4 and 6), where
-/// joints 4 and 6 turn about 16 times faster than the tool.
-pub const DEFAULT_SINGULARITY_THRESHOLD: f64 = 0.01;
+use crate::robot::{Joints, Robot, SingularityClass, MAX_DOF};
+use crate::solve::{Reach, SampleRecord, SampleSink};
 
 /// Speeds within this relative tolerance of their limit count as at the limit, not above:
 /// a segment timed exactly at a limit must not be flagged through rounding.
@@ -98,7 +95,7 @@ pub(crate) struct Run {
     pub worst_sample: usize,
     /// Extra facts for the message.
     pub class: Option<SingularityClass>,
-    pub delta: [f64; MAX_DOF],
+    pub delta: Joints,
     pub orientation_error: f64,
     /// Configuration change at a jump (closed-form solver).
     pub config_change: Option<(crate::ik::analytic::Config, crate::ik::analytic::Config)>,
@@ -113,7 +110,7 @@ struct Flag {
     value: f64,
     limit: f64,
     class: Option<SingularityClass>,
-    delta: [f64; MAX_DOF],
+    delta: Joints,
     orientation_error: f64,
     config_change: Option<(crate::ik::analytic::Config, crate::ik::analytic::Config)>,
 }
@@ -127,7 +124,7 @@ impl Flag {
             value,
             limit,
             class: None,
-            delta: [0.0; MAX_DOF],
+            delta: Joints::default(),
             orientation_error: 0.0,
             config_change: None,
         }
@@ -335,9 +332,7 @@ impl SampleSink for Assessor<'_> {
             }
         }
         if let Some(jump) = rec.jump {
-            let biggest = jump.delta[..robot.dof()]
-                .iter()
-                .fold(0.0f64, |m, d| m.max(d.abs()));
+            let biggest = jump.delta.iter().fold(0.0f64, |m, d| m.max(d.abs()));
             let mut f = Flag::new(Kind::JointJump, None, biggest, biggest, 0.0);
             f.delta = jump.delta;
             f.config_change = jump.config_change;

@@ -3,7 +3,7 @@
 
 mod outcome;
 
-pub use outcome::{Advice, CheckOutcome, Feasibility, FirstStop};
+pub use outcome::{Advice, CheckOutcome, Feasibility, FirstStop, NonFinite, Verdict};
 
 use crate::assess::Finding;
 use crate::assess::{Assessor, Thresholds};
@@ -13,7 +13,7 @@ use crate::ik::analytic::OrthoParallel;
 use crate::ik::IkOptions;
 use crate::job::{ConfigRequest, Job, StartJoints};
 use crate::plan::{plan, DEFAULT_MAX_SAMPLES};
-use crate::robot::{Robot, SingularityModel};
+use crate::robot::{Joints, Robot, SingularityModel, MAX_DOF};
 use crate::solve::{choose_start, residual, SampleRecord, SampleSink, StartSolver, Walker};
 
 /// Settings of a check beyond the job.
@@ -77,6 +77,11 @@ pub fn check(
     let start_si = match &job.start_joints {
         Some(sj) => Some(
             sj.to_si(&robot.prismatic_mask())
+                .and_then(|v| {
+                    Joints::from_slice(&v).ok_or_else(|| {
+                        format!("has {} values; armpath handles up to {MAX_DOF} joints: give one value per joint", v.len())
+                    })
+                })
                 .map_err(|m| Error::input(&job.source, sj.origin.clone(), m))?,
         ),
         None => None,
@@ -90,10 +95,10 @@ pub fn check(
                     format!(
                         "{} = {:.3} is outside its range {:.3} … {:.3} ({}): give joints inside the robot's limits",
                         j.name,
-                        crate::report::joint_display(j.kind, *v),
-                        crate::report::joint_display(j.kind, j.lower),
-                        crate::report::joint_display(j.kind, j.upper),
-                        crate::report::joint_unit(j.kind)
+                        crate::units_display::joint_display(j.kind, *v),
+                        crate::units_display::joint_display(j.kind, j.lower),
+                        crate::units_display::joint_display(j.kind, j.upper),
+                        crate::units_display::joint_unit(j.kind)
                     ),
                 ));
             }
@@ -119,7 +124,7 @@ pub fn check(
                 &robot,
                 &model,
                 &first,
-                start_si.as_deref(),
+                start_si.as_ref(),
                 StartSolver::ClosedForm {
                     solver,
                     request: &job.config,
@@ -139,7 +144,7 @@ pub fn check(
                     &robot,
                     &model,
                     &first,
-                    start_si.as_deref(),
+                    start_si.as_ref(),
                     StartSolver::Numeric(options.ik),
                 ),
                 None,
@@ -200,7 +205,7 @@ fn check_start_joints(
     job: &Job,
     sj: &StartJoints,
     robot: &Robot,
-    q: &[f64],
+    q: &Joints,
     first: &nalgebra::Isometry3<f64>,
     solver: Option<&OrthoParallel>,
 ) -> Result<()> {

@@ -2,14 +2,39 @@
 //! by [`crate::report::Report::from_outcome`]) and to `fix` and `place`, which decide from it.
 
 use crate::assess::{Extremes, Finding, Kind, Severity, Thresholds};
+use crate::error::{Error, Result};
 use crate::ik::analytic::Config;
 use crate::job::Job;
 use crate::plan::Plan;
-use crate::report::Verdict;
 use crate::robot::Robot;
 use crate::solve::{StartChoice, WalkTotals};
+use nalgebra::Isometry3;
+use serde::Serialize;
 
 pub use crate::configs::{Feasibility, FirstStop};
+
+/// The overall result of a check.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Verdict {
+    /// No findings beyond input notes.
+    Pass,
+    /// Warnings only: the path runs, with things to look at.
+    Warn,
+    /// At least one error finding.
+    Fail,
+}
+
+impl Verdict {
+    /// The verdict's name: `pass`, `warn` or `fail`.
+    pub fn name(self) -> &'static str {
+        match self {
+            Verdict::Pass => "pass",
+            Verdict::Warn => "warn",
+            Verdict::Fail => "fail",
+        }
+    }
+}
 
 /// Which configurations would run the whole path, for the stopping errors of a check whose
 /// configuration does not.
@@ -24,7 +49,7 @@ pub enum Advice {
 impl Advice {
     /// The advice for a check that followed `used`: `None` when `used` runs the whole path.
     pub fn new(table: &[Feasibility], used: Option<Config>) -> Option<Advice> {
-        if used.is_some_and(|u| table.iter().any(|r| r.runs && r.config == u)) {
+        if used.is_some_and(|u| table.iter().any(|r| r.runs() && r.config == u)) {
             return None;
         }
         let running = crate::configs::running(table);
@@ -114,9 +139,69 @@ impl CheckOutcome {
         crate::solve::margin(ratio.unwrap_or(1.0), measure.unwrap_or(f64::INFINITY))
     }
 
-    /// The configuration the check followed (closed-form arms).
-    pub fn config(&self) -> Option<Config> {
-        self.start.config
+    /// The first value of the outcome that is not a finite number, by field name (SI). NaN
+    /// or infinity would print as text and vanish as `null` in JSON, and cannot be ranked.
+    /// Values that stand for "nothing measured" when infinite (the smallest singularity
+    /// measure, the smallest limit ratio) are left out.
+    pub fn first_non_finite(&self) -> Option<NonFinite> {
+        let job = &self.job;
+        let e = &self.extremes;
+        let fields = [
+            ("job.speed", job.speed),
+            (
+                "job.limits.tool_angular_speed",
+                job.limits.tool_angular_speed,
+            ),
+            ("job.limits.joint_speed_scale", job.limits.joint_speed_scale),
+            ("job.sampling.step", job.sampling.step),
+            ("job.sampling.angle_step", job.sampling.angle_step),
+            ("robot.reach", self.robot.reach()),
+            ("totals.length", self.totals.length),
+            ("totals.duration", self.totals.duration),
+            ("extremes.max_tool_angular_speed", e.max_tool_angular_speed),
+            ("extremes.max_joint_speed_ratio", e.max_joint_speed_ratio),
+        ];
+        let optional = e
+            .min_singularity_s
+            .map(|v| ("extremes.min_singularity_s", v));
+        let start = self.start.joints.iter().map(|&v| ("start.joints", v));
+        let poses = [
+            ("job.tool.tip_T_tcp", &job.tool.tip_T_tcp),
+            ("job.base_T_work", &job.base_T_work),
+        ]
+        .into_iter()
+        .flat_map(|(name, pose)| pose_values(pose).map(move |v| (name, v)));
+        let findings = self.findings.iter().flat_map(|f| {
+            let pairs = [f.s, f.t].into_iter().flatten().flatten();
+            let single = [f.value, f.limit].into_iter().flatten();
+            let deltas = f.deltas.iter().flatten().copied();
+            pairs.chain(single).chain(deltas).map(|v| ("findings", v))
+        });
+        fields
+            .into_iter()
+            .chain(optional)
+            .chain(start)
+            .chain(poses)
+            .chain(findings)
+            .find(|(_, v)| !v.is_finite())
+            .map(|(field, value)| NonFinite { field, value })
+    }
+
+    /// Refuse an outcome with a value that is not a finite number (see
+    /// [`CheckOutcome::first_non_finite`]): the error names the field and what to check.
+    pub fn refuse_non_finite(&self) -> Result<()> {
+        match self.first_non_finite() {
+            None => Ok(()),
+            Some(NonFinite { field, value }) => Err(Error::robot(
+                self.robot.source(),
+                "check",
+                format!(
+                    "{field} = {value} is not a finite number, so no result is written: check the \
+                     robot's origins and limits, the tool, the work frame and the path values for \
+                     extreme magnitudes"
+                ),
+            )),
+        }
     }
 
     /// The configurations that run the whole path, in [`Config::ALL`] order (empty for arms
@@ -127,6 +212,22 @@ impl CheckOutcome {
             .map(crate::configs::running)
             .unwrap_or_default()
     }
+}
+
+/// A value of a [`CheckOutcome`] that is not a finite number.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct NonFinite {
+    /// Where it is, e.g. `totals.length` (SI field names of the outcome).
+    pub field: &'static str,
+    /// The value (NaN or ±infinity).
+    pub value: f64,
+}
+
+/// Translation, then quaternion (w, x, y, z) of a pose.
+fn pose_values(pose: &Isometry3<f64>) -> impl Iterator<Item = f64> {
+    let t = pose.translation.vector;
+    let q = pose.rotation.quaternion();
+    [t.x, t.y, t.z, q.w, q.i, q.j, q.k].into_iter()
 }
 
 #[cfg(test)]
@@ -154,7 +255,7 @@ mod tests {
             .collect();
         let expected: Vec<String> = Config::ALL.iter().map(|c| c.to_string()).collect();
         assert_eq!(names, expected);
-        let used = outcome.config().unwrap();
+        let used = outcome.start.config.unwrap();
         assert_eq!(report.path.start.config, Some(used.to_string()));
         assert!(outcome.running().contains(&used));
         assert_eq!(outcome.advice, None);
@@ -173,12 +274,42 @@ mod tests {
     }
 
     #[test]
+    fn an_outcome_with_a_non_finite_value_names_the_field() {
+        // source: common practice (IEEE 754: NaN and infinity are not finite)
+        let outcome = crate::check::demo_outcome("paths/bracket_fillet.yaml");
+        assert_eq!(outcome.first_non_finite(), None);
+        assert!(outcome.refuse_non_finite().is_ok());
+        let mut broken = outcome.clone();
+        broken.totals.length = f64::NAN;
+        assert_eq!(
+            broken.first_non_finite().map(|n| n.field),
+            Some("totals.length")
+        );
+        let message = broken.refuse_non_finite().unwrap_err().to_string();
+        assert!(message.contains("totals.length = NaN"), "{message}");
+        let mut broken = outcome;
+        broken.start.joints[2] = f64::INFINITY;
+        assert_eq!(
+            broken.first_non_finite(),
+            Some(NonFinite {
+                field: "start.joints",
+                value: f64::INFINITY
+            })
+        );
+    }
+
+    #[test]
     fn advice_names_the_running_configurations_unless_the_used_one_runs() {
         // source: common practice (advise only when the followed configuration stops)
+        let stop = FirstStop {
+            kind: Kind::Unreachable,
+            segment: 0,
+            s: 0.0,
+            joint: None,
+        };
         let row = |config: Config, runs: bool| Feasibility {
             config,
-            runs,
-            first_stop: None,
+            first_stop: (!runs).then_some(stop),
             start_joints: None,
         };
         let [a, b, c, ..] = Config::ALL;

@@ -120,17 +120,22 @@ pub fn default_out(path: &Path) -> PathBuf {
     path.with_file_name(format!("{stem}.fixed.yaml"))
 }
 
-/// Check `job` with extra sinks (the robot is loaded from the job): the outcome, and the
-/// report's summary (which refuses a check with non-finite numbers, as `check` does).
+/// Check `job` with extra sinks (the robot is loaded from the job). An outcome with
+/// non-finite numbers is refused, as `check` does.
 fn run_check(
     job: &Job,
     options: &CheckOptions,
     sinks: &mut [&mut dyn SampleSink],
-) -> Result<(CheckOutcome, Summary)> {
+) -> Result<CheckOutcome> {
     let robot = load_urdf(&job.robot, job.tip.as_deref())?;
     let outcome = check(job, &robot, options, sinks)?;
-    let summary = Report::from_outcome(&outcome)?.summary;
-    Ok((outcome, summary))
+    outcome.refuse_non_finite()?;
+    Ok(outcome)
+}
+
+/// The summary of a check's report, for the before/after table.
+fn summary(outcome: &CheckOutcome) -> Result<Summary> {
+    Ok(Report::from_outcome(outcome)?.summary)
 }
 
 /// Run the fix search on `job` (loaded with any command-line overrides) and write the
@@ -145,7 +150,8 @@ pub fn fix(job: &Job, out: &Path, options: &CheckOptions) -> Result<FixReport> {
     let mut amended = job.clone();
     let mut changes = Vec::new();
 
-    let (before, before_summary) = run_check(&job, options, &mut [])?;
+    let before = run_check(&job, options, &mut [])?;
+    let before_summary = summary(&before)?;
     // Spin first: it changes the orientations, hence the joint path the speeds come from. The
     // spun path is kept only when its check is better: fewer errors, or as many and a margin
     // larger by more than 0.01 (a tenth of the singularity-measure scale, so that rounding
@@ -157,7 +163,7 @@ pub fn fix(job: &Job, out: &Path, options: &CheckOptions) -> Result<FixReport> {
         robot.set_tool(job.tool.tip_T_tcp);
         if let Some(mut s) = spin::search(&job, &robot, options)? {
             if s.changed {
-                let (trial, _) = run_check(&s.job, options, &mut [])?;
+                let trial = run_check(&s.job, options, &mut [])?;
                 let (t, b) = (trial.errors(), before.errors());
                 if t < b || (t == b && trial.margin() > before.margin() + 0.01) {
                     amended = s.job.clone();
@@ -187,7 +193,7 @@ pub fn fix(job: &Job, out: &Path, options: &CheckOptions) -> Result<FixReport> {
 
     // The walk the speeds come from: the (possibly spun) path at the programmed speeds.
     let mut ratios = RatioSink::new(&amended);
-    let (base, _) = if spun {
+    let base = if spun {
         run_check(&amended, options, &mut [&mut ratios])?
     } else {
         // Without a spin the same walk as the check before, with the ratio sink.
@@ -199,7 +205,7 @@ pub fn fix(job: &Job, out: &Path, options: &CheckOptions) -> Result<FixReport> {
 
     // Configuration: keep the check's when it runs the path, else the first that does.
     let running = base.running();
-    let used = base.config();
+    let used = base.start.config;
     let mut chosen = None;
     if !spun {
         if let Some(&first) = running.first() {
@@ -250,7 +256,7 @@ pub fn fix(job: &Job, out: &Path, options: &CheckOptions) -> Result<FixReport> {
                 format!("the amended path could not be read back ({e}); please report this"),
             )
         })?;
-        let (_, after) = run_check(&reloaded, options, &mut [])?;
+        let after = summary(&run_check(&reloaded, options, &mut [])?)?;
         (Some(out.display().to_string()), Some(after))
     };
     Ok(FixReport {

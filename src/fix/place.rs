@@ -12,10 +12,10 @@
 //! measure, the score the start-pose choice ranks with),
 //! then the smaller offset (the placement closest to the programmed one).
 
+use crate::check::Verdict;
 use crate::check::{check, CheckOptions};
 use crate::error::{Error, Result};
 use crate::job::Job;
-use crate::report::{Report, Verdict};
 use crate::robot::Robot;
 use nalgebra::{Isometry3, Translation3, UnitQuaternion, Vector3};
 use rayon::prelude::*;
@@ -236,7 +236,7 @@ pub fn search(
             tick();
             let outcome = outcome?;
             // Refuse a check with non-finite numbers, as `check` does.
-            Report::from_outcome(&outcome)?;
+            outcome.refuse_non_finite()?;
             let (ratio, measure) = outcome.margin_terms();
             // A placement without any measured term ranks lowest; a limit ratio alone is taken
             // as it is.

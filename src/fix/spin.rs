@@ -44,7 +44,7 @@ use crate::error::Result;
 use crate::ik::analytic::{Config, OrthoParallel};
 use crate::job::{Job, Motion, Waypoint};
 use crate::plan::plan;
-use crate::robot::{Robot, SingularityModel};
+use crate::robot::{Joints, Robot, SingularityModel};
 use crate::solve::{best_in_config, limit_ratio};
 use nalgebra::{Isometry3, UnitQuaternion, Vector3};
 
@@ -107,7 +107,7 @@ struct Sample {
 
 #[derive(Clone, Copy)]
 struct State {
-    q: [f64; 6],
+    q: Joints,
     margin: f64,
     singularity: f64,
     limit: f64,
@@ -255,7 +255,7 @@ pub fn search(job: &Job, robot: &Robot, options: &CheckOptions) -> Result<Option
                             }
                         }
                         None => State {
-                            q: [0.0; 6],
+                            q: Joints::zeros(6),
                             margin: f64::NAN,
                             singularity: 0.0,
                             limit: 0.0,

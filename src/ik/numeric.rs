@@ -14,7 +14,7 @@
 //! objective: least motion from the seed.
 
 use super::pose_error;
-use crate::robot::{Jacobian, Robot, MAX_DOF};
+use crate::robot::{Jacobian, Joints, Robot, MAX_DOF};
 use nalgebra::{Isometry3, Matrix6, Vector6};
 
 /// Tolerances and effort of the numerical solver.
@@ -49,7 +49,7 @@ impl Default for IkOptions {
 /// Jacobian already evaluated. Plain data on the stack; one per followed path.
 #[derive(Debug, Clone, Copy)]
 pub struct WarmStart {
-    q: [f64; MAX_DOF],
+    q: Joints,
     pose: Isometry3<f64>,
     jac: Jacobian,
     ready: bool,
@@ -65,7 +65,7 @@ impl WarmStart {
     /// An empty state (joints zero, not evaluated).
     pub fn new() -> Self {
         WarmStart {
-            q: [0.0; MAX_DOF],
+            q: Joints::default(),
             pose: Isometry3::identity(),
             jac: Jacobian::zeros(),
             ready: false,
@@ -73,8 +73,8 @@ impl WarmStart {
     }
 
     /// Start over from joints `q` (evaluated on the next solve).
-    pub fn reset(&mut self, q: &[f64]) {
-        self.q[..q.len()].copy_from_slice(q);
+    pub fn reset(&mut self, q: &Joints) {
+        self.q = *q;
         self.ready = false;
     }
 
@@ -83,8 +83,8 @@ impl WarmStart {
         self.ready
     }
 
-    /// The stored joints (first `dof` entries meaningful).
-    pub fn joints(&self) -> &[f64; MAX_DOF] {
+    /// The stored joints.
+    pub fn joints(&self) -> &Joints {
         &self.q
     }
 }
@@ -146,6 +146,9 @@ pub struct IkOutcome {
     pub orientation_error: f64,
     /// Iterations used.
     pub iterations: u32,
+    /// Random restarts run after the seed's solve failed
+    /// ([`NumericIk::solve_with_restarts`]; 0 from the other solves).
+    pub restarts: u32,
 }
 
 /// A numerical IK solver bound to one robot (with its tool). Cheap to build; holds copies of
@@ -243,10 +246,10 @@ impl<'r> NumericIk<'r> {
             && e.fixed_rows::<3>(3).norm() <= self.options.orientation_tolerance
     }
 
-    /// Solve for `base_T_tcp = target`, starting at `seed` (clamped into the limits). Writes
-    /// the best joints found to `q_out` (`len == dof`) whether or not it converged.
-    /// Allocation-free.
-    pub fn solve(&self, target: &Isometry3<f64>, seed: &[f64], q_out: &mut [f64]) -> IkOutcome {
+    /// Solve for `base_T_tcp = target`, starting at `seed` (`dof` joints, clamped into the
+    /// limits; missing ones start at zero). Writes the best joints found to `q_out` (`dof`
+    /// joints) whether or not it converged. Allocation-free.
+    pub fn solve(&self, target: &Isometry3<f64>, seed: &Joints, q_out: &mut Joints) -> IkOutcome {
         let n = self.robot.dof();
         let first = self.descend(target, seed, q_out);
         if first.converged {
@@ -257,26 +260,25 @@ impl<'r> NumericIk<'r> {
         // seed nudged by a fixed pattern of ±0.25 rad, keeping the best: still local to the
         // seed, deterministic, and paid only on failure.
         let mut best = first;
-        let mut best_q = [0.0; MAX_DOF];
-        best_q[..n].copy_from_slice(&q_out[..n]);
+        let mut best_q = *q_out;
         let mut rng = crate::rng::SplitMix64::new(0x6e75_6467);
-        let mut nudged = [0.0; MAX_DOF];
-        let mut q = [0.0; MAX_DOF];
+        let mut nudged = Joints::zeros(n);
+        let mut q = Joints::zeros(n);
         for _ in 0..RETRIES {
-            for i in 0..n {
-                nudged[i] = seed[i] + (rng.next_f64() - 0.5) * 0.5;
+            for (i, v) in nudged.iter_mut().enumerate() {
+                *v = seed.get(i).copied().unwrap_or(0.0) + (rng.next_f64() - 0.5) * 0.5;
             }
-            let out = self.descend(target, &nudged[..n], &mut q[..n]);
+            let out = self.descend(target, &nudged, &mut q);
             if out.converged || self.score(&out) < self.score(&best) {
                 best = out;
                 best.iterations += first.iterations;
-                best_q[..n].copy_from_slice(&q[..n]);
+                best_q = q;
                 if out.converged {
                     break;
                 }
             }
         }
-        q_out[..n].copy_from_slice(&best_q[..n]);
+        *q_out = best_q;
         best
     }
 
@@ -286,18 +288,16 @@ impl<'r> NumericIk<'r> {
     }
 
     /// One damped-least-squares descent from `seed`.
-    fn descend(&self, target: &Isometry3<f64>, seed: &[f64], q_out: &mut [f64]) -> IkOutcome {
+    fn descend(&self, target: &Isometry3<f64>, seed: &Joints, q_out: &mut Joints) -> IkOutcome {
         let n = self.robot.dof();
         let mut state = WarmStart::new();
-        for (i, (q, s)) in state.q.iter_mut().zip(seed).take(n).enumerate() {
+        state.q = Joints::zeros(n);
+        for (i, (q, s)) in state.q.iter_mut().zip(seed.iter()).enumerate() {
             *q = s.clamp(self.lower[i], self.upper[i]);
         }
-        state.pose = self
-            .robot
-            .chain()
-            .fk_jacobian(&state.q[..n], &mut state.jac);
+        state.pose = self.robot.chain().fk_jacobian(&state.q, &mut state.jac);
         let out = self.descend_from(target, &mut state);
-        q_out[..n].copy_from_slice(&state.q[..n]);
+        *q_out = state.q;
         out
     }
 
@@ -311,24 +311,25 @@ impl<'r> NumericIk<'r> {
         &self,
         target: &Isometry3<f64>,
         warm: &mut WarmStart,
-        q_out: &mut [f64],
+        q_out: &mut Joints,
     ) -> IkOutcome {
-        let n = self.robot.dof();
         if !warm.ready {
-            for i in 0..n {
-                warm.q[i] = warm.q[i].clamp(self.lower[i], self.upper[i]);
+            let mut q = Joints::zeros(self.robot.dof());
+            for (i, (v, w)) in q.iter_mut().zip(warm.q.iter()).enumerate() {
+                *v = w.clamp(self.lower[i], self.upper[i]);
             }
-            warm.pose = self.robot.chain().fk_jacobian(&warm.q[..n], &mut warm.jac);
+            warm.q = q;
+            warm.pose = self.robot.chain().fk_jacobian(&warm.q, &mut warm.jac);
             warm.ready = true;
         }
         let seed = warm.q;
         let out = self.descend_from(target, warm);
         if out.converged {
-            q_out[..n].copy_from_slice(&warm.q[..n]);
+            *q_out = warm.q;
             return out;
         }
-        let out = self.solve(target, &seed[..n], q_out);
-        warm.reset(&q_out[..n]);
+        let out = self.solve(target, &seed, q_out);
+        warm.reset(q_out);
         out
     }
 
@@ -336,13 +337,13 @@ impl<'r> NumericIk<'r> {
     fn descend_from(&self, target: &Isometry3<f64>, state: &mut WarmStart) -> IkOutcome {
         let chain = self.robot.chain();
         let n = chain.dof();
-        let q = &mut state.q[..n];
+        let q = state.q.as_mut_slice();
         let mut jac = state.jac;
         let mut pose = state.pose;
         let mut err = pose_error(&pose, target);
         let mut cost = self.scaled(&err).norm_squared();
         let mut lambda_sq = LAMBDA_SQ_START;
-        let mut trial = [0.0; MAX_DOF];
+        let mut trial = Joints::zeros(n);
         let mut trial_jac = Jacobian::zeros();
         let mut iterations = 0;
         while iterations < self.options.max_iterations && !self.converged(&err) {
@@ -399,14 +400,14 @@ impl<'r> NumericIk<'r> {
             } else {
                 1.0
             };
-            for i in 0..n {
-                trial[i] = (q[i] + dq[i] * shrink).clamp(self.lower[i], self.upper[i]);
+            for (i, t) in trial.iter_mut().enumerate() {
+                *t = (q[i] + dq[i] * shrink).clamp(self.lower[i], self.upper[i]);
             }
-            let trial_pose = chain.fk_jacobian(&trial[..n], &mut trial_jac);
+            let trial_pose = chain.fk_jacobian(&trial, &mut trial_jac);
             let trial_err = pose_error(&trial_pose, target);
             let trial_cost = self.scaled(&trial_err).norm_squared();
             if trial_cost < cost {
-                q.copy_from_slice(&trial[..n]);
+                q.copy_from_slice(&trial);
                 jac = trial_jac;
                 pose = trial_pose;
                 err = trial_err;
@@ -427,6 +428,7 @@ impl<'r> NumericIk<'r> {
             position_error: err.fixed_rows::<3>(0).norm(),
             orientation_error: err.fixed_rows::<3>(3).norm(),
             iterations,
+            restarts: 0,
         }
     }
 
@@ -436,32 +438,32 @@ impl<'r> NumericIk<'r> {
     pub fn solve_with_restarts(
         &self,
         target: &Isometry3<f64>,
-        seed: &[f64],
+        seed: &Joints,
         restarts: usize,
-        q_out: &mut [f64],
+        q_out: &mut Joints,
     ) -> IkOutcome {
-        let n = self.robot.dof();
         let mut best = self.solve(target, seed, q_out);
         if best.converged {
             return best;
         }
-        let mut best_q = [0.0; MAX_DOF];
-        best_q[..n].copy_from_slice(&q_out[..n]);
+        let mut best_q = *q_out;
         let mut rng = crate::rng::SplitMix64::new(0x1c0d_e5ee);
-        let mut start = [0.0; MAX_DOF];
-        let mut q = [0.0; MAX_DOF];
+        let mut q = Joints::zeros(self.robot.dof());
+        let mut tried = 0;
         for _ in 0..restarts {
-            self.robot.random_config(&mut rng, &mut start[..n]);
-            let out = self.solve(target, &start[..n], &mut q[..n]);
+            tried += 1;
+            let start = self.robot.random_config(&mut rng);
+            let out = self.solve(target, &start, &mut q);
             if out.converged || self.score(&out) < self.score(&best) {
                 best = out;
-                best_q[..n].copy_from_slice(&q[..n]);
+                best_q = q;
                 if out.converged {
                     break;
                 }
             }
         }
-        q_out[..n].copy_from_slice(&best_q[..n]);
+        *q_out = best_q;
+        best.restarts = tried;
         best
     }
 }
@@ -480,5 +482,22 @@ mod tests {
         let ours = solve_spd6(&a, &b).unwrap();
         assert!((ours - reference).norm() < 1e-12);
         assert!(solve_spd6(&(-a), &b).is_none());
+    }
+
+    #[test]
+    fn restarts_are_counted_only_after_the_seed_fails() {
+        // source: common practice (a target 10 m out is beyond any 2 m arm, so every restart
+        // runs; the pose of the seed itself converges at once)
+        let dir = std::path::Path::new(env!("CARGO_MANIFEST_DIR"));
+        let robot = crate::robot::load_urdf(&dir.join("robots/arm6.urdf"), None).unwrap();
+        let ik = NumericIk::new(&robot, IkOptions::default());
+        let seed = Joints::from([0.1, 0.2, -0.3, 0.4, 0.5, 0.6]);
+        let mut q = Joints::zeros(6);
+        let near = robot.chain().fk(&seed);
+        assert_eq!(ik.solve_with_restarts(&near, &seed, 5, &mut q).restarts, 0);
+        let far = Isometry3::translation(10.0, 0.0, 0.0);
+        let out = ik.solve_with_restarts(&far, &seed, 5, &mut q);
+        assert!(!out.converged);
+        assert_eq!(out.restarts, 5);
     }
 }

@@ -3,7 +3,7 @@
 use super::escape::{count, visible as v};
 use super::{joint_display, RobotReport};
 use crate::error::{Error, Result};
-use crate::robot::{spherical_wrist, Robot};
+use crate::robot::{spherical_wrist, Joints, Robot};
 use crate::rotation;
 use nalgebra::Isometry3;
 use serde::Serialize;
@@ -210,7 +210,7 @@ pub struct IkSolutionReport {
 impl IkSolutionReport {
     /// A solution `q` (SI) with its residual against `target` computed by FK; an error when
     /// any of its numbers is not finite.
-    pub fn new(robot: &Robot, q: &[f64], target: &Isometry3<f64>) -> Result<Self> {
+    pub fn new(robot: &Robot, q: &Joints, target: &Isometry3<f64>) -> Result<Self> {
         let pose = robot.chain().fk(q);
         let report = IkSolutionReport {
             joints_deg: robot

@@ -13,6 +13,9 @@ pub use joints_csv::JointsCsv;
 pub use text::{render_text, Style};
 
 use crate::assess::{Finding, Severity};
+pub use crate::check::Verdict;
+pub use crate::units_display::{joint_display, joint_unit};
+
 use crate::check::{Advice, CheckOutcome, Feasibility};
 use crate::error::{Error, Result};
 use crate::job::{Job, Motion};
@@ -27,24 +30,6 @@ pub const CAUTIONS: [&str; 5] = [
     "The model ignores collisions, cables and hoses, payload, dynamics and the controller's own interpolation and blending.",
     "Results are only as good as the robot description, tool offset and work frame given to armpath: check them against the cell.",
 ];
-
-/// Display value of a joint quantity: deg for revolute, mm for prismatic.
-pub fn joint_display(kind: JointKind, si: f64) -> f64 {
-    if kind.is_prismatic() {
-        si * 1e3
-    } else {
-        si.to_degrees()
-    }
-}
-
-/// Unit name of a joint position: `deg` or `mm`.
-pub fn joint_unit(kind: JointKind) -> &'static str {
-    if kind.is_prismatic() {
-        "mm"
-    } else {
-        "deg"
-    }
-}
 
 fn finite(v: f64) -> Option<f64> {
     v.is_finite().then_some(v)
@@ -191,27 +176,6 @@ pub struct PathReport {
 /// Rows of the segment table a report keeps (see [`PathReport::segment_table`]).
 pub const SEGMENT_TABLE_ROWS: usize = 500;
 
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
-#[serde(rename_all = "snake_case")]
-pub enum Verdict {
-    /// No findings beyond input notes.
-    Pass,
-    /// Warnings only: the path runs, with things to look at.
-    Warn,
-    /// At least one error finding.
-    Fail,
-}
-
-impl Verdict {
-    pub fn name(self) -> &'static str {
-        match self {
-            Verdict::Pass => "pass",
-            Verdict::Warn => "warn",
-            Verdict::Fail => "fail",
-        }
-    }
-}
-
 #[derive(Debug, Clone, Serialize)]
 pub struct Summary {
     pub verdict: Verdict,
@@ -332,7 +296,7 @@ impl ConfigurationReport {
     fn new(row: &Feasibility, robot: &Robot, job: &Job) -> Self {
         ConfigurationReport {
             config: row.config.to_string(),
-            runs: row.runs,
+            runs: row.runs(),
             first_failure: row.first_stop.map(|stop| StopReport {
                 kind: stop.kind.name(),
                 segment: stop.segment,
@@ -373,9 +337,11 @@ fn advice_text(advice: &Advice) -> String {
 
 impl Report {
     /// The report of a check: the outcome in display units, the configuration advice
-    /// appended to the stopping errors' messages. Refused when a number of it is not finite
-    /// (see [`Report::first_non_finite`]).
+    /// appended to the stopping errors' messages. Refused when a value of the outcome is not
+    /// finite ([`CheckOutcome::refuse_non_finite`]), or a number of the report is not (see
+    /// [`Report::first_non_finite`]: a finite SI value may overflow in display units).
     pub fn from_outcome(o: &CheckOutcome) -> Result<Report> {
+        o.refuse_non_finite()?;
         let mut findings = o.findings.clone();
         if let Some(advice) = &o.advice {
             let hint = advice_text(advice);
@@ -399,36 +365,35 @@ impl Report {
     }
 
     fn build(o: &CheckOutcome, findings: &[Finding]) -> Self {
-        let r = o;
-        let joint_name = |k: Option<usize>| k.map(|k| r.robot.joints()[k].name.clone());
+        let joint_name = |k: Option<usize>| k.map(|k| o.robot.joints()[k].name.clone());
         let e = o.extremes;
         Report {
             armpath_version: env!("CARGO_PKG_VERSION"),
-            robot: RobotReport::new(&r.robot),
+            robot: RobotReport::new(&o.robot),
             path: PathReport {
-                file: r.job.source.display().to_string(),
-                waypoints: r.job.names.clone(),
-                segments: r.plan.segment_count(),
-                speed_mm_s: r.job.speed * 1e3,
-                orientation_speed_deg_s: r.job.orientation_speed.map(f64::to_degrees),
+                file: o.job.source.display().to_string(),
+                waypoints: o.job.names.clone(),
+                segments: o.plan.segment_count(),
+                speed_mm_s: o.job.speed * 1e3,
+                orientation_speed_deg_s: o.job.orientation_speed.map(f64::to_degrees),
                 tool: ToolReport {
-                    tip_T_tcp: kinematics::PoseReport::of(&r.job.tool.tip_T_tcp),
-                    free_spin: r.job.tool.free_spin,
+                    tip_T_tcp: kinematics::PoseReport::of(&o.job.tool.tip_T_tcp),
+                    free_spin: o.job.tool.free_spin,
                     spin_range_deg: [
-                        r.job.tool.spin_range.0.to_degrees(),
-                        r.job.tool.spin_range.1.to_degrees(),
+                        o.job.tool.spin_range.0.to_degrees(),
+                        o.job.tool.spin_range.1.to_degrees(),
                     ],
-                    spin_rate_deg_s: r.job.tool.spin_rate.map(f64::to_degrees),
+                    spin_rate_deg_s: o.job.tool.spin_rate.map(f64::to_degrees),
                 },
-                base_T_work: kinematics::PoseReport::of(&r.job.base_T_work),
-                near_limit_margin_deg: r.job.limits.near_limit_margin_angle.to_degrees(),
-                near_limit_margin_mm: r.job.limits.near_limit_margin_length * 1e3,
-                segment_table: r
+                base_T_work: kinematics::PoseReport::of(&o.job.base_T_work),
+                near_limit_margin_deg: o.job.limits.near_limit_margin_angle.to_degrees(),
+                near_limit_margin_mm: o.job.limits.near_limit_margin_length * 1e3,
+                segment_table: o
                     .plan
                     .segments()
                     .take(SEGMENT_TABLE_ROWS)
                     .map(|g| {
-                        let name = |i: usize| r.job.waypoint_name(i);
+                        let name = |i: usize| o.job.waypoint_name(i);
                         SegmentReport {
                             index: g.index,
                             from: name(g.index),
@@ -446,31 +411,31 @@ impl Report {
                         }
                     })
                     .collect(),
-                tool_angular_speed_limit_deg_s: r.job.limits.tool_angular_speed.to_degrees(),
-                joint_speed_scale: r.job.limits.joint_speed_scale,
-                step_mm: r.job.sampling.step * 1e3,
-                angle_step_deg: r.job.sampling.angle_step.to_degrees(),
-                singularity_threshold: r.thresholds.singularity,
+                tool_angular_speed_limit_deg_s: o.job.limits.tool_angular_speed.to_degrees(),
+                joint_speed_scale: o.job.limits.joint_speed_scale,
+                step_mm: o.job.sampling.step * 1e3,
+                angle_step_deg: o.job.sampling.angle_step.to_degrees(),
+                singularity_threshold: o.thresholds.singularity,
                 start: StartReport {
-                    method: r.start.method.name(),
-                    joints: r
+                    method: o.start.method.name(),
+                    joints: o
                         .robot
                         .joints()
                         .iter()
-                        .zip(&r.start.joints)
+                        .zip(&o.start.joints)
                         .map(|(j, v)| joint_display(j.kind, *v))
                         .collect(),
-                    alternatives: r.start.alternatives,
-                    config: r.start.config.map(|c| c.to_string()),
+                    alternatives: o.start.alternatives,
+                    config: o.start.config.map(|c| c.to_string()),
                 },
             },
             summary: Summary {
                 verdict: o.verdict(),
                 errors: o.errors(),
                 warnings: o.warnings(),
-                samples: r.totals.samples,
-                length_mm: r.totals.length * 1e3,
-                duration_s: r.totals.duration,
+                samples: o.totals.samples,
+                length_mm: o.totals.length * 1e3,
+                duration_s: o.totals.duration,
                 min_singularity: finite(e.min_singularity),
                 min_singularity_class: e.min_singularity_class.map(|c| c.name()),
                 min_singularity_s_mm: e.min_singularity_s.map(|s| s * 1e3),
@@ -482,11 +447,11 @@ impl Report {
             },
             findings: findings
                 .iter()
-                .map(|f| FindingReport::new(f, &r.robot))
+                .map(|f| FindingReport::new(f, &o.robot))
                 .collect(),
             configurations: o.feasibility.as_ref().map(|rows| {
                 rows.iter()
-                    .map(|row| ConfigurationReport::new(row, &r.robot, &r.job))
+                    .map(|row| ConfigurationReport::new(row, &o.robot, &o.job))
                     .collect()
             }),
             cautions: CAUTIONS.to_vec(),

@@ -5,6 +5,7 @@
 //! its data, holds no locks and allocates nothing per call: forward kinematics and the
 //! Jacobian write into caller-provided, stack-sized storage.
 
+use super::Joints;
 use nalgebra::{Isometry3, Matrix6, SMatrix, Translation3, Unit, UnitQuaternion, Vector3};
 
 /// Largest number of movable joints a chain may have: a 7-axis arm on a linear track fits.
@@ -196,9 +197,12 @@ impl Chain {
         self.tip_T_tcp
     }
 
-    /// Pose of the TCP in the base frame at joint positions `q` (rad / m, `q.len() == dof`).
+    /// Pose of the TCP in the base frame at joint positions `q` (rad / m). Contract:
+    /// `q.len() == dof`; extra values are ignored, and a shorter `q` stops at its last joint
+    /// (a meaningless pose, never a panic).
     #[inline]
-    pub fn fk(&self, q: &[f64]) -> Isometry3<f64> {
+    pub fn fk(&self, q: &Joints) -> Isometry3<f64> {
+        let q = q.as_slice();
         let (s, c) = self.half_angles(q);
         let mut t = Isometry3::identity();
         for (i, (step, &qi)) in self.steps.iter().zip(q).enumerate() {
@@ -208,13 +212,13 @@ impl Chain {
     }
 
     /// Pose of the tip link (without the tool) in the base frame.
-    pub fn fk_tip(&self, q: &[f64]) -> Isometry3<f64> {
+    pub fn fk_tip(&self, q: &Joints) -> Isometry3<f64> {
         self.fk(q) * self.tip_T_tcp.inverse()
     }
 
     /// Each joint's frame in the base frame at `q`, written to `out[..dof]` (before the joint's
     /// own motion, so the axis of joint i in the base frame is `out[i].rotation * axis_i`).
-    pub fn joint_frames(&self, q: &[f64], out: &mut [Isometry3<f64>]) {
+    pub fn joint_frames(&self, q: &Joints, out: &mut [Isometry3<f64>]) {
         let mut base_T_link = Isometry3::identity();
         for ((joint, &qi), slot) in self.joints.iter().zip(q).zip(out.iter_mut()) {
             let base_T_joint = base_T_link * joint.parent_T_joint;
@@ -226,7 +230,8 @@ impl Chain {
     /// TCP pose in the base frame and the geometric Jacobian at the TCP (see [`Jacobian`]).
     /// Columns beyond `dof` are left untouched.
     #[inline]
-    pub fn fk_jacobian(&self, q: &[f64], jac: &mut Jacobian) -> Isometry3<f64> {
+    pub fn fk_jacobian(&self, q: &Joints, jac: &mut Jacobian) -> Isometry3<f64> {
+        let q = q.as_slice();
         // First pass: axis and origin of every joint in the base frame.
         let mut axes = [Vector3::zeros(); MAX_DOF];
         let mut origins = [Vector3::zeros(); MAX_DOF];

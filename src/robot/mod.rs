@@ -2,6 +2,7 @@
 
 mod chain;
 mod fastmath;
+mod joints;
 mod load;
 mod ranges;
 mod singularity;
@@ -9,12 +10,13 @@ mod wrist;
 mod xml;
 
 pub use chain::{manipulability, scaled_jjt, Chain, ChainJoint, Jacobian, JointKind, MAX_DOF};
+pub use joints::Joints;
 pub use load::{from_urdf_str, load_urdf};
 pub use ranges::{
     check_offset, check_pose, MAX_EFFORT, MAX_JOINT_SPEED, MAX_LENGTH_M, MAX_ORIGIN_ANGLE_RAD,
     MAX_REVOLUTE_TURNS, MIN_JOINT_SPEED,
 };
-pub use singularity::{SingularityClass, SingularityModel};
+pub use singularity::{SingularityClass, SingularityModel, DEFAULT_SINGULARITY_THRESHOLD};
 pub use wrist::{spherical_wrist, WristCheck, AXIS_ANGLE_TOLERANCE};
 
 use nalgebra::{Isometry3, Vector3};
@@ -118,21 +120,18 @@ impl Robot {
 
     /// The middle of every joint's range (0 for a continuous joint): the natural "home"
     /// guess for a search and the fallback joints of a pose that cannot be reached.
-    pub fn mid_range(&self) -> Vec<f64> {
-        self.joints
-            .iter()
-            .map(|j| {
-                if j.lower.is_finite() {
-                    0.5 * (j.lower + j.upper)
-                } else {
-                    0.0
-                }
-            })
-            .collect()
+    pub fn mid_range(&self) -> Joints {
+        let mut q = Joints::zeros(self.dof());
+        for (v, j) in q.iter_mut().zip(&self.joints) {
+            if j.lower.is_finite() {
+                *v = 0.5 * (j.lower + j.upper);
+            }
+        }
+        q
     }
 
     /// True when every value of `q` is inside its joint's range.
-    pub fn within_limits(&self, q: &[f64]) -> bool {
+    pub fn within_limits(&self, q: &Joints) -> bool {
         self.joints.iter().zip(q).all(|(j, &v)| j.contains(v))
     }
 
@@ -172,7 +171,6 @@ impl Robot {
 
     fn estimate_reach(&self) -> f64 {
         let mut rng = crate::rng::SplitMix64::new(0x5eed_a7a7);
-        let mut q = vec![0.0; self.dof()];
         let mut frames = vec![Isometry3::identity(); self.dof()];
         let mut best: f64 = 0.0;
         let chain_no_tool = {
@@ -181,11 +179,11 @@ impl Robot {
             c
         };
         for k in 0..4096 {
-            if k == 0 {
-                q.iter_mut().for_each(|v| *v = 0.0);
+            let q = if k == 0 {
+                Joints::zeros(self.dof())
             } else {
-                self.random_config(&mut rng, &mut q);
-            }
+                self.random_config(&mut rng)
+            };
             chain_no_tool.joint_frames(&q, &mut frames);
             let origin = frames[0].translation.vector;
             let tip = chain_no_tool.fk(&q).translation.vector;
@@ -198,13 +196,15 @@ impl Robot {
 
     /// Draw a configuration uniformly within the joint ranges (continuous joints: ±π;
     /// ranges wider than ±2π are drawn within ±2π, enough for every winding of interest).
-    pub fn random_config(&self, rng: &mut crate::rng::SplitMix64, q: &mut [f64]) {
+    pub fn random_config(&self, rng: &mut crate::rng::SplitMix64) -> Joints {
         use std::f64::consts::PI;
+        let mut q = Joints::zeros(self.dof());
         for (j, v) in self.joints.iter().zip(q.iter_mut()) {
             let lo = j.lower.max(-2.0 * PI);
             let hi = j.upper.min(2.0 * PI);
             *v = lo + (hi - lo) * rng.next_f64();
         }
+        q
     }
 }
 
@@ -227,10 +227,9 @@ mod tests {
         ));
         let (centre, radius) = robot.reach_bound();
         let mut rng = crate::rng::SplitMix64::new(7);
-        let mut q = vec![0.0; robot.dof()];
         let mut farthest: f64 = 0.0;
         for _ in 0..5000 {
-            robot.random_config(&mut rng, &mut q);
+            let q = robot.random_config(&mut rng);
             let d = (robot.chain().fk(&q).translation.vector - centre).norm();
             assert!(d <= radius + 1e-12, "{d} beyond the bound {radius}");
             farthest = farthest.max(d);

@@ -3,7 +3,7 @@
 //! only placeholders (`1e308` for "no limit"), unit slips and values that would overflow;
 //! inside the bounds forward kinematics and the speed checks stay finite.
 
-use super::{JointKind, Robot};
+use super::{JointKind, Joints, Robot};
 use crate::error::{Error, Result};
 use std::f64::consts::PI;
 
@@ -153,7 +153,7 @@ pub(super) fn effort_problem(e: f64) -> Option<String> {
 impl Robot {
     /// Refuse joint values `q` (SI: rad or m) that lie beyond [`max_position`]; `option`
     /// names where they came from (`--joints`, `--seed`).
-    pub fn check_joint_values(&self, option: &str, q: &[f64]) -> Result<()> {
+    pub fn check_joint_values(&self, option: &str, q: &Joints) -> Result<()> {
         for (i, (j, &v)) in self.joints().iter().zip(q).enumerate() {
             let ok = v.is_finite() && v.abs() <= max_position(j.kind);
             if !ok {

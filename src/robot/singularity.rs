@@ -6,8 +6,13 @@
 //! rotation): 1 for an isotropic pose, 0 at a singularity, independent of the arm's size. For
 //! arms with fewer than six joints, `σ_min` is the smallest of the `dof` singular values.
 
-use super::{scaled_jjt, spherical_wrist, Chain, Jacobian, Robot, MAX_DOF};
+use super::{scaled_jjt, spherical_wrist, Chain, Jacobian, Joints, Robot, MAX_DOF};
 use nalgebra::{Isometry3, Vector3};
+
+/// Singularity-measure threshold below which a `singularity` warning is raised. On the demo
+/// arm 0.01 corresponds to the wrist within about 3.5° of alignment (axes 4 and 6), where
+/// joints 4 and 6 turn about 16 times faster than the tool.
+pub const DEFAULT_SINGULARITY_THRESHOLD: f64 = 0.01;
 
 /// The three classic singularities of a 6-axis arm with a spherical wrist.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
@@ -49,7 +54,7 @@ impl SingularityModel {
             let w = spherical_wrist(robot);
             if let (true, Some(c)) = (w.spherical, w.centre_at_zero) {
                 let mut frames = [Isometry3::identity(); MAX_DOF];
-                chain.joint_frames(&[0.0; 6], &mut frames[..6]);
+                chain.joint_frames(&Joints::zeros(6), &mut frames[..6]);
                 let z2 = frames[1].rotation * chain.joints()[1].axis.into_inner();
                 let z3 = frames[2].rotation * chain.joints()[2].axis.into_inner();
                 // Axes 2 and 3 parallel within the tolerance the closed-form detection uses.
@@ -92,7 +97,7 @@ impl SingularityModel {
     /// axes 4 and 6), elbow (sine of the angle between the upper arm and the line from axis 3
     /// to the wrist centre, seen along axis 2), shoulder (distance of the wrist centre from
     /// axis 1 over the reach).
-    pub fn classify(&self, chain: &Chain, q: &[f64]) -> Option<SingularityClass> {
+    pub fn classify(&self, chain: &Chain, q: &Joints) -> Option<SingularityClass> {
         let (wrist, elbow, shoulder) = self.class_distances(chain, q)?;
         let class = if wrist <= elbow && wrist <= shoulder {
             SingularityClass::Wrist
@@ -106,7 +111,7 @@ impl SingularityModel {
 
     /// The three normalised distances used by [`classify`](Self::classify): (wrist, elbow,
     /// shoulder), each 0 at its singularity.
-    pub fn class_distances(&self, chain: &Chain, q: &[f64]) -> Option<(f64, f64, f64)> {
+    pub fn class_distances(&self, chain: &Chain, q: &Joints) -> Option<(f64, f64, f64)> {
         let c4 = self.wrist_centre_in_j4?;
         let mut f = [Isometry3::identity(); MAX_DOF];
         chain.joint_frames(q, &mut f[..6]);

@@ -1,7 +1,7 @@
 //! Is the wrist spherical? Found geometrically: the last three joint axes (as lines in space)
 //! meet in one point.
 
-use super::Robot;
+use super::{Joints, Robot};
 use nalgebra::{Isometry3, Matrix3, Point3, Vector3};
 
 /// The answer of [`spherical_wrist`] with the evidence.
@@ -54,8 +54,8 @@ pub fn spherical_wrist(robot: &Robot) -> WristCheck {
     let mut centre0 = None;
     let mut frames = vec![Isometry3::identity(); n];
     for (k, q) in [
-        vec![0.0; n],
-        (0..n).map(|i| 0.3 + 0.17 * i as f64).collect(),
+        Joints::zeros(n),
+        Joints::zeros(n).map(|i, _| 0.3 + 0.17 * i as f64),
     ]
     .iter()
     .enumerate()

@@ -7,7 +7,7 @@
 use super::{residual, StartChoice, RESTARTS};
 use crate::ik::analytic::{AnalyticSolution, Config, OrthoParallel};
 use crate::ik::{IkOptions, NumericIk, WarmStart};
-use crate::robot::{Robot, MAX_DOF};
+use crate::robot::{Joints, Robot};
 use nalgebra::Isometry3;
 
 use super::Reach;
@@ -16,33 +16,45 @@ use super::Reach;
 #[derive(Debug, Clone, Copy)]
 pub(crate) struct Solved {
     /// The joints; the last reached ones when the target is unreachable.
-    pub q: [f64; MAX_DOF],
+    pub q: Joints,
     pub reach: Reach,
     /// Remaining position (m) and orientation (rad) error.
     pub position_error: f64,
     pub orientation_error: f64,
     /// The configuration's branch ended and the walk went on in another, (from, to).
     pub config_change: Option<(Config, Config)>,
+    /// The solve ran a full search after failing: a random-restart search or the closed
+    /// form's numerical distance probe.
+    pub full_search: bool,
+    /// Random restarts the full search ran.
+    pub restarts: u32,
 }
 
 impl Solved {
     /// Solved at joints `q` with the residuals given.
-    pub fn reached(q: [f64; MAX_DOF], position_error: f64, orientation_error: f64) -> Self {
+    pub fn reached(q: Joints, position_error: f64, orientation_error: f64) -> Self {
         Solved {
             q,
             reach: Reach::Reached,
             position_error,
             orientation_error,
             config_change: None,
+            full_search: false,
+            restarts: 0,
+        }
+    }
+
+    /// The same solve, marked as having run a full search with `restarts` random restarts.
+    fn searched(self, restarts: u32) -> Self {
+        Solved {
+            full_search: true,
+            restarts,
+            ..self
         }
     }
 
     /// Not solved: the joints stay at `last_good`, the residuals say how far the pose is.
-    pub fn unreachable(
-        last_good: [f64; MAX_DOF],
-        position_error: f64,
-        orientation_error: f64,
-    ) -> Self {
+    pub fn unreachable(last_good: Joints, position_error: f64, orientation_error: f64) -> Self {
         Solved {
             reach: Reach::Unreachable,
             ..Solved::reached(last_good, position_error, orientation_error)
@@ -62,16 +74,16 @@ pub(crate) trait Follower {
     fn sample(
         &mut self,
         base_T_target: &Isometry3<f64>,
-        last_good: &[f64; MAX_DOF],
+        last_good: &Joints,
         full_search: bool,
         probe: &mut (f64, f64),
     ) -> Solved;
 
     /// Joints at the end `base_T_end` of a joint move starting at `q0`.
-    fn move_end(&mut self, base_T_end: &Isometry3<f64>, q0: &[f64; MAX_DOF]) -> Solved;
+    fn move_end(&mut self, base_T_end: &Isometry3<f64>, q0: &Joints) -> Solved;
 
     /// A sample was emitted; `last_good` are the last reached joints.
-    fn settle(&mut self, _last_good: &[f64; MAX_DOF]) {}
+    fn settle(&mut self, _last_good: &Joints) {}
 }
 
 /// Numerical continuity: the position-unlimited tracker warm-started from the previous
@@ -104,50 +116,53 @@ impl Follower for NumericContinuity<'_> {
     fn sample(
         &mut self,
         base_T_target: &Isometry3<f64>,
-        last_good: &[f64; MAX_DOF],
+        last_good: &Joints,
         full_search: bool,
         _probe: &mut (f64, f64),
     ) -> Solved {
-        let n = self.n;
-        let mut q = [0.0; MAX_DOF];
+        let mut q = Joints::zeros(self.n);
         let out = self
             .tracker
-            .solve_warm(base_T_target, &mut self.warm, &mut q[..n]);
+            .solve_warm(base_T_target, &mut self.warm, &mut q);
         if out.converged {
             return Solved::reached(q, out.position_error, out.orientation_error);
         }
         if !full_search {
             return Solved::unreachable(*last_good, out.position_error, out.orientation_error);
         }
-        let alt =
-            self.limited
-                .solve_with_restarts(base_T_target, &last_good[..n], RESTARTS, &mut q[..n]);
-        if alt.converged {
+        let alt = self
+            .limited
+            .solve_with_restarts(base_T_target, last_good, RESTARTS, &mut q);
+        let solved = if alt.converged {
             Solved::reached(q, alt.position_error, alt.orientation_error)
         } else {
             Solved::unreachable(*last_good, alt.position_error, alt.orientation_error)
-        }
+        };
+        solved.searched(alt.restarts)
     }
 
-    fn move_end(&mut self, base_T_end: &Isometry3<f64>, q0: &[f64; MAX_DOF]) -> Solved {
-        let n = self.n;
-        let mut q1 = [0.0; MAX_DOF];
+    fn move_end(&mut self, base_T_end: &Isometry3<f64>, q0: &Joints) -> Solved {
+        let mut q1 = Joints::zeros(self.n);
         let out = self
             .limited
-            .solve_with_restarts(base_T_end, &q0[..n], RESTARTS, &mut q1[..n]);
-        if out.converged {
+            .solve_with_restarts(base_T_end, q0, RESTARTS, &mut q1);
+        let solved = if out.converged {
             Solved::reached(q1, out.position_error, out.orientation_error)
         } else {
             Solved::unreachable(*q0, out.position_error, out.orientation_error)
+        };
+        if out.restarts > 0 {
+            solved.searched(out.restarts)
+        } else {
+            solved
         }
     }
 
-    fn settle(&mut self, last_good: &[f64; MAX_DOF]) {
+    fn settle(&mut self, last_good: &Joints) {
         // Keep the warm start on the last reached joints (a failed or restarted solve, or a
         // joint segment, leaves it elsewhere).
-        let n = self.n;
-        if self.warm.joints()[..n] != last_good[..n] {
-            self.warm.reset(&last_good[..n]);
+        if self.warm.joints() != last_good {
+            self.warm.reset(last_good);
         }
     }
 }
@@ -188,7 +203,7 @@ impl<'a> ClosedBranch<'a> {
 }
 
 /// Largest joint difference between `s` and `q`.
-fn distance(s: &AnalyticSolution, q: &[f64; MAX_DOF]) -> f64 {
+fn distance(s: &AnalyticSolution, q: &Joints) -> f64 {
     (0..6).fold(0.0f64, |m, k| m.max((s.joints[k] - q[k]).abs()))
 }
 
@@ -201,25 +216,19 @@ impl Follower for ClosedBranch<'_> {
     fn sample(
         &mut self,
         base_T_target: &Isometry3<f64>,
-        last_good: &[f64; MAX_DOF],
+        last_good: &Joints,
         full_search: bool,
         probe: &mut (f64, f64),
     ) -> Solved {
-        let n = self.robot.dof();
-        let mut q = [0.0; MAX_DOF];
         let config = self.config;
         // Stay on the configuration's branch, windings nearest the previous joints.
-        if let Some(sol) = self
-            .solver
-            .solve_near(base_T_target, &last_good[..n], config)
-        {
-            q[..6].copy_from_slice(&sol);
+        if let Some(q) = self.solver.solve_near(base_T_target, last_good, config) {
             // Closed-form solutions are exact to rounding (see `Parameters`' model
             // deviation); the residual is measured only when it will be reported.
             let (pe, oe) = if self.light {
                 (0.0, 0.0)
             } else {
-                residual(self.robot, &q[..n], base_T_target)
+                residual(self.robot, &q, base_T_target)
             };
             return Solved::reached(q, pe, oe);
         }
@@ -233,13 +242,9 @@ impl Follower for ClosedBranch<'_> {
             .min_by(|a, b| a.0.total_cmp(&b.0))
             .map(|(_, c)| c);
         if let Some(other) = next {
-            if let Some(sol) = self
-                .solver
-                .solve_near(base_T_target, &last_good[..n], other)
-            {
-                q[..6].copy_from_slice(&sol);
+            if let Some(q) = self.solver.solve_near(base_T_target, last_good, other) {
                 self.config = other;
-                let (pe, oe) = residual(self.robot, &q[..n], base_T_target);
+                let (pe, oe) = residual(self.robot, &q, base_T_target);
                 return Solved {
                     config_change: Some((config, other)),
                     ..Solved::reached(q, pe, oe)
@@ -248,21 +253,19 @@ impl Follower for ClosedBranch<'_> {
         }
         // Out of reach in every configuration: how far, from a local numerical solve.
         if full_search {
-            let mut probe_q = [0.0; MAX_DOF];
-            let out = self
-                .limited
-                .solve(base_T_target, &last_good[..n], &mut probe_q[..n]);
+            let mut probe_q = Joints::zeros(self.robot.dof());
+            let out = self.limited.solve(base_T_target, last_good, &mut probe_q);
             *probe = (out.position_error, out.orientation_error);
+            return Solved::unreachable(*last_good, probe.0, probe.1).searched(0);
         }
         Solved::unreachable(*last_good, probe.0, probe.1)
     }
 
-    fn move_end(&mut self, base_T_end: &Isometry3<f64>, q0: &[f64; MAX_DOF]) -> Solved {
+    fn move_end(&mut self, base_T_end: &Isometry3<f64>, q0: &Joints) -> Solved {
         // The in-range solution of the current configuration nearest the start, else of any
         // configuration (a joint move may change configuration; the branch followed
         // afterwards is the one the move ends in).
-        let n = self.robot.dof();
-        let mut q1 = [0.0; MAX_DOF];
+        let mut q1 = Joints::zeros(self.robot.dof());
         let sols = self.solver.solve(base_T_end);
         let nearest = |a: &&AnalyticSolution, b: &&AnalyticSolution| {
             distance(a, q0).total_cmp(&distance(b, q0))
@@ -274,14 +277,13 @@ impl Follower for ClosedBranch<'_> {
             .or_else(|| sols.iter().min_by(nearest));
         match pick {
             Some(sol) => {
-                q1[..6].copy_from_slice(&sol.joints);
                 self.config = sol.config;
-                let (pe, oe) = residual(self.robot, &q1[..n], base_T_end);
-                Solved::reached(q1, pe, oe)
+                let (pe, oe) = residual(self.robot, &sol.joints, base_T_end);
+                Solved::reached(sol.joints, pe, oe)
             }
             None => {
-                let out = self.limited.solve(base_T_end, &q0[..n], &mut q1[..n]);
-                Solved::unreachable(*q0, out.position_error, out.orientation_error)
+                let out = self.limited.solve(base_T_end, q0, &mut q1);
+                Solved::unreachable(*q0, out.position_error, out.orientation_error).searched(0)
             }
         }
     }

@@ -29,7 +29,7 @@ pub use start::{
 };
 pub use walk::Walker;
 
-use crate::robot::Robot;
+use crate::robot::{Joints, Robot};
 use crate::rotation;
 use nalgebra::Isometry3;
 
@@ -47,7 +47,7 @@ pub const RESTARTS: usize = 32;
 pub const RECOVER_EVERY: usize = 16;
 
 /// Position (m) and orientation (rad) distance of the TCP at joints `q` from `base_T_target`.
-pub fn residual(robot: &Robot, q: &[f64], base_T_target: &Isometry3<f64>) -> (f64, f64) {
+pub fn residual(robot: &Robot, q: &Joints, base_T_target: &Isometry3<f64>) -> (f64, f64) {
     let base_T_tcp = robot.chain().fk(q);
     (
         (base_T_tcp.translation.vector - base_T_target.translation.vector).norm(),

@@ -2,7 +2,7 @@
 
 use crate::ik::analytic::Config;
 use crate::job::Motion;
-use crate::robot::{Robot, SingularityClass, MAX_DOF};
+use crate::robot::{Joints, Robot, SingularityClass};
 use nalgebra::Isometry3;
 
 /// How the joints of a sample were obtained.
@@ -18,7 +18,7 @@ pub enum Reach {
 #[derive(Debug, Clone, Copy)]
 pub struct Jump {
     /// Joint change across the jump (rad or m), per joint.
-    pub delta: [f64; MAX_DOF],
+    pub delta: Joints,
     /// With the closed-form solver: the arm configuration ended here and the walk went on in
     /// another one, (from, to).
     pub config_change: Option<(Config, Config)>,
@@ -49,11 +49,11 @@ pub struct SampleRecord {
     pub position_error: f64,
     /// Remaining IK orientation error (rad).
     pub orientation_error: f64,
-    /// Joints (first `dof` entries meaningful).
-    pub joints: [f64; MAX_DOF],
+    /// Joints (rad / m), `dof` of them.
+    pub joints: Joints,
     /// Joint speeds since the previous sample (rad/s or m/s; 0 for the first and across a
-    /// jump or an unreachable sample, where a speed has no meaning).
-    pub joint_speed: [f64; MAX_DOF],
+    /// jump or an unreachable sample, where a speed has no meaning), `dof` of them.
+    pub joint_speed: Joints,
     /// Tool angular speed since the previous sample (rad/s).
     pub tool_angular_speed: f64,
     /// Singularity measure (see [`crate::robot::SingularityModel::measure`]).
@@ -87,4 +87,16 @@ pub struct WalkTotals {
     pub length: f64,
     /// Time of the last sample (s).
     pub duration: f64,
+    /// Targets handed to a solver: linear samples and joint-move ends inside the reach
+    /// sphere, and the jump test's Cartesian midpoints. A bound on the walk's work that does
+    /// not depend on the machine's speed.
+    pub ik_solves: usize,
+    /// Full searches after a failed solve: random-restart searches, or the closed form's
+    /// numerical probes of how far an unreachable pose is.
+    pub full_searches: usize,
+    /// Random restarts those searches ran (at most [`super::RESTARTS`] each).
+    pub restarts: usize,
+    /// Samples settled by the reach sphere alone ([`crate::robot::Robot::reach_bound`]),
+    /// without any solve.
+    pub beyond_reach: usize,
 }

@@ -5,7 +5,7 @@ use super::RESTARTS;
 use crate::ik::analytic::{Config, OrthoParallel};
 use crate::ik::{IkOptions, NumericIk};
 use crate::job::ConfigRequest;
-use crate::robot::{Jacobian, Robot, SingularityModel, MAX_DOF};
+use crate::robot::{Jacobian, Joints, Robot, SingularityModel};
 use nalgebra::Isometry3;
 
 /// Singularity measure of a well-conditioned pose of the demo arms. Dividing the measure by
@@ -24,7 +24,7 @@ pub fn margin(limit_ratio: f64, measure: f64) -> f64 {
 
 /// The smallest margin to a joint limit over half that joint's range, at joints `q` (1 when
 /// no joint has a finite, non-empty range).
-pub fn limit_ratio(robot: &Robot, q: &[f64]) -> f64 {
+pub fn limit_ratio(robot: &Robot, q: &Joints) -> f64 {
     let mut ratio: f64 = 1.0;
     for (j, &v) in robot.joints().iter().zip(q) {
         let half = 0.5 * (j.upper - j.lower);
@@ -36,7 +36,7 @@ pub fn limit_ratio(robot: &Robot, q: &[f64]) -> f64 {
 }
 
 /// [`margin`] of the pose at joints `q`: its limit ratio and its singularity measure.
-pub fn pose_margin(robot: &Robot, model: &SingularityModel, q: &[f64]) -> f64 {
+pub fn pose_margin(robot: &Robot, model: &SingularityModel, q: &Joints) -> f64 {
     let mut jac = Jacobian::zeros();
     robot.chain().fk_jacobian(q, &mut jac);
     margin(limit_ratio(robot, q), model.measure(&jac, robot.dof()))
@@ -79,7 +79,7 @@ pub struct StartChoice {
     /// How they were chosen.
     pub method: StartMethod,
     /// Joints at the first waypoint (rad / m).
-    pub joints: Vec<f64>,
+    pub joints: Joints,
     /// Distinct in-range solutions the search found for the first pose (0 when given).
     pub alternatives: usize,
     /// The arm configuration followed, when the closed-form solver is used.
@@ -115,7 +115,7 @@ pub fn choose_start(
     robot: &Robot,
     model: &SingularityModel,
     base_T_start: &Isometry3<f64>,
-    start_joints: Option<&[f64]>,
+    start_joints: Option<&Joints>,
     by: StartSolver,
 ) -> StartChoice {
     match by {
@@ -139,7 +139,7 @@ pub fn choose_start(
 }
 
 /// The start of no solution: the first pose is out of reach.
-fn unreachable_start(joints: Vec<f64>, config: Option<Config>) -> StartChoice {
+fn unreachable_start(joints: Joints, config: Option<Config>) -> StartChoice {
     StartChoice {
         method: StartMethod::Unreachable,
         joints,
@@ -152,47 +152,45 @@ fn numeric_start(
     robot: &Robot,
     model: &SingularityModel,
     base_T_start: &Isometry3<f64>,
-    start_joints: Option<&[f64]>,
+    start_joints: Option<&Joints>,
     options: IkOptions,
 ) -> StartChoice {
-    let n = robot.dof();
     let ik = NumericIk::new(robot, options);
-    let mut q = [0.0; MAX_DOF];
+    let mut q = Joints::zeros(robot.dof());
     if let Some(seed) = start_joints {
-        let out = ik.solve(base_T_start, seed, &mut q[..n]);
+        let out = ik.solve(base_T_start, seed, &mut q);
         if !out.converged {
-            return unreachable_start(seed.to_vec(), None);
+            return unreachable_start(*seed, None);
         }
         return StartChoice {
             method: StartMethod::StartJoints,
-            joints: q[..n].to_vec(),
+            joints: q,
             alternatives: 0,
             config: None,
         };
     }
     let mut rng = crate::rng::SplitMix64::new(0x57a7_7001);
-    let mut found: Vec<Vec<f64>> = Vec::new();
-    let mut seed = [0.0; MAX_DOF];
+    let mut found: Vec<Joints> = Vec::new();
     for k in 0..RESTARTS * 2 {
-        if k == 0 {
-            // Mid-range first: the natural "home" guess.
-            seed[..n].copy_from_slice(&robot.mid_range());
+        // Mid-range first: the natural "home" guess.
+        let seed = if k == 0 {
+            robot.mid_range()
         } else {
-            robot.random_config(&mut rng, &mut seed[..n]);
-        }
-        let out = ik.solve(base_T_start, &seed[..n], &mut q[..n]);
+            robot.random_config(&mut rng)
+        };
+        let out = ik.solve(base_T_start, &seed, &mut q);
         if out.converged
             && !found
                 .iter()
-                .any(|f| f.iter().zip(&q[..n]).all(|(a, b)| (a - b).abs() < 1e-4))
+                .any(|f| f.iter().zip(&q).all(|(a, b)| (a - b).abs() < 1e-4))
         {
-            found.push(q[..n].to_vec());
+            found.push(q);
         }
     }
     match found
         .iter()
         .max_by(|a, b| pose_margin(robot, model, a).total_cmp(&pose_margin(robot, model, b)))
-        .cloned()
+        .copied()
     {
         Some(best) => StartChoice {
             method: StartMethod::Search,
@@ -211,7 +209,7 @@ struct Candidate {
     /// [`pose_margin`] of the start.
     score: f64,
     config: Config,
-    joints: [f64; 6],
+    joints: Joints,
 }
 
 fn closed_start(
@@ -219,7 +217,7 @@ fn closed_start(
     model: &SingularityModel,
     solver: &OrthoParallel,
     base_T_start: &Isometry3<f64>,
-    start_joints: Option<&[f64]>,
+    start_joints: Option<&Joints>,
     request: &ConfigRequest,
     running: &[Config],
 ) -> StartChoice {
@@ -229,11 +227,11 @@ fn closed_start(
         return match (config, sol) {
             (Some(c), Some(sol)) => StartChoice {
                 method: StartMethod::StartJoints,
-                joints: sol.to_vec(),
+                joints: sol,
                 alternatives: 0,
                 config: Some(c),
             },
-            _ => unreachable_start(q.to_vec(), config),
+            _ => unreachable_start(*q, config),
         };
     }
     let mut best: Option<Candidate> = None;
@@ -262,7 +260,7 @@ fn closed_start(
     match best {
         Some(b) => StartChoice {
             method: StartMethod::Search,
-            joints: b.joints.to_vec(),
+            joints: b.joints,
             alternatives,
             config: Some(b.config),
         },
@@ -279,7 +277,7 @@ pub fn best_in_config(
     solver: &OrthoParallel,
     base_T_target: &Isometry3<f64>,
     config: Config,
-) -> Option<[f64; 6]> {
+) -> Option<Joints> {
     solver
         .solve(base_T_target)
         .iter()

@@ -9,7 +9,7 @@ use crate::ik::analytic::{Config, OrthoParallel};
 use crate::ik::{IkOptions, NumericIk};
 use crate::job::{Job, Motion};
 use crate::plan::{Plan, Segment};
-use crate::robot::{Jacobian, Robot, SingularityModel, MAX_DOF};
+use crate::robot::{Jacobian, Joints, Robot, SingularityModel};
 use crate::rotation;
 use nalgebra::{Isometry3, Vector3};
 
@@ -56,7 +56,7 @@ impl<'a> Walker<'a> {
             jump_ik: NumericIk::unlimited(robot, options),
             follower: Box::new(NumericContinuity::new(robot, options)),
             light: false,
-            class_below: crate::assess::DEFAULT_SINGULARITY_THRESHOLD,
+            class_below: crate::robot::DEFAULT_SINGULARITY_THRESHOLD,
             reach_centre,
             reach_radius,
         }
@@ -88,18 +88,17 @@ impl<'a> Walker<'a> {
 
     /// Walk the whole path from the given start joints (the solution at waypoint 0).
     pub fn walk(&mut self, start: &StartChoice, sink: &mut dyn SampleSink) -> WalkTotals {
-        let n = self.robot.dof();
         let mut state = State {
             prev: None,
             min_measure: f64::INFINITY,
             index: 0,
             s: 0.0,
             t: 0.0,
-            last_good: [0.0; MAX_DOF],
+            last_good: start.joints,
             unreachable_run: 0,
             probe: (0.0, 0.0),
+            work: WalkTotals::default(),
         };
-        state.last_good[..n].copy_from_slice(&start.joints);
         self.follower.begin(start, self.light);
         sink.begin(self.robot, self.plan.estimated_samples);
         // The first sample: waypoint 0.
@@ -109,9 +108,8 @@ impl<'a> Walker<'a> {
         } else {
             Reach::Reached
         };
-        let mut q = [0.0; MAX_DOF];
-        q[..n].copy_from_slice(&start.joints);
-        let (pe, oe) = residual(self.robot, &q[..n], &first_target);
+        let q = start.joints;
+        let (pe, oe) = residual(self.robot, &q, &first_target);
         self.emit(
             &mut state,
             sink,
@@ -147,6 +145,7 @@ impl<'a> Walker<'a> {
             samples: state.index,
             length: state.s,
             duration: state.t,
+            ..state.work
         }
     }
 
@@ -207,27 +206,25 @@ impl<'a> Walker<'a> {
     ) -> Solved {
         if let Some(excess) = self.beyond_reach(base_T_target) {
             state.probe = (excess, 0.0);
+            state.work.beyond_reach += 1;
             return Solved::unreachable(state.last_good, excess, 0.0);
         }
         let full_search = state.unreachable_run.is_multiple_of(RECOVER_EVERY) || segment_end;
-        self.follower.sample(
+        let solved = self.follower.sample(
             base_T_target,
             &state.last_good,
             full_search,
             &mut state.probe,
-        )
+        );
+        state.count(&solved);
+        solved
     }
 
     /// Samples and time step of a joint move from `q0` to `q1`: no joint moves more than one
     /// angle step (or length step for a prismatic joint) between samples; the duration is the
     /// Cartesian one or the slowest joint's at its allowed speed, whichever is longer (a
     /// synchronised joint move).
-    fn joint_move_timing(
-        &self,
-        seg: &Segment,
-        q0: &[f64; MAX_DOF],
-        q1: &[f64; MAX_DOF],
-    ) -> JointMoveTiming {
+    fn joint_move_timing(&self, seg: &Segment, q0: &Joints, q1: &Joints) -> JointMoveTiming {
         let scale = self.job.limits.joint_speed_scale;
         let mut steps = seg.steps.max(1);
         let mut duration = seg.duration;
@@ -251,11 +248,17 @@ impl<'a> Walker<'a> {
     /// spread evenly over its joint-space steps: the TCP's route depends on the configuration
     /// and is not the programmed path.
     fn walk_joint(&mut self, seg: &Segment, s0: f64, state: &mut State, sink: &mut dyn SampleSink) {
-        let n = self.robot.dof();
         let q0 = state.last_good;
         let end = match self.beyond_reach(&seg.end) {
-            Some(excess) => Solved::unreachable(q0, excess, 0.0),
-            None => self.follower.move_end(&seg.end, &q0),
+            Some(excess) => {
+                state.work.beyond_reach += 1;
+                Solved::unreachable(q0, excess, 0.0)
+            }
+            None => {
+                let end = self.follower.move_end(&seg.end, &q0);
+                state.count(&end);
+                end
+            }
         };
         if end.reach == Reach::Unreachable {
             self.emit(
@@ -278,10 +281,7 @@ impl<'a> Walker<'a> {
         let JointMoveTiming { steps, dt } = self.joint_move_timing(seg, &q0, &q1);
         for i in 1..=steps {
             let u = i as f64 / steps as f64;
-            let mut q = [0.0; MAX_DOF];
-            for k in 0..n {
-                q[k] = q0[k] + (q1[k] - q0[k]) * u;
-            }
+            let q = q0.map(|k, v| v + (q1[k] - v) * u);
             let last = i == steps;
             let (pe, oe) = if last {
                 (end.position_error, end.orientation_error)
@@ -298,7 +298,7 @@ impl<'a> Walker<'a> {
                     target: if last {
                         seg.end
                     } else {
-                        self.robot.chain().fk(&q[..n])
+                        self.robot.chain().fk(&q)
                     },
                     solved: Solved::reached(q, pe, oe),
                     dt,
@@ -317,24 +317,25 @@ impl<'a> Walker<'a> {
             position_error,
             orientation_error,
             config_change,
+            ..
         } = a.solved;
         let (singularity, singularity_class) = if self.light {
             (1.0, None)
         } else {
             let mut jac = Jacobian::zeros();
-            self.robot.chain().fk_jacobian(&q[..n], &mut jac);
+            self.robot.chain().fk_jacobian(&q, &mut jac);
             let m = self.model.measure(&jac, n);
             // The class is read where a finding or the path's minimum needs it: below the
             // warning threshold or at a new smallest measure.
             let class = if m < self.class_below || m < state.min_measure {
-                self.model.classify(self.robot.chain(), &q[..n])
+                self.model.classify(self.robot.chain(), &q)
             } else {
                 None
             };
             state.min_measure = state.min_measure.min(m);
             (m, class)
         };
-        let mut joint_speed = [0.0; MAX_DOF];
+        let mut joint_speed = Joints::zeros(n);
         let mut tool_angular_speed = 0.0;
         let mut jump = None;
         if let Some(prev) = &state.prev {
@@ -344,21 +345,17 @@ impl<'a> Walker<'a> {
             }
             let both_reached = prev.reach == Reach::Reached && reach == Reach::Reached;
             if both_reached && a.check_jump {
-                jump = self.find_jump(prev, &a.target, &q);
+                jump = self.find_jump(prev, &a.target, &q, &mut state.work.ik_solves);
                 if let Some(change) = config_change {
                     // A change of configuration is a jump whatever the midpoint test says.
-                    let mut delta = [0.0; MAX_DOF];
-                    for (k, d) in delta.iter_mut().enumerate().take(n) {
-                        *d = q[k] - prev.joints[k];
-                    }
                     jump = Some(Jump {
-                        delta,
+                        delta: q.map(|k, v| v - prev.joints[k]),
                         config_change: Some(change),
                     });
                 }
             }
             if both_reached && jump.is_none() && a.dt > 0.0 {
-                for ((v, qk), q_prev) in joint_speed.iter_mut().zip(&q).zip(&prev.joints).take(n) {
+                for ((v, qk), q_prev) in joint_speed.iter_mut().zip(&q).zip(&prev.joints) {
                     *v = (qk - q_prev) / a.dt;
                 }
             }
@@ -405,12 +402,14 @@ impl<'a> Walker<'a> {
         &self,
         prev: &SampleRecord,
         target: &Isometry3<f64>,
-        q: &[f64; MAX_DOF],
+        q: &Joints,
+        ik_solves: &mut usize,
     ) -> Option<Jump> {
-        let n = self.robot.dof();
         let opts = self.options;
-        let size = |a: &[f64; MAX_DOF], b: &[f64; MAX_DOF]| {
-            (0..n).fold(0.0f64, |m, k| m.max((a[k] - b[k]).abs()))
+        let size = |a: &Joints, b: &Joints| {
+            a.iter()
+                .zip(b)
+                .fold(0.0f64, |m, (x, y)| m.max((x - y).abs()))
         };
         let original = size(&prev.joints, q);
         if original == 0.0 {
@@ -419,22 +418,20 @@ impl<'a> Walker<'a> {
         let (mut qa, mut qb) = (prev.joints, *q);
         let (mut pa, mut pb) = (prev.target, *target);
         for _ in 0..JUMP_DEPTH {
-            let mut qm = [0.0; MAX_DOF];
-            for k in 0..n {
-                qm[k] = 0.5 * (qa[k] + qb[k]);
-            }
+            let qm = qa.map(|k, v| 0.5 * (v + qb[k]));
             let cart_mid = Isometry3::from_parts(
                 nalgebra::Translation3::from((pa.translation.vector + pb.translation.vector) * 0.5),
                 rotation::Geodesic::new(&pa.rotation, &pb.rotation).at(0.5),
             );
-            let joint_mid = self.robot.chain().fk(&qm[..n]);
+            let joint_mid = self.robot.chain().fk(&qm);
             let dev_p = (joint_mid.translation.vector - cart_mid.translation.vector).norm();
             let dev_r = rotation::angle_between(&joint_mid.rotation, &cart_mid.rotation);
             if dev_p <= opts.position_tolerance && dev_r <= opts.orientation_tolerance {
                 return None;
             }
-            let mut qs = [0.0; MAX_DOF];
-            let out = self.jump_ik.solve(&cart_mid, &qm[..n], &mut qs[..n]);
+            let mut qs = Joints::zeros(qm.len());
+            let out = self.jump_ik.solve(&cart_mid, &qm, &mut qs);
+            *ik_solves += 1;
             if !out.converged {
                 // The midpoint itself cannot be solved from here: the step crosses a
                 // singularity or a branch boundary.
@@ -449,12 +446,8 @@ impl<'a> Walker<'a> {
             }
         }
         if size(&qa, &qb) > JUMP_KEEP_FRACTION * original {
-            let mut delta = [0.0; MAX_DOF];
-            for k in 0..n {
-                delta[k] = q[k] - prev.joints[k];
-            }
             Some(Jump {
-                delta,
+                delta: q.map(|k, v| v - prev.joints[k]),
                 config_change: None,
             })
         } else {
@@ -477,11 +470,22 @@ struct State {
     index: usize,
     s: f64,
     t: f64,
-    last_good: [f64; MAX_DOF],
+    last_good: Joints,
     /// Unreachable samples since the last reached one.
     unreachable_run: usize,
     /// Distance (position m, orientation rad) of the last measured unreachable sample.
     probe: (f64, f64),
+    /// The work counters of [`WalkTotals`] (its other fields stay zero here).
+    work: WalkTotals,
+}
+
+impl State {
+    /// Count one solve handed to the follower.
+    fn count(&mut self, solved: &Solved) {
+        self.work.ik_solves += 1;
+        self.work.full_searches += usize::from(solved.full_search);
+        self.work.restarts += solved.restarts as usize;
+    }
 }
 
 /// One sample to emit: where it is on the path and what was solved there.

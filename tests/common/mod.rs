@@ -101,7 +101,7 @@ pub fn arm6_pose(q_deg: &[f64], shift_mm: [f64; 3], roll_deg: f64) -> String {
         UnitQuaternion::identity(),
     ));
     let q: Vec<f64> = q_deg.iter().map(|d| d.to_radians()).collect();
-    let pose = robot.chain().fk(&q);
+    let pose = robot.chain().fk(&armpath::Joints::from_slice(&q).unwrap());
     let r =
         pose.rotation * UnitQuaternion::from_axis_angle(&Vector3::z_axis(), roll_deg.to_radians());
     let t = pose.translation.vector * 1e3 + Vector3::from(shift_mm);

@@ -13,6 +13,7 @@ use armpath::report::kinematics::{ClosedForm, IkReport, IkSolutionReport, PoseRe
 use armpath::report::{render_text, JointsCsv, Report, Style};
 use armpath::robot::{load_urdf, Robot};
 use armpath::solve::SampleSink;
+use armpath::Joints;
 use clap::Args;
 use nalgebra::{Isometry3, Translation3, Vector3};
 use std::io::IsTerminal;
@@ -129,18 +130,16 @@ fn load_robot(sel: &RobotSel) -> Result<Robot> {
 }
 
 /// Joint values from the command line into SI, checking the count.
-fn joints_si(robot: &Robot, option: &str, text: &str, rad: bool) -> Result<Vec<f64>> {
+fn joints_si(robot: &Robot, option: &str, text: &str, rad: bool) -> Result<Joints> {
     let v = numbers(option, text, Some(robot.dof()))?;
-    let q: Vec<f64> = robot
-        .joints()
-        .iter()
-        .zip(v)
-        .map(|(j, x)| match (rad, j.kind.is_prismatic()) {
+    let mut q = Joints::zeros(robot.dof());
+    for ((si, j), x) in q.iter_mut().zip(robot.joints()).zip(v) {
+        *si = match (rad, j.kind.is_prismatic()) {
             (true, _) => x,
             (false, true) => x * 1e-3,
             (false, false) => x.to_radians(),
-        })
-        .collect();
+        };
+    }
     robot.check_joint_values(option, &q)?;
     Ok(q)
 }
@@ -270,8 +269,7 @@ pub fn run_ik(a: IkArgs) -> Result<u8> {
         return Ok(if report.solutions.is_empty() { 1 } else { 0 });
     }
     let ik = NumericIk::new(&robot, IkOptions::default());
-    let n = robot.dof();
-    let mut q = vec![0.0; n];
+    let mut q = Joints::zeros(robot.dof());
     let outcome = match &a.seed {
         Some(s) => {
             let seed = joints_si(&robot, "--seed", s, a.rad)?;

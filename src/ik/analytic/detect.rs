@@ -24,7 +24,7 @@
 //! axis 6 from the wrist centre toward the flange (c4 ≥ 0).
 
 use super::geometry::{model_fk, Geometry};
-use crate::robot::{spherical_wrist, Robot};
+use crate::robot::{spherical_wrist, Joints, Robot};
 use nalgebra::{Isometry3, Matrix3, Rotation3, Translation3, UnitQuaternion, Vector3};
 
 /// The one tolerance on axis angles, shared with the singularity classes so that an arm the
@@ -110,7 +110,7 @@ pub(super) fn detect(robot: &Robot) -> Result<Model, String> {
         }
     }
     let len_tol = LENGTH_TOLERANCE * robot.reach();
-    let q0 = [0.0; 6];
+    let q0 = Joints::zeros(6);
     let mut frames = [Isometry3::identity(); 6];
     chain.joint_frames(&q0, &mut frames);
     let p: [Vector3<f64>; 6] = std::array::from_fn(|i| frames[i].translation.vector);
@@ -239,12 +239,13 @@ pub(super) fn detect(robot: &Robot) -> Result<Model, String> {
 
     // Confirm on the zero pose and random configurations.
     let mut rng = crate::rng::SplitMix64::new(0x0a7a_1e55);
-    let mut q = [0.0; 6];
     let (mut dev_m, mut dev_rad) = (0.0f64, 0.0f64);
     for k in 0..=CHECK_CONFIGS {
-        if k > 0 {
-            robot.random_config(&mut rng, &mut q);
-        }
+        let q = if k > 0 {
+            robot.random_config(&mut rng)
+        } else {
+            Joints::zeros(6)
+        };
         let theta: [f64; 6] = std::array::from_fn(|i| sign[i] * q[i] + offset[i]);
         let model = base_T_C * model_fk(&geometry, &theta) * flange_T_tip;
         let urdf = chain.fk_tip(&q);

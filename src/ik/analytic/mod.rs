@@ -55,7 +55,7 @@ pub use config::{Config, Elbow, Shoulder, Wrist};
 pub use geometry::Parameters;
 pub use solutions::{AnalyticSolution, Solutions, SpecialPose, MAX_SOLUTIONS};
 
-use crate::robot::Robot;
+use crate::robot::{Joints, Robot};
 use branches::{nearest_int, wrap, Free, Raw};
 use nalgebra::Isometry3;
 use std::f64::consts::{PI, TAU};
@@ -158,7 +158,7 @@ impl OrthoParallel {
     }
 
     #[inline]
-    fn canonical(&self, q: &[f64]) -> [f64; 6] {
+    fn canonical(&self, q: &Joints) -> [f64; 6] {
         std::array::from_fn(|i| self.model.sign[i] * q[i] + self.model.offset[i])
     }
 
@@ -212,7 +212,7 @@ impl OrthoParallel {
             loop {
                 let winding: [i8; 6] = std::array::from_fn(|i| ks[i][idx[i]]);
                 out.push(AnalyticSolution {
-                    joints: std::array::from_fn(|i| base[i] + TAU * winding[i] as f64),
+                    joints: six(|i| base[i] + TAU * winding[i] as f64),
                     config: sol.config,
                     winding,
                     within_limits: true,
@@ -256,7 +256,7 @@ impl OrthoParallel {
                 }
             }
             out.push(AnalyticSolution {
-                joints: std::array::from_fn(|i| base[i] + TAU * winding[i] as f64),
+                joints: six(|i| base[i] + TAU * winding[i] as f64),
                 config: sol.config,
                 winding,
                 within_limits: within,
@@ -275,9 +275,9 @@ impl OrthoParallel {
     pub fn solve_near(
         &self,
         base_T_tcp: &Isometry3<f64>,
-        q_ref: &[f64],
+        q_ref: &Joints,
         config: Config,
-    ) -> Option<[f64; 6]> {
+    ) -> Option<Joints> {
         if q_ref.len() < 6 || q_ref[..6].iter().any(|v| !v.is_finite()) {
             return None;
         }
@@ -297,7 +297,7 @@ impl OrthoParallel {
         let n = self.raw(base_T_tcp, free, &mut raw, Some(config));
         let sol = raw[..n].iter().find(|s| s.config == config)?;
         let base = self.principal(&sol.theta);
-        Some(std::array::from_fn(|i| {
+        Some(six(|i| {
             base[i] + TAU * nearest_int((q_ref[i] - base[i]) / TAU)
         }))
     }
@@ -306,7 +306,7 @@ impl OrthoParallel {
     /// [`config`](Config) documentation. `None` when `q` is too short. At a special pose the
     /// two labels that meet there are equally right; this returns front, up (at the front)
     /// and noflip.
-    pub fn config_of(&self, q: &[f64]) -> Option<Config> {
+    pub fn config_of(&self, q: &Joints) -> Option<Config> {
         if q.len() < 6 {
             return None;
         }
@@ -333,4 +333,10 @@ impl OrthoParallel {
             },
         ))
     }
+}
+
+/// The six joints of a solution, from their values by index.
+#[inline]
+fn six(f: impl FnMut(usize) -> f64) -> Joints {
+    Joints::from(std::array::from_fn::<f64, 6, _>(f))
 }

@@ -2,6 +2,7 @@
 //! flags, in a fixed-capacity list.
 
 use super::Config;
+use crate::robot::Joints;
 
 /// Capacity of [`Solutions`]: eight closed-form solutions times the windings of wide joints.
 /// arm6 (j4 ±190°, j6 ±360°) needs at most 8·2·3 = 48.
@@ -42,7 +43,7 @@ impl SpecialPose {
 #[derive(Debug, Clone, Copy, PartialEq, serde::Serialize)]
 pub struct AnalyticSolution {
     /// URDF joint values (rad), zero offsets and axis senses applied.
-    pub joints: [f64; 6],
+    pub joints: Joints,
     pub config: Config,
     /// 2π shift per joint: `joints[i] = principal_i + 2π·winding[i]` with the principal
     /// value in (−π, π].
@@ -54,7 +55,7 @@ pub struct AnalyticSolution {
 
 impl AnalyticSolution {
     pub(super) const EMPTY: AnalyticSolution = AnalyticSolution {
-        joints: [0.0; 6],
+        joints: Joints::zeros(6),
         config: Config::ALL[0],
         winding: [0; 6],
         within_limits: false,

@@ -9,7 +9,7 @@
 
 use crate::job::{Job, Motion};
 use crate::report::joint_display;
-use crate::robot::{JointKind, Robot};
+use crate::robot::{JointKind, Joints, Robot};
 use crate::solve::{Reach, SampleRecord, SampleSink};
 
 pub use super::envelope::{Bucket, Envelope};
@@ -180,7 +180,7 @@ pub struct PlotData {
     bucket_count: usize,
     joints: Vec<PlotJoint>,
     /// Allowed speed per joint (rad/s or m/s).
-    allowed: Vec<f64>,
+    allowed: Joints,
     env: Option<Envelope>,
     /// The same series against time.
     env_t: Option<Envelope>,
@@ -207,7 +207,7 @@ impl PlotData {
             step: job.sampling.step,
             bucket_count: buckets,
             joints: Vec::new(),
-            allowed: Vec::new(),
+            allowed: Joints::default(),
             env: None,
             env_t: None,
             time_step: job.sampling.step / job.speed,
@@ -241,11 +241,11 @@ impl PlotData {
                 },
             })
             .collect();
-        self.allowed = robot
-            .joints()
-            .iter()
-            .map(|j| j.velocity * self.joint_speed_scale)
-            .collect();
+        let mut allowed = Joints::zeros(robot.dof());
+        for (a, j) in allowed.iter_mut().zip(robot.joints()) {
+            *a = j.velocity * self.joint_speed_scale;
+        }
+        self.allowed = allowed;
         let series = 2 * robot.dof() + 2;
         self.env = Some(Envelope::new(series, self.bucket_count, self.step));
         self.env_t = Some(Envelope::new(series, self.bucket_count, self.time_step));
@@ -342,7 +342,7 @@ impl SampleSink for PlotData {
 }
 
 /// Add one sample's series at coordinate `x` (s or t) to an envelope.
-fn add_sample(env: &mut Envelope, x: f64, robot: &Robot, allowed: &[f64], rec: &SampleRecord) {
+fn add_sample(env: &mut Envelope, x: f64, robot: &Robot, allowed: &Joints, rec: &SampleRecord) {
     let n = allowed.len();
     let slot = env.slot(x);
     if rec.reach == Reach::Unreachable {

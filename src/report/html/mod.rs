@@ -11,6 +11,8 @@
 mod data;
 mod envelope;
 mod figures;
+mod inputs;
+mod markup;
 mod page;
 mod plots;
 mod views;
@@ -19,7 +21,8 @@ pub use data::{
     position_at, Bucket, Envelope, PlotData, PlotJoint, Trace, TracePoint, WaypointAt, BUCKETS,
     TRACE_POINTS,
 };
-pub use page::{escape, MAX_ROWS};
+pub use markup::escape;
+pub use page::MAX_ROWS;
 
 use crate::error::{Error, Result};
 use crate::job::Job;
