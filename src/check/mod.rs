@@ -13,7 +13,7 @@ use crate::ik::analytic::OrthoParallel;
 use crate::ik::IkOptions;
 use crate::job::{ConfigRequest, Job, StartJoints};
 use crate::plan::{plan, DEFAULT_MAX_SAMPLES};
-use crate::robot::{Joints, Robot, SingularityModel, MAX_DOF};
+use crate::robot::{Joints, Robot, SingularityModel};
 use crate::solve::{choose_start, residual, SampleRecord, SampleSink, StartSolver, Walker};
 
 /// Settings of a check beyond the job.
@@ -77,11 +77,6 @@ pub fn check(
     let start_si = match &job.start_joints {
         Some(sj) => Some(
             sj.to_si(&robot.prismatic_mask())
-                .and_then(|v| {
-                    Joints::from_slice(&v).ok_or_else(|| {
-                        format!("has {} values; armpath handles up to {MAX_DOF} joints: give one value per joint", v.len())
-                    })
-                })
                 .map_err(|m| Error::input(&job.source, sj.origin.clone(), m))?,
         ),
         None => None,

@@ -4,6 +4,7 @@
 
 use crate::error::Error;
 use crate::ik::analytic::{Config, Elbow, Shoulder, Wrist};
+use crate::robot::{Joints, MAX_DOF};
 use nalgebra::Isometry3;
 use std::path::{Path, PathBuf};
 use std::sync::Arc;
@@ -202,47 +203,44 @@ impl StartJoints {
     /// Values in SI given each joint's kind (`true` = prismatic). Errors (as a message) when the
     /// count differs from the robot's DOF, or a value lies outside
     /// [`units::MAX_ABS_ANGLE_RAD`] (revolute) or [`units::MAX_ABS_LENGTH_M`] (prismatic).
-    pub fn to_si(&self, prismatic: &[bool]) -> Result<Vec<f64>, String> {
-        if self.values.len() != prismatic.len() {
+    pub fn to_si(&self, prismatic: &[bool]) -> Result<Joints, String> {
+        if self.values.len() != prismatic.len() || prismatic.len() > MAX_DOF {
             return Err(format!(
                 "has {} values but the robot has {} joints: give one value per joint",
                 self.values.len(),
                 prismatic.len()
             ));
         }
-        self.values
-            .iter()
-            .zip(prismatic)
-            .enumerate()
-            .map(|(k, (v, &p))| {
-                let (si, max, kind, unit) = if p {
-                    let unit = if self.length_to_m == 1.0 { "m" } else { "mm" };
-                    (self.length_to_m, units::MAX_ABS_LENGTH_M, "prismatic", unit)
+        let mut q = Joints::zeros(prismatic.len());
+        for (k, (v, &p)) in self.values.iter().zip(prismatic).enumerate() {
+            let (si, max, kind, unit) = if p {
+                let unit = if self.length_to_m == 1.0 { "m" } else { "mm" };
+                (self.length_to_m, units::MAX_ABS_LENGTH_M, "prismatic", unit)
+            } else {
+                let unit = if self.angle_to_rad == 1.0 {
+                    "rad"
                 } else {
-                    let unit = if self.angle_to_rad == 1.0 {
-                        "rad"
-                    } else {
-                        "deg"
-                    };
-                    (
-                        self.angle_to_rad,
-                        units::MAX_ABS_ANGLE_RAD,
-                        "revolute",
-                        unit,
-                    )
+                    "deg"
                 };
-                if !(v * si).is_finite() || (v * si).abs() > max {
-                    return Err(format!(
-                        "value {} ({}) is outside the range of a {kind} joint, ±{} {unit}: \
-                         give a joint value within it (check the units: {unit})",
-                        k + 1,
-                        units::fmt_exact(*v),
-                        units::fmt_sci(max / si)
-                    ));
-                }
-                Ok(v * si)
-            })
-            .collect()
+                (
+                    self.angle_to_rad,
+                    units::MAX_ABS_ANGLE_RAD,
+                    "revolute",
+                    unit,
+                )
+            };
+            if !(v * si).is_finite() || (v * si).abs() > max {
+                return Err(format!(
+                    "value {} ({}) is outside the range of a {kind} joint, ±{} {unit}: \
+                     give a joint value within it (check the units: {unit})",
+                    k + 1,
+                    units::fmt_exact(*v),
+                    units::fmt_sci(max / si)
+                ));
+            }
+            q[k] = v * si;
+        }
+        Ok(q)
     }
 }
 

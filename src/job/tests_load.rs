@@ -238,7 +238,7 @@ fn units_metre_radian_apply_to_every_value() {
     let sj = job.start_joints.unwrap();
     assert_eq!((sj.angle_to_rad, sj.length_to_m), (1.0, 1.0));
     // A prismatic joint value stays in the length unit.
-    assert_eq!(sj.to_si(&[false, true]).unwrap(), vec![0.1, 0.2]);
+    assert_eq!(sj.to_si(&[false, true]).unwrap().as_slice(), &[0.1, 0.2]);
 }
 
 #[test]
