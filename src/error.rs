@@ -9,30 +9,44 @@ pub enum Error {
     /// A file could not be read or written.
     #[error("{}: {action} failed: {source}", path.display())]
     Io {
+        /// The file armpath tried to read or write.
         path: PathBuf,
         /// What armpath was doing, e.g. "reading" or "writing".
         action: &'static str,
+        /// The operating system's reason.
         #[source]
         source: std::io::Error,
     },
     /// The robot description is unusable. `location` names the joint, link or line.
     #[error("{}: {location}: {message}", path.display())]
     Robot {
+        /// The robot description file (URDF).
         path: PathBuf,
+        /// Joint, link or line where the problem was found.
         location: String,
+        /// What is wrong and what to do about it.
         message: String,
     },
     /// The path file, CSV waypoints or a setting are unusable. `location` is `line N`, a field
     /// path such as `waypoints[3].quat`, or a command-line option.
     #[error("{}: {location}: {message}", path.display())]
     Input {
+        /// The path file or waypoint CSV the problem belongs to (also for a setting overridden
+        /// on the command line).
         path: PathBuf,
+        /// `line N`, a field path or a command-line option.
         location: String,
+        /// What is wrong and what to do about it.
         message: String,
     },
     /// A command-line value is malformed (no file involved).
     #[error("{option}: {message}")]
-    Usage { option: String, message: String },
+    Usage {
+        /// The command-line option (or argument) at fault, as the user typed it.
+        option: String,
+        /// What is wrong and what to do about it.
+        message: String,
+    },
 }
 
 impl Error {

@@ -22,6 +22,7 @@
 //! let outcome = ik.solve(&base_T_tcp, &seed, &mut q);
 //! assert!(outcome.converged && outcome.position_error < 1e-5);
 //! ```
+#![warn(missing_docs)]
 #![allow(non_snake_case)]
 
 pub mod assess;

@@ -23,9 +23,11 @@ pub const DEFAULT_MAX_SAMPLES: u64 = 100_000_000;
 pub struct Segment {
     /// 0-based index; the segment ends at waypoint `index + 1`.
     pub index: usize,
+    /// How the controller moves along the segment: straight line or joint interpolation.
     pub motion: Motion,
-    /// TCP pose at the start and end (base frame).
+    /// TCP pose at the start (base frame).
     pub start: Isometry3<f64>,
+    /// TCP pose at the end (base frame), where waypoint `index + 1` is programmed.
     pub end: Isometry3<f64>,
     /// Straight-line TCP distance between the end poses (m).
     pub length: f64,

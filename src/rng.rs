@@ -7,10 +7,12 @@
 pub struct SplitMix64(u64);
 
 impl SplitMix64 {
+    /// A generator whose sequence is fixed by `seed` (any value, 0 included).
     pub fn new(seed: u64) -> Self {
         SplitMix64(seed)
     }
 
+    /// Next value, uniform over all 64-bit integers.
     pub fn next_u64(&mut self) -> u64 {
         self.0 = self.0.wrapping_add(0x9E37_79B9_7F4A_7C15);
         let mut z = self.0;

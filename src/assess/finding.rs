@@ -7,13 +7,28 @@ use serde::Serialize;
 #[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize)]
 #[serde(rename_all = "snake_case")]
 pub enum Kind {
+    /// `input` (warning): something in the input armpath worked around, e.g. a normalised
+    /// quaternion, a near half-turn orientation change or a repeated waypoint.
     Input,
+    /// `unreachable` (error): no IK solution within tolerance and the joint ranges; the value
+    /// is the remaining TCP position error (m).
     Unreachable,
+    /// `joint_jump` (error): a discontinuity in the joint path (a configuration change); the
+    /// value is the largest joint change (rad) and there is no limit.
     JointJump,
+    /// `joint_limit` (error): the continuous joint path leaves a joint's range; the value is
+    /// the joint position and the limit the bound it passed.
     JointLimit,
+    /// `near_joint_limit` (warning): inside the range but within the near-limit margin of a
+    /// bound; the value is the joint position and the limit that bound.
     NearJointLimit,
+    /// `singularity` (warning): the singularity measure below its threshold.
     Singularity,
+    /// `tool_angular_speed` (error): on a linear segment the tool turns faster than its limit
+    /// (rad/s).
     ToolAngularSpeed,
+    /// `joint_speed` (error): a joint faster than its URDF velocity times the speed scale
+    /// (rad/s or m/s).
     JointSpeed,
 }
 
@@ -45,7 +60,9 @@ impl Kind {
 #[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Serialize)]
 #[serde(rename_all = "snake_case")]
 pub enum Severity {
+    /// Reported, but does not fail the check (exit 0).
     Warning,
+    /// Fails the check (exit 1, verdict `fail`).
     Error,
 }
 
@@ -91,22 +108,27 @@ impl Quantity {
 /// A located finding. Values are SI; see [`Quantity`].
 #[derive(Debug, Clone)]
 pub struct Finding {
+    /// What was found; fixes the severity and the quantity of `value`.
     pub kind: Kind,
     /// Segment index (0-based), `None` for input findings not tied to a segment.
     pub segment: Option<usize>,
     /// Names of the waypoints the segment runs between.
     pub from: Option<String>,
+    /// Name of the waypoint the segment ends at; `None` like `from`.
     pub to: Option<String>,
     /// First and last sample index of the run.
     pub samples: Option<[usize; 2]>,
     /// Path distance (m) and time (s) at the first and last sample.
     pub s: Option<[f64; 2]>,
+    /// Time from the path start (s) at the first and last sample; `None` like `s`.
     pub t: Option<[f64; 2]>,
     /// Joint name, for joint findings.
     pub joint: Option<String>,
     /// The worst value over the run, and the limit it is compared with.
     pub value: Option<f64>,
+    /// `None` for `joint_jump` (any discontinuity is one) and for input findings.
     pub limit: Option<f64>,
+    /// What `value` and `limit` measure, hence their display unit.
     pub quantity: Quantity,
     /// Per-joint change across a jump (rad or m), `joint_jump` only.
     pub deltas: Option<Joints>,
@@ -142,6 +164,7 @@ impl Finding {
         }
     }
 
+    /// Severity of this finding (that of its kind).
     pub fn severity(&self) -> Severity {
         self.kind.severity()
     }

@@ -43,20 +43,30 @@ impl Default for Thresholds {
 #[derive(Debug, Clone, Copy)]
 pub struct Extremes {
     /// Smallest singularity measure over reached samples, and where.
+    /// +∞ when no sample was reached.
     pub min_singularity: f64,
+    /// Index of that sample; `None` when no sample was reached.
     pub min_singularity_sample: Option<usize>,
+    /// Singularity class at that sample; `None` when the arm's singularities are not
+    /// classified or no sample was reached.
     pub min_singularity_class: Option<SingularityClass>,
     /// Path distance (m) of that sample.
     pub min_singularity_s: Option<f64>,
     /// Largest tool angular speed on linear segments (rad/s), and where.
+    /// 0 when there is no linear segment.
     pub max_tool_angular_speed: f64,
+    /// Index of that sample; `None` when the tool never turned on a linear segment.
     pub max_tool_angular_speed_sample: Option<usize>,
     /// Largest joint speed over its allowed speed (velocity × scale), which joint, where.
     pub max_joint_speed_ratio: f64,
+    /// Index of that joint; `None` when no joint moved.
     pub max_joint_speed_joint: Option<usize>,
+    /// Index of that sample; `None` like the joint.
     pub max_joint_speed_sample: Option<usize>,
     /// Smallest margin to a joint limit over its half range (1 at mid-range, < 0 outside).
+    /// +∞ when no joint with a finite range was measured.
     pub min_limit_margin_ratio: f64,
+    /// Index of that joint; `None` when the ratio is +∞.
     pub min_limit_margin_joint: Option<usize>,
 }
 
@@ -149,6 +159,7 @@ pub struct Assessor<'a> {
 }
 
 impl<'a> Assessor<'a> {
+    /// An assessor for `job` planned as `plan`; the input findings of both are made here.
     pub fn new(job: &'a Job, plan: &'a Plan, thresholds: Thresholds) -> Self {
         Assessor {
             job,

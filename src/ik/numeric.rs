@@ -159,6 +159,7 @@ pub struct NumericIk<'r> {
     lower: [f64; MAX_DOF],
     upper: [f64; MAX_DOF],
     length_scale: f64,
+    /// Tolerances and effort; may be changed between solves.
     pub options: IkOptions,
 }
 
@@ -192,6 +193,8 @@ fn scaled_jjt_masked(
 }
 
 impl<'r> NumericIk<'r> {
+    /// A solver whose joints stay within the URDF position limits (each step is clamped into
+    /// them; continuous joints are unbounded).
     pub fn new(robot: &'r Robot, options: IkOptions) -> Self {
         let mut lower = [f64::NEG_INFINITY; MAX_DOF];
         let mut upper = [f64::INFINITY; MAX_DOF];

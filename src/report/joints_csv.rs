@@ -20,6 +20,8 @@ pub struct JointsCsv {
 }
 
 impl JointsCsv {
+    /// Opens `path` for the CSV (`-` = standard output); the header is written with the first
+    /// sample. An error names the file when it cannot be opened.
     pub fn create(path: &Path) -> Result<Self> {
         Ok(JointsCsv {
             out: OutputFile::create(path)?,

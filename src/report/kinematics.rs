@@ -12,6 +12,7 @@ use std::fmt::Write;
 /// `armpath robot`: the robot and its geometric facts.
 #[derive(Debug, Clone, Serialize)]
 pub struct RobotInfo {
+    /// The arm as a check report describes it (its JSON keys sit at the top level).
     #[serde(flatten)]
     pub robot: RobotReport,
     /// Wrist centre at the zero configuration (mm, base frame), when spherical.
@@ -54,6 +55,7 @@ impl RobotInfo {
         Ok(info)
     }
 
+    /// The facts as terminal text: chain, wrist, IK solver, then one row per joint.
     pub fn render_text(&self) -> String {
         let r = &self.robot;
         let mut o = String::new();
@@ -133,8 +135,12 @@ impl RobotInfo {
 /// A TCP pose for display: mm, quaternion (w ≥ 0) and rpy in degrees.
 #[derive(Debug, Clone, Serialize)]
 pub struct PoseReport {
+    /// Position (mm) of the child frame's origin in the parent frame (for `base_T_work`, the
+    /// work frame's origin in the base frame).
     pub xyz_mm: [f64; 3],
+    /// Orientation as a unit quaternion, scalar first, w ≥ 0.
     pub quat_wxyz: [f64; 4],
+    /// The same orientation as URDF roll, pitch, yaw about the fixed X, Y, Z axes (deg).
     pub rpy_deg: [f64; 3],
 }
 
@@ -179,6 +185,7 @@ impl PoseReport {
         Ok(report)
     }
 
+    /// Three lines of terminal text: position, quaternion and rpy.
     pub fn render_text(&self) -> String {
         let [x, y, z] = self.xyz_mm;
         let [w, qx, qy, qz] = self.quat_wxyz;
@@ -194,7 +201,9 @@ impl PoseReport {
 pub struct IkSolutionReport {
     /// Joints in deg (mm for prismatic joints).
     pub joints_deg: Vec<f64>,
+    /// Distance between the TCP at these joints and the target position (mm).
     pub residual_mm: f64,
+    /// Angle between the TCP orientation at these joints and the target's (deg).
     pub residual_deg: f64,
     /// Arm configuration label (closed-form solver only).
     #[serde(skip_serializing_if = "Option::is_none")]
@@ -237,12 +246,15 @@ impl IkSolutionReport {
 /// `armpath ik`: the solutions found.
 #[derive(Debug, Clone, Serialize)]
 pub struct IkReport {
+    /// The solutions found; empty when the pose has none within tolerance and joint limits.
     pub solutions: Vec<IkSolutionReport>,
     /// `numeric` or `closed_form`.
     pub solver: &'static str,
 }
 
 impl IkReport {
+    /// One row per solution (joints in `robot`'s display units, residuals, configuration), or
+    /// one line saying what to try when there is none.
     pub fn render_text(&self, robot: &Robot) -> String {
         let mut o = String::new();
         if self.solutions.is_empty() {

@@ -35,32 +35,47 @@ fn finite(v: f64) -> Option<f64> {
     v.is_finite().then_some(v)
 }
 
+/// One movable joint as the JSON `robot.joints[]` entry shows it, in display units.
 #[derive(Debug, Clone, Serialize)]
 pub struct JointReport {
+    /// The URDF joint name.
     pub name: String,
+    /// `revolute`, `continuous` or `prismatic`.
     pub kind: JointKind,
     /// `deg` or `mm`.
     pub unit: &'static str,
     /// Range in `unit`; null for a continuous joint.
     pub lower: Option<f64>,
+    /// Upper end of the range in `unit`; null for a continuous joint.
     pub upper: Option<f64>,
     /// Velocity limit in `unit`/s.
     pub velocity: f64,
 }
 
+/// The arm the check ran on (JSON `robot`), in display units.
 #[derive(Debug, Clone, Serialize)]
 pub struct RobotReport {
+    /// The URDF `<robot name>`.
     pub name: String,
+    /// The URDF file the robot was read from.
     pub urdf: String,
+    /// Number of movable joints (the length of every joint list in the report).
     pub dof: usize,
+    /// Link whose frame is the base frame.
     pub root_link: String,
+    /// Link the tool is mounted on.
     pub tip_link: String,
+    /// True when the last three axes meet in one point (closed-form solving and singularity
+    /// classes depend on it).
     pub spherical_wrist: bool,
+    /// Estimated reach (mm): a sampled estimate, a little below the true maximum.
     pub reach_mm: f64,
+    /// Movable joints, base to tip.
     pub joints: Vec<JointReport>,
 }
 
 impl RobotReport {
+    /// The robot's description converted to display units.
     pub fn new(robot: &Robot) -> Self {
         RobotReport {
             name: robot.name().to_string(),
@@ -86,6 +101,7 @@ impl RobotReport {
     }
 }
 
+/// How the joints at the first waypoint were chosen (JSON `path.start`).
 #[derive(Debug, Clone, Serialize)]
 pub struct StartReport {
     /// `start_joints` (given in the path file), `search` (best-scoring of the solutions found
@@ -122,6 +138,7 @@ impl StartReport {
 pub struct ToolReport {
     /// TCP in the tip-link frame.
     pub tip_T_tcp: kinematics::PoseReport,
+    /// The process does not care about rotation about tool z, so armpath may choose it.
     pub free_spin: bool,
     /// Allowed spin about tool z (deg), when `free_spin`.
     pub spin_range_deg: [f64; 2],
@@ -132,39 +149,58 @@ pub struct ToolReport {
 /// One planned segment: the inputs its timing comes from.
 #[derive(Debug, Clone, Serialize)]
 pub struct SegmentReport {
+    /// 0-based segment index.
     pub index: usize,
+    /// Name of the waypoint the segment starts at.
     pub from: String,
+    /// Name of the waypoint the segment ends at.
     pub to: String,
+    /// `linear` or `joint`.
     pub motion: Motion,
+    /// The segment ends at a process waypoint (constant speed required).
     pub process: bool,
+    /// Programmed TCP speed (mm/s).
     pub speed_mm_s: f64,
-    /// Straight-line TCP distance between the end poses.
+    /// Straight-line TCP distance between the end poses (mm).
     pub length_mm: f64,
-    /// Orientation change between the end poses.
+    /// Orientation change between the end poses (deg).
     pub turn_deg: f64,
-    /// Planned duration; for a joint move a lower bound (the walk adds the joint-speed bound).
+    /// Planned duration (s); for a joint move a lower bound (the walk adds the joint-speed bound).
     pub planned_s: f64,
 }
 
+/// The path and the settings the check used (JSON `path`), in display units.
 #[derive(Debug, Clone, Serialize)]
 pub struct PathReport {
+    /// The path file (YAML or CSV) the job was read from.
     pub file: String,
+    /// Waypoint names in path order.
     pub waypoints: crate::job::WaypointNames,
+    /// Number of segments (one fewer than the waypoints; repeated waypoints count).
     pub segments: usize,
+    /// Programmed TCP speed (mm/s); waypoints may set their own.
     pub speed_mm_s: f64,
-    /// Programmed reorientation speed, if set.
+    /// Programmed reorientation speed (deg/s); null when not set.
     pub orientation_speed_deg_s: Option<f64>,
+    /// The tool as mounted for the check.
     pub tool: ToolReport,
     /// The work frame in the robot base frame (waypoints are given in it).
     pub base_T_work: kinematics::PoseReport,
+    /// Tool angular speed above which `tool_angular_speed` is raised (deg/s).
     pub tool_angular_speed_limit_deg_s: f64,
+    /// Fraction of each URDF joint velocity limit a joint may use, in (0, 1].
     pub joint_speed_scale: f64,
     /// Margins to a joint limit that raise `near_joint_limit`: revolute (deg), prismatic (mm).
     pub near_limit_margin_deg: f64,
+    /// The prismatic-joint margin (mm); see `near_limit_margin_deg`.
     pub near_limit_margin_mm: f64,
+    /// Largest TCP distance between consecutive samples (mm).
     pub step_mm: f64,
+    /// Largest orientation change between consecutive samples (deg).
     pub angle_step_deg: f64,
+    /// Singularity measure (dimensionless) below which `singularity` is raised.
     pub singularity_threshold: f64,
+    /// How the joints at the first waypoint were chosen.
     pub start: StartReport,
     /// The first [`SEGMENT_TABLE_ROWS`] segments with their motion, speed and planned time
     /// (the HTML page lists them; the JSON leaves them out, since the path file has them).
@@ -176,49 +212,81 @@ pub struct PathReport {
 /// Rows of the segment table a report keeps (see [`PathReport::segment_table`]).
 pub const SEGMENT_TABLE_ROWS: usize = 500;
 
+/// The result in a few numbers (JSON `summary`), in display units.
 #[derive(Debug, Clone, Serialize)]
 pub struct Summary {
+    /// `pass`, `warn` (warnings beyond input notes) or `fail` (at least one error).
     pub verdict: Verdict,
+    /// Number of error findings.
     pub errors: usize,
+    /// Number of warning findings, input notes included.
     pub warnings: usize,
+    /// Number of samples checked along the path.
     pub samples: usize,
+    /// Path distance of the last sample checked (mm).
     pub length_mm: f64,
+    /// Time of the last sample checked (s).
     pub duration_s: f64,
-    /// Smallest singularity measure along the path (1 = isotropic, 0 = singular).
+    /// Smallest singularity measure along the path (1 = isotropic, 0 = singular); null when
+    /// no sample was reached.
     pub min_singularity: Option<f64>,
+    /// `wrist`, `elbow` or `shoulder` at that sample; null when the arm's singularities are
+    /// not classified or no sample was reached.
     pub min_singularity_class: Option<&'static str>,
+    /// Path distance of that sample (mm); null when no sample was reached.
     pub min_singularity_s_mm: Option<f64>,
+    /// Largest tool angular speed on linear segments (deg/s); 0 when there are none.
     pub max_tool_angular_speed_deg_s: f64,
     /// Largest joint speed over its allowed speed (≤ 1 is within limits).
     pub max_joint_speed_ratio: f64,
+    /// Name of the joint with that ratio; null when no joint moved.
     pub max_joint_speed_joint: Option<String>,
-    /// Smallest distance to a joint limit over half the joint's range (1 = mid-range).
+    /// Smallest distance to a joint limit over half the joint's range (1 = mid-range, < 0
+    /// outside the range); null when no limited joint was measured.
     pub min_limit_margin_ratio: Option<f64>,
+    /// Name of the joint with that margin; null like `min_limit_margin_ratio`.
     pub min_limit_margin_joint: Option<String>,
 }
 
+/// One finding as the JSON `findings[]` entry shows it, in display units. Fields that do not
+/// apply to a finding are null (an input finding about the whole file has no segment), except
+/// `joint_deltas`, which is left out.
 #[derive(Debug, Clone, Serialize)]
 pub struct FindingReport {
+    /// `unreachable`, `joint_limit`, `joint_jump`, … (fixed names scripts match on).
     pub kind: &'static str,
+    /// `warning` or `error`; errors fail the check.
     pub severity: Severity,
+    /// 0-based index of the segment it lies on.
     pub segment: Option<usize>,
+    /// Name of the waypoint that segment starts at.
     pub from: Option<String>,
+    /// Name of the waypoint that segment ends at.
     pub to: Option<String>,
+    /// First and last sample index of the flagged run (0-based from the path start).
     pub samples: Option<[usize; 2]>,
+    /// Path distance at the first and last sample (mm).
     pub s_mm: Option<[f64; 2]>,
+    /// Time from the path start at the first and last sample (s).
     pub t_s: Option<[f64; 2]>,
+    /// Joint name, for joint findings.
     pub joint: Option<String>,
+    /// Worst value over the run, in `unit`.
     pub value: Option<f64>,
+    /// The limit `value` is compared with, in `unit`; null for `joint_jump`.
     pub limit: Option<f64>,
+    /// Unit of `value` and `limit`: `mm`, `deg`, `deg/s`, `mm/s` or `none`.
     pub unit: &'static str,
     /// `joint_jump` only: the change of each joint across the jump, by joint name (deg; mm
     /// for prismatic joints).
     #[serde(skip_serializing_if = "Option::is_none")]
     pub joint_deltas: Option<std::collections::BTreeMap<String, f64>>,
+    /// What happened and what to try.
     pub message: String,
 }
 
 impl FindingReport {
+    /// The finding converted to display units; `robot` supplies the joint names and kinds.
     pub fn new(f: &Finding, robot: &Robot) -> Self {
         let q = f.quantity;
         FindingReport {
@@ -250,14 +318,21 @@ impl FindingReport {
 /// The whole result of a check.
 #[derive(Debug, Clone, Serialize)]
 pub struct Report {
+    /// Version of armpath that made the report.
     pub armpath_version: &'static str,
+    /// The arm.
     pub robot: RobotReport,
+    /// The path and the settings used.
     pub path: PathReport,
+    /// Verdict, counts and extremes.
     pub summary: Summary,
+    /// Every finding: notes on the run as a whole first, then in path order; empty for a
+    /// clean path.
     pub findings: Vec<FindingReport>,
     /// For arms with a closed-form solver: each arm configuration, whether the whole path
     /// runs in it, and if not where it first stops. Null for other arms.
     pub configurations: Option<Vec<ConfigurationReport>>,
+    /// The safety cautions ([`CAUTIONS`]), carried by every report.
     pub cautions: Vec<&'static str>,
 }
 

@@ -44,6 +44,7 @@ pub struct ChainJoint {
     pub parent_T_joint: Isometry3<f64>,
     /// Unit axis of motion in this joint's frame.
     pub axis: Unit<Vector3<f64>>,
+    /// Rotation about `axis` (revolute, continuous) or translation along it (prismatic).
     pub kind: JointKind,
 }
 

@@ -25,7 +25,9 @@ use std::path::PathBuf;
 /// Name, kind, range and speed limit of one movable joint (SI: rad or m, rad/s or m/s).
 #[derive(Debug, Clone, serde::Serialize)]
 pub struct JointInfo {
+    /// The URDF `<joint name>`.
     pub name: String,
+    /// Revolute or continuous (position in rad) or prismatic (position in m).
     pub kind: JointKind,
     /// Lower position limit; −∞ for continuous joints.
     pub lower: f64,
@@ -92,9 +94,11 @@ impl Robot {
     pub fn source(&self) -> &std::path::Path {
         &self.source
     }
+    /// Name of the link the chain starts at; its frame is the base frame.
     pub fn root_link(&self) -> &str {
         &self.root_link
     }
+    /// Name of the link the chain ends at; a mounted tool's TCP is given in its frame.
     pub fn tip_link(&self) -> &str {
         &self.tip_link
     }
@@ -102,9 +106,12 @@ impl Robot {
     pub fn joints(&self) -> &[JointInfo] {
         &self.joints
     }
+    /// Number of movable joints (the length of every joint vector for this arm).
     pub fn dof(&self) -> usize {
         self.joints.len()
     }
+    /// The flat chain for forward kinematics and Jacobians, tool included (`fk` gives
+    /// `base_T_tcp`).
     pub fn chain(&self) -> &Chain {
         &self.chain
     }

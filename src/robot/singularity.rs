@@ -27,6 +27,7 @@ pub enum SingularityClass {
 }
 
 impl SingularityClass {
+    /// Lower-case name as written in reports (the same word as the JSON value).
     pub fn name(self) -> &'static str {
         match self {
             SingularityClass::Wrist => "wrist",
@@ -46,6 +47,9 @@ pub struct SingularityModel {
 }
 
 impl SingularityModel {
+    /// Prepares the measure for `robot` (scaled by its reach) and, for a 6R arm with a
+    /// spherical wrist and parallel axes 2 and 3, the data to classify; otherwise
+    /// [`Self::classifies`] is false.
     pub fn new(robot: &Robot) -> Self {
         let chain = robot.chain();
         let mut wrist_centre_in_j4 = None;

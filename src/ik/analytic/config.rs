@@ -41,7 +41,9 @@ use std::str::FromStr;
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, serde::Serialize, serde::Deserialize)]
 #[serde(rename_all = "lowercase")]
 pub enum Shoulder {
+    /// Reaching out over the shoulder offset (`front`).
     Front,
+    /// Turned half a turn of axis 1 away, reaching back over the base (`back`).
     Back,
 }
 
@@ -49,7 +51,9 @@ pub enum Shoulder {
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, serde::Serialize, serde::Deserialize)]
 #[serde(rename_all = "lowercase")]
 pub enum Elbow {
+    /// Elbow left of (above, for a level reach) the shoulder–wrist line (`up`).
     Up,
+    /// Elbow right of (below, for a level reach) the shoulder–wrist line (`down`).
     Down,
 }
 
@@ -57,8 +61,10 @@ pub enum Elbow {
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, serde::Serialize, serde::Deserialize)]
 #[serde(rename_all = "lowercase")]
 pub enum Wrist {
+    /// `(axis4 × axis6) · axis5 > 0`: bent in the positive sense of joint 5 (`noflip`).
     #[serde(rename = "noflip")]
     NoFlip,
+    /// Bent in the negative sense of joint 5 (`flip`).
     Flip,
 }
 
@@ -66,8 +72,11 @@ pub enum Wrist {
 /// `FromStr` reads the same form back.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, serde::Serialize, serde::Deserialize)]
 pub struct Config {
+    /// Side of axis 1 the wrist centre is on.
     pub shoulder: Shoulder,
+    /// Side of the shoulder–wrist line the elbow is on.
     pub elbow: Elbow,
+    /// Sense of the wrist bend.
     pub wrist: Wrist,
 }
 
@@ -84,6 +93,7 @@ impl Config {
         Config::new(Shoulder::Back, Elbow::Down, Wrist::Flip),
     ];
 
+    /// The configuration with these three choices.
     pub const fn new(shoulder: Shoulder, elbow: Elbow, wrist: Wrist) -> Self {
         Config {
             shoulder,

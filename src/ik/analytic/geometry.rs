@@ -84,6 +84,7 @@ pub struct Parameters {
     /// exact member; larger when the URDF writes angles rounded. Solutions are exact for the
     /// model, so their forward kinematics on the URDF is off by about this much.
     pub model_deviation_m: f64,
+    /// Orientation part of the deviation above (rad).
     pub model_deviation_rad: f64,
 }
 

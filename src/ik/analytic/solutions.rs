@@ -44,12 +44,14 @@ impl SpecialPose {
 pub struct AnalyticSolution {
     /// URDF joint values (rad), zero offsets and axis senses applied.
     pub joints: Joints,
+    /// Shoulder, elbow and wrist choice this solution belongs to.
     pub config: Config,
     /// 2π shift per joint: `joints[i] = principal_i + 2π·winding[i]` with the principal
     /// value in (−π, π].
     pub winding: [i8; 6],
     /// Every joint within its range. Always true for [`OrthoParallel::solve`].
     pub within_limits: bool,
+    /// Special poses (singularities) the solution is at; all false for a regular pose.
     pub special: SpecialPose,
 }
 
@@ -92,6 +94,7 @@ impl Solutions {
         }
     }
 
+    /// The solutions found, in the list's order (also reachable through `Deref`).
     pub fn as_slice(&self) -> &[AnalyticSolution] {
         &self.items[..self.len]
     }

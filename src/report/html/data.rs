@@ -30,8 +30,11 @@ const PIN_FRACTION: f64 = 0.125;
 /// One kept point of the TCP path (s in m, position in mm in the base frame).
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct TracePoint {
+    /// Path distance of the sample (m).
     pub s: f64,
+    /// Programmed TCP position at the sample (mm, base frame).
     pub p: [f64; 3],
+    /// The sample stands at a waypoint; thinning prefers to keep such points.
     pub waypoint: bool,
 }
 
@@ -50,6 +53,8 @@ pub struct Trace {
 }
 
 impl Trace {
+    /// An empty trace keeping at most `cap` points (at least 4), first `tol_mm` apart; a
+    /// tolerance that is not a positive number becomes 1 mm.
     pub fn new(cap: usize, tol_mm: f64) -> Self {
         Trace {
             points: Vec::new(),
@@ -63,6 +68,8 @@ impl Trace {
         }
     }
 
+    /// Adds the next point in path order; points with a non-finite coordinate are ignored.
+    /// When the cap is exceeded the tolerance doubles and the trace is thinned.
     pub fn push(&mut self, pt: TracePoint) {
         if !pt.p.iter().all(|v| v.is_finite()) {
             return;
@@ -150,6 +157,7 @@ pub struct WaypointAt {
     pub index: usize,
     /// Path distance (m) and time (s) at the waypoint.
     pub s: f64,
+    /// Time from the path start at the waypoint (s).
     pub t: f64,
     /// TCP position (mm, base frame).
     pub p: [f64; 3],
@@ -158,7 +166,9 @@ pub struct WaypointAt {
 /// A joint as the plots need it (display units: deg or mm).
 #[derive(Debug, Clone)]
 pub struct PlotJoint {
+    /// The URDF joint name.
     pub name: String,
+    /// Revolute and continuous joints are plotted in deg, prismatic ones in mm.
     pub kind: JointKind,
     /// Range; `None` for a continuous joint.
     pub range: Option<[f64; 2]>,
@@ -194,6 +204,8 @@ pub struct PlotData {
 }
 
 impl PlotData {
+    /// A collector for `job` with the page's bucket and trace sizes ([`BUCKETS`],
+    /// [`TRACE_POINTS`]); the joints are taken from the robot at the first sample.
     pub fn new(job: &Job) -> Self {
         PlotData::with_sizes(job, BUCKETS, TRACE_POINTS)
     }
@@ -251,9 +263,11 @@ impl PlotData {
         self.env_t = Some(Envelope::new(series, self.bucket_count, self.time_step));
     }
 
+    /// The arm's joints for the plots; empty before the first sample.
     pub fn joints(&self) -> &[PlotJoint] {
         &self.joints
     }
+    /// Number of joints plotted; 0 before the first sample.
     pub fn dof(&self) -> usize {
         self.joints.len()
     }
@@ -265,9 +279,11 @@ impl PlotData {
     pub fn speed_series(&self, k: usize) -> usize {
         self.dof() + k
     }
+    /// Series index of the singularity measure.
     pub fn singularity_series(&self) -> usize {
         2 * self.dof()
     }
+    /// Series index of the tool angular speed (deg/s; linear segments only).
     pub fn tool_speed_series(&self) -> usize {
         2 * self.dof() + 1
     }
@@ -279,6 +295,7 @@ impl PlotData {
     pub fn time_envelope(&self) -> Option<&Envelope> {
         self.env_t.as_ref()
     }
+    /// The thinned TCP path.
     pub fn trace(&self) -> &Trace {
         &self.trace
     }
@@ -294,6 +311,7 @@ impl PlotData {
     pub fn duration(&self) -> f64 {
         self.duration
     }
+    /// Number of samples taken in (those with a finite path distance and time).
     pub fn samples(&self) -> u64 {
         self.samples
     }

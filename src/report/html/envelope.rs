@@ -8,9 +8,13 @@
 /// The extremes of one series within one bucket (display units; s in m).
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct Bucket {
+    /// Smallest value in the bucket; +∞ while it is empty.
     pub lo: f64,
+    /// Where `lo` occurs: path distance (m), or time (s) in an envelope over time.
     pub s_lo: f64,
+    /// Largest value in the bucket; −∞ while it is empty.
     pub hi: f64,
+    /// Where `hi` occurs, like `s_lo`.
     pub s_hi: f64,
 }
 
@@ -22,6 +26,7 @@ impl Bucket {
         s_hi: 0.0,
     };
 
+    /// True when no finite value has fallen into the bucket.
     pub fn is_empty(&self) -> bool {
         self.lo > self.hi
     }
@@ -125,6 +130,8 @@ impl Envelope {
         }
     }
 
+    /// Records that an unreachable sample fell into bucket `slot` (from [`Envelope::slot`]), so
+    /// the plots can show the gap.
     pub fn mark_unreachable(&mut self, slot: usize) {
         self.unreachable[slot] = true;
     }

@@ -62,6 +62,8 @@ pub struct HtmlReport {
 }
 
 impl HtmlReport {
+    /// Opens `path` for the page (`-` = standard output) and prepares the plot collector for
+    /// `job`; an error names the file when it cannot be opened.
     pub fn create(path: &Path, job: &Job) -> Result<Self> {
         Ok(HtmlReport {
             out: OutputFile::create(path)?,
