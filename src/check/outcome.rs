@@ -65,6 +65,10 @@ pub struct CheckOutcome {
     pub extremes: Extremes,
     /// Samples, length and duration of the walk.
     pub totals: WalkTotals,
+    /// Time (s) each of the first [`crate::report::SEGMENT_TABLE_ROWS`] segments takes as
+    /// run (ramps, blends and joint moves included), in path order; shorter when the walk
+    /// ended early.
+    pub segment_durations: Vec<f64>,
     /// The thresholds the findings were raised with.
     pub thresholds: Thresholds,
     /// Configuration advice for the stopping errors (closed-form arms whose configuration

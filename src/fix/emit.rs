@@ -172,11 +172,17 @@ pub fn path_file(job: &Job, header: &[String]) -> String {
     let lim = &job.limits;
     let _ = writeln!(
         out,
-        "limits: {{tool_angular_speed: {}, joint_speed_scale: {}, near_limit_margin: {{angle: {}, length: {}}}}}",
+        "limits: {{tool_angular_speed: {}, joint_speed_scale: {}, near_limit_margin: {{angle: {}, length: {}}}, \
+         tcp_acceleration: {}, tool_angular_acceleration: {}, joint_acceleration_scale: {}, \
+         process_speed_tolerance: {}}}",
         num(lim.tool_angular_speed / a, 9),
         num(lim.joint_speed_scale, 12),
         num(lim.near_limit_margin_angle / a, 9),
-        num(lim.near_limit_margin_length / l, 9)
+        num(lim.near_limit_margin_length / l, 9),
+        num(lim.tcp_acceleration / l, 9),
+        num(lim.tool_angular_acceleration / a, 9),
+        num(lim.joint_acceleration_scale, 12),
+        num(lim.process_speed_tolerance, 12)
     );
     let _ = writeln!(
         out,
@@ -195,11 +201,21 @@ pub fn path_file(job: &Job, header: &[String]) -> String {
             if w.motion == Motion::Joint {
                 line.push_str(", motion: joint");
             }
-            if let Some(v) = w.speed {
-                let _ = write!(line, ", speed: {}", num(v / l, 9));
+            let keys = job.move_keys.get(i).copied().unwrap_or_default();
+            match (w.motion, keys.joint_speed_fraction, w.speed) {
+                (Motion::Joint, Some(f), _) => {
+                    let _ = write!(line, ", speed: {}%", num(f * 100.0, 9));
+                }
+                (_, _, Some(v)) => {
+                    let _ = write!(line, ", speed: {}", num(v / l, 9));
+                }
+                _ => {}
             }
             if w.process {
                 line.push_str(", process: true");
+            }
+            if keys.blend > 0.0 {
+                let _ = write!(line, ", blend: {}", num(keys.blend / l, 9));
             }
         }
         line.push('}');

@@ -186,14 +186,14 @@ pub fn fix(job: &Job, out: &Path, options: &CheckOptions) -> Result<FixReport> {
     }
 
     // The walk the speeds come from: the (possibly spun) path at the programmed speeds.
-    let mut ratios = RatioSink::new(&amended);
+    let plan = crate::plan::plan(&amended, options.max_samples)?;
+    let mut ratios = RatioSink::new(&amended, &plan);
     let (base, _) = if spun {
         run_check(&amended, options, &mut [&mut ratios])?
     } else {
         // Without a spin the same walk as the check before, with the ratio sink.
         run_check(&job, options, &mut [&mut ratios])?
     };
-    let plan = crate::plan::plan(&amended, options.max_samples)?;
     robot.set_tool(amended.tool.tip_T_tcp);
     let speeds: Vec<SegmentSpeed> = speed::proposals(&amended, &plan, &robot, &ratios);
 

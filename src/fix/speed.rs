@@ -1,12 +1,16 @@
 //! Largest TCP speed per segment, from one check walk at the programmed speeds.
 //!
 //! Method. On a linear segment the TCP follows the same poses whatever the speed; only the
-//! time changes, and `u` grows uniformly in time (see [`crate::plan`]). The joint path is
-//! therefore the same and every joint speed, like the tool angular speed, scales with
-//! `1 / duration`. One walk at the programmed speed gives, per segment, the worst ratio
-//! `r = max(joint speed / (velocity × joint_speed_scale), tool angular speed / limit)`; the
-//! segment stays within every limit when its duration grows to `duration × r`, i.e. at the
-//! TCP speed `length / (duration × r)`. Where the duration comes from the TCP speed
+//! time changes (see [`crate::plan`]). The joint path is therefore the same, and every joint
+//! speed, like the tool angular speed, is its change per unit of the segment parameter `u`
+//! times the rate of `u`, which never exceeds the cruise rate `1 / duration` (ramps and
+//! blends only slow it). One walk at the programmed speed gives, per sample, the ratio the
+//! sample would have at the cruise rate: its speed ratio times `(1 / duration) / (Δu / Δt)`
+//! (1 where the segment cruises); the worst over the segment is
+//! `r = max(joint speed / (velocity × joint_speed_scale), tool angular speed / limit)` at
+//! cruise. The segment stays within every limit when its duration grows to `duration × r`,
+//! i.e. at the TCP speed `length / (duration × r)`: a bound, exact where the limit is reached
+//! while cruising, cautious where it was reached only in a ramp. Where the duration comes from the TCP speed
 //! (`length / speed`) this is `speed / r`. A segment that does not move the TCP (a pure
 //! reorientation) cannot be slowed through its TCP speed: it is reported, not changed.
 //!
@@ -38,33 +42,55 @@ pub struct RatioSink {
     pub worst: Vec<(f64, Option<Option<usize>>)>,
     tool_angular_speed: f64,
     joint_speed_scale: f64,
+    /// Per segment: straight-line length (m) and time at the programmed speed (s).
+    segments: Vec<(f64, f64)>,
+    /// Path distance of the previous sample (m).
+    prev_s: f64,
 }
 
 impl RatioSink {
-    pub fn new(job: &Job) -> Self {
+    /// A sink for the walk of `plan`, the plan of `job`.
+    pub fn new(job: &Job, plan: &Plan) -> Self {
         RatioSink {
             worst: vec![(0.0, None); job.waypoints.len().saturating_sub(1)],
             tool_angular_speed: job.limits.tool_angular_speed,
             joint_speed_scale: job.limits.joint_speed_scale,
+            segments: plan.segments().map(|s| (s.length, s.duration)).collect(),
+            prev_s: 0.0,
         }
+    }
+
+    /// How much faster than this sample the segment's cruise runs: `(1/D) / (Δu/Δt)` with
+    /// `Δu = Δs / L`; 1 where that is unknown (no length or duration: nothing to scale).
+    fn to_cruise(&self, rec: &SampleRecord) -> f64 {
+        let Some(&(length, duration)) = self.segments.get(rec.segment) else {
+            return 1.0;
+        };
+        let du = (rec.s - self.prev_s) / length;
+        if !(length > 0.0 && duration > 0.0 && du > 0.0) {
+            return 1.0;
+        }
+        (rec.dt / (duration * du)).max(1.0)
     }
 }
 
 impl SampleSink for RatioSink {
     fn sample(&mut self, robot: &Robot, rec: &SampleRecord) {
+        let to_cruise = self.to_cruise(rec);
+        self.prev_s = rec.s;
         if rec.motion != Motion::Linear || rec.dt <= 0.0 {
             return;
         }
         let Some(slot) = self.worst.get_mut(rec.segment) else {
             return;
         };
-        let w = rec.tool_angular_speed / self.tool_angular_speed;
+        let w = rec.tool_angular_speed / self.tool_angular_speed * to_cruise;
         if w > slot.0 {
             *slot = (w, Some(None));
         }
         for (k, j) in robot.joints().iter().enumerate() {
             let allowed = j.velocity * self.joint_speed_scale;
-            let r = rec.joint_speed[k].abs() / allowed;
+            let r = rec.joint_speed[k].abs() / allowed * to_cruise;
             if r.is_finite() && r > slot.0 {
                 *slot = (r, Some(Some(k)));
             }

@@ -24,7 +24,7 @@ pub const CAUTIONS: [&str; 5] = [
     "A simulated kinematic check is not a safety assessment.",
     "Verify the program on the real cell under the local robot safety standard and the site's procedures before production.",
     "Make the first runs at reduced speed (ISO 10218-1 limits the TCP to 250 mm/s in reduced-speed mode) with the cell cleared.",
-    "The model ignores collisions, cables and hoses, payload, dynamics and the controller's own interpolation and blending.",
+    "The model ignores collisions, cables and hoses, payload, forces and torques, and jerk; its speed ramps and corner blends are armpath's own model with default accelerations (URDF has none), not the controller's interpolation.",
     "Results are only as good as the robot description, tool offset and work frame given to armpath: check them against the cell.",
 ];
 
@@ -157,8 +157,11 @@ pub struct SegmentReport {
     pub length_mm: f64,
     /// Orientation change between the end poses.
     pub turn_deg: f64,
-    /// Planned duration; for a joint move a lower bound (the walk adds the joint-speed bound).
+    /// Planned duration at the programmed speed, without ramps or blends; for a joint move
+    /// a lower bound (the walk adds the joint bounds).
     pub planned_s: f64,
+    /// Duration as run (ramps, blends, synchronised joint move), if the walk got there.
+    pub duration_s: Option<f64>,
 }
 
 #[derive(Debug, Clone, Serialize)]
@@ -180,6 +183,18 @@ pub struct PathReport {
     pub step_mm: f64,
     pub angle_step_deg: f64,
     pub singularity_threshold: f64,
+    /// Largest TCP acceleration on straight-line moves.
+    pub tcp_acceleration_mm_s2: f64,
+    /// Largest tool angular acceleration on straight-line moves.
+    pub tool_angular_acceleration_deg_s2: f64,
+    /// Multiplies the default joint accelerations (URDF has none: each joint's default is
+    /// [`crate::motion::JOINT_ACCELERATION_PER_SPEED`] times its speed limit per second).
+    pub joint_acceleration_scale: f64,
+    /// Share of the programmed speed a process segment may lose before a warning.
+    pub process_speed_tolerance: f64,
+    /// Time each of the first [`SEGMENT_TABLE_ROWS`] segments takes as run (s), in path
+    /// order; their sum over all segments is `summary.duration_s`, the cycle time.
+    pub segment_durations_s: Vec<f64>,
     pub start: StartReport,
     /// The first [`SEGMENT_TABLE_ROWS`] segments with their motion, speed and planned time
     /// (the HTML page lists them; the JSON leaves them out, since the path file has them).
@@ -228,6 +243,15 @@ pub struct Summary {
     /// Largest joint speed over its allowed speed (≤ 1 is within limits).
     pub max_joint_speed_ratio: f64,
     pub max_joint_speed_joint: Option<String>,
+    /// The same on process segments only (null without process segments).
+    pub process_max_joint_speed_ratio: Option<f64>,
+    pub process_max_joint_speed_joint: Option<String>,
+    /// Largest joint acceleration over its allowed acceleration (≤ 1 is within limits).
+    pub max_joint_acceleration_ratio: f64,
+    pub max_joint_acceleration_joint: Option<String>,
+    /// Lowest commanded TCP speed on process segments over the programmed speed (null
+    /// without process segments).
+    pub min_process_speed_ratio: Option<f64>,
     /// Smallest distance to a joint limit over half the joint's range (1 = mid-range).
     pub min_limit_margin_ratio: Option<f64>,
     pub min_limit_margin_joint: Option<String>,
@@ -443,6 +467,7 @@ impl Report {
                             )
                             .to_degrees(),
                             planned_s: g.duration,
+                            duration_s: r.segment_durations.get(g.index).copied(),
                         }
                     })
                     .collect(),
@@ -451,6 +476,15 @@ impl Report {
                 step_mm: r.job.sampling.step * 1e3,
                 angle_step_deg: r.job.sampling.angle_step.to_degrees(),
                 singularity_threshold: r.thresholds.singularity,
+                tcp_acceleration_mm_s2: r.job.limits.tcp_acceleration * 1e3,
+                tool_angular_acceleration_deg_s2: r
+                    .job
+                    .limits
+                    .tool_angular_acceleration
+                    .to_degrees(),
+                joint_acceleration_scale: r.job.limits.joint_acceleration_scale,
+                process_speed_tolerance: r.job.limits.process_speed_tolerance,
+                segment_durations_s: r.segment_durations.clone(),
                 start: StartReport {
                     method: r.start.method.name(),
                     joints: r
@@ -477,6 +511,13 @@ impl Report {
                 max_tool_angular_speed_deg_s: e.max_tool_angular_speed.to_degrees(),
                 max_joint_speed_ratio: e.max_joint_speed_ratio,
                 max_joint_speed_joint: joint_name(e.max_joint_speed_joint),
+                process_max_joint_speed_ratio: e
+                    .process_joint_speed_joint
+                    .map(|_| e.process_joint_speed_ratio),
+                process_max_joint_speed_joint: joint_name(e.process_joint_speed_joint),
+                max_joint_acceleration_ratio: e.max_joint_acceleration_ratio,
+                max_joint_acceleration_joint: joint_name(e.max_joint_acceleration_joint),
+                min_process_speed_ratio: finite(e.min_process_speed_ratio),
                 min_limit_margin_ratio: finite(e.min_limit_margin_ratio),
                 min_limit_margin_joint: joint_name(e.min_limit_margin_joint),
             },
@@ -515,11 +556,25 @@ impl Report {
                 s.max_tool_angular_speed_deg_s,
             ),
             ("summary.max_joint_speed_ratio", s.max_joint_speed_ratio),
+            (
+                "summary.max_joint_acceleration_ratio",
+                s.max_joint_acceleration_ratio,
+            ),
+            ("path.tcp_acceleration_mm_s2", p.tcp_acceleration_mm_s2),
+            (
+                "path.tool_angular_acceleration_deg_s2",
+                p.tool_angular_acceleration_deg_s2,
+            ),
         ];
         let optional = [
             ("summary.min_singularity", s.min_singularity),
             ("summary.min_singularity_s_mm", s.min_singularity_s_mm),
             ("summary.min_limit_margin_ratio", s.min_limit_margin_ratio),
+            (
+                "summary.process_max_joint_speed_ratio",
+                s.process_max_joint_speed_ratio,
+            ),
+            ("summary.min_process_speed_ratio", s.min_process_speed_ratio),
         ];
         let start = p.start.joints.iter().map(|&v| ("path.start.joints", v));
         let poses = [
