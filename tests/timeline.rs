@@ -166,3 +166,53 @@ fn a_fast_roll_start_is_a_joint_acceleration_error() {
     );
     assert_eq!(code2, 0);
 }
+
+#[test]
+fn the_html_report_plots_tcp_speed_and_joint_acceleration_over_time() {
+    // The trapezoid line of the first test: its TCP speed plot runs against t up to 3.2 s
+    // with the job speed drawn as a rule; the acceleration plot labels each joint with its
+    // peak, and the hardest joint's label is the summary's ratio.
+    // source: the JSON summary of the same run; trapezoid time as in the first test
+    let yaml = line_path(
+        "tcp_acceleration: 500",
+        "  - {name: a, xyz: [-150, -100, 0], rpy: [180, 0, 0]}\n  - {name: b, xyz: [150, -100, 0], rpy: [180, 0, 0]}\n",
+    );
+    let (dir, file) = path_file(&yaml);
+    let page = dir.path().join("r.html");
+    let (code, report) = check_json(&file, &["--html", page.to_str().unwrap()]);
+    assert_eq!(code, 0, "{report:#}");
+    let html = std::fs::read_to_string(&page).unwrap();
+    let figure = |id: &str| {
+        let start = html.find(&format!("<figure id=\"{id}\">")).unwrap();
+        let end = html[start..].find("</figure>").unwrap() + start;
+        html[start..end].to_string()
+    };
+    let texts = |fig: &str| -> Vec<String> {
+        fig.split("<text")
+            .skip(1)
+            .filter_map(|t| {
+                Some(
+                    t.split_once('>')?
+                        .1
+                        .split("</text>")
+                        .next()?
+                        .trim()
+                        .to_string(),
+                )
+            })
+            .collect()
+    };
+    let tcp = texts(&figure("time-tcp"));
+    assert!(
+        tcp.iter().any(|t| t == "t (s)") && tcp.iter().any(|t| t == "mm/s"),
+        "{tcp:?}"
+    );
+    assert!(tcp.iter().any(|t| t == "job speed 100 mm/s"), "{tcp:?}");
+    let acc = texts(&figure("time-acc"));
+    let hardest = report["summary"]["max_joint_acceleration_joint"]
+        .as_str()
+        .unwrap();
+    let ratio = f64_of(&report["summary"]["max_joint_acceleration_ratio"]);
+    let label = format!("{hardest} {:.0} %", ratio * 100.0);
+    assert!(acc.contains(&label), "{label} not in {acc:?}");
+}

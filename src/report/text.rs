@@ -166,7 +166,7 @@ pub fn render_text(report: &Report, style: Style) -> String {
     ) {
         let _ = writeln!(
             o,
-            "  on process segments   {:.0} % of allowed speed ({})",
+            "  on process segments   {:.1} % of allowed speed ({})",
             r * 100.0,
             v(j)
         );
