@@ -216,3 +216,45 @@ fn the_html_report_plots_tcp_speed_and_joint_acceleration_over_time() {
     let label = format!("{hardest} {:.0} %", ratio * 100.0);
     assert!(acc.contains(&label), "{label} not in {acc:?}");
 }
+
+#[test]
+fn blends_that_cannot_apply_are_cut_or_ignored_with_a_warning() {
+    // a → b → c → d: 200 mm along x, 200 mm along y, then a joint move to d. A 150 mm blend at
+    // b is cut to half of the 200 mm neighbours, 100 mm; a blend at c (next to the joint
+    // move) and one at d (the last waypoint, where the path stops) are ignored.
+    // source: common practice (two blends on one segment must not overlap; a blend joins two
+    // straight-line moves)
+    let yaml = line_path(
+        "",
+        "  - {name: a, xyz: [-150, -100, 0], rpy: [180, 0, 0]}\n  - {name: b, xyz: [50, -100, 0], rpy: [180, 0, 0], blend: 150}\n  \
+         - {name: c, xyz: [50, 100, 0], rpy: [180, 0, 0], blend: 5}\n  - {name: d, xyz: [0, 0, 50], rpy: [180, 0, 0], motion: joint, blend: 5}\n",
+    );
+    let (_d, file) = path_file(&yaml);
+    let (code, report) = check_json(&file, &[]);
+    assert_eq!(code, 0, "{report:#}");
+    let notes: Vec<&str> = findings(&report, "input")
+        .iter()
+        .map(|f| f["message"].as_str().unwrap())
+        .collect();
+    let has = |parts: &[&str]| notes.iter().any(|m| parts.iter().all(|p| m.contains(p)));
+    assert!(
+        has(&["waypoints[1]", "blend 150.00 mm cut to 100.00 mm"]),
+        "{notes:#?}"
+    );
+    assert!(
+        has(&["waypoints[2]", "ignored next to a joint move"]),
+        "{notes:#?}"
+    );
+    assert!(
+        has(&["waypoints[3]", "on the last waypoint ignored"]),
+        "{notes:#?}"
+    );
+    // The cut blend still rounds the corner: its window lasts 2r/v = 2 s, and each side ramps
+    // over the other 100 mm of its segment at the default 2000 mm/s²: 100/100 + 100/(2·2000)
+    // = 1.025 s, so a → b and b → c take 1.025 + 1 = 2.025 s each, 4.05 s against
+    // 2 × (200/100 + 100/2000) = 4.1 s with a stop at b.
+    // source: trapezoidal profile (Biagiotti & Melchiorri 2008, §3.2.2; from memory)
+    let per = &report["path"]["segment_durations_s"];
+    assert!((f64_of(&per[0]) - 2.025).abs() < 1e-9, "{per}");
+    assert!((f64_of(&per[1]) - 2.025).abs() < 1e-9, "{per}");
+}
