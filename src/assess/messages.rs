@@ -166,8 +166,8 @@ pub(super) fn finding(robot: &Robot, job: &Job, plan: &Plan, run: &Run) -> Findi
             )
         }
         Kind::JointAcceleration => format!(
-            "{jn} would accelerate at {} ({:.2}× its allowed {}; URDF has no accelerations, the limit is armpath's default \
-             of {} per second of speed limit × limits.joint_acceleration_scale): blend the corner (blend: radius), lower \
+            "{jn} would accelerate at {} ({:.2}× its allowed {}; URDF has no accelerations: the limit is armpath's \
+             default, {} × the URDF speed limit per second × limits.joint_acceleration_scale): blend the corner (blend: radius), lower \
              limits.tcp_acceleration, slow the segment, or avoid the pose that makes {jn} fast; set \
              limits.joint_acceleration_scale from the controller's data",
             show(q, run.value),
