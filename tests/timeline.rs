@@ -258,3 +258,65 @@ fn blends_that_cannot_apply_are_cut_or_ignored_with_a_warning() {
     assert!((f64_of(&per[0]) - 2.025).abs() < 1e-9, "{per}");
     assert!((f64_of(&per[1]) - 2.025).abs() < 1e-9, "{per}");
 }
+
+#[test]
+fn fix_slows_a_segment_whose_joint_accelerates_too_hard_and_scales_the_accelerations() {
+    // 10 mm along base x at 40 mm/s while the tool rolls 90° (j6 alone, one to one, as in the
+    // roll tests), the tool allowed 100000 deg/s²: u accelerates at the TCP's 2000/10 = 200 /s²
+    // (the tool would allow 100000/90 = 1111 /s²), so j6 accelerates at 200 × 90 = 18000 deg/s²
+    // against its 840: a = 21.43. Cruising, j6 turns at 4 /s × 90° = 360 deg/s, within 420.
+    // Running the path 1/f = √a slower passes: speed 40/√a = 8.64 → 8.6 mm/s, accelerations
+    // × 1/a: TCP 2000 → 93.3 mm/s², tool 100000 → 4660 deg/s² (three digits, rounded down);
+    // then j6 accelerates at 9.33 /s² × 90° = 839.7 deg/s².
+    // source: robots/arm6.urdf (j6 velocity 420 deg/s); common practice (time scaling of a
+    // trajectory: speeds × f, accelerations × f²)
+    let yaml = format!(
+        "robot: {}\ntool: {{xyz: [0, 0, 180], rpy: [0, 0, 0]}}\nspeed: 40\n\
+         limits: {{tool_angular_speed: 2000, tool_angular_acceleration: 100000}}\n\
+         waypoints:\n  - {{name: a, {}}}\n  - {{name: b, {}}}\n",
+        arm6(),
+        arm6_pose(&Q0, [0.0; 3], 0.0),
+        arm6_pose(&Q0, [10.0, 0.0, 0.0], 90.0)
+    );
+    let (dir, file) = path_file(&yaml);
+    let (code0, before) = check_json(&file, &[]);
+    assert_eq!(code0, 1, "{before:#}");
+    let f = findings(&before, "joint_acceleration");
+    assert!(f.iter().any(|f| f["joint"] == "j6"), "{before:#}");
+    assert!(findings(&before, "joint_speed").is_empty(), "{before:#}");
+    let out = dir.path().join("fixed.yaml");
+    let res = armpath()
+        .args([
+            "fix",
+            file.to_str().unwrap(),
+            "--out",
+            out.to_str().unwrap(),
+            "--json",
+            "-",
+        ])
+        .output()
+        .unwrap();
+    let stdout = String::from_utf8_lossy(&res.stdout);
+    assert_eq!(
+        res.status.code(),
+        Some(0),
+        "{stdout}{}",
+        String::from_utf8_lossy(&res.stderr)
+    );
+    let r: serde_json::Value = serde_json::from_str(&stdout).unwrap();
+    let s = &r["speeds"][0];
+    assert!(
+        (f64_of(&s["acceleration_ratio"]) - 18000.0 / 840.0).abs() < 1e-6,
+        "{s:#}"
+    );
+    assert_eq!(s["limited_by"], "j6 acceleration");
+    assert_eq!(s["proposed"].as_f64(), Some(8.6), "{s:#}");
+    let text = std::fs::read_to_string(&out).unwrap();
+    assert!(text.contains("tcp_acceleration: 93.3,"), "{text}");
+    assert!(text.contains("tool_angular_acceleration: 4660,"), "{text}");
+    let (code, after) = check_json(&out, &[]);
+    assert_eq!(code, 0, "{after:#}");
+    assert!(findings(&after, "joint_acceleration").is_empty());
+    let worst = f64_of(&after["summary"]["max_joint_acceleration_ratio"]);
+    assert!(worst <= 1.0 && worst > 0.99, "{worst}");
+}

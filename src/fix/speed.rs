@@ -14,8 +14,15 @@
 //! (`length / speed`) this is `speed / r`. A segment that does not move the TCP (a pure
 //! reorientation) cannot be slowed through its TCP speed: it is reported, not changed.
 //!
-//! Joint moves are timed by the solver from the joint speeds themselves and never exceed
-//! them; they get no proposal.
+//! Joint accelerations: running the same path slower in time by a factor `1/f` multiplies
+//! every speed by `f` and every acceleration by `f²` when the TCP and tool accelerations are
+//! scaled by `f²` too (ramps and blend windows stretch in time, not in space). A segment whose
+//! worst joint acceleration is `a` times its limit therefore passes at `f = 1/√a`: its speed
+//! ratio counts as `max(r, √a)`, and [`acceleration_scale`] gives the factor `f²` for the
+//! accelerations.
+//!
+//! Joint moves are timed by the solver from the joint speeds and accelerations themselves and
+//! never exceed them; they get no proposal.
 //!
 //! Process segments (`process: true`) must keep one speed along a run of consecutive process
 //! segments: when any of them must slow down, the whole run gets the smallest speed allowed
@@ -26,6 +33,7 @@
 //! inside the limit. Below 1 mm/s three significant digits are kept instead.
 
 use crate::job::{Job, Motion};
+use crate::motion::joint_acceleration_limit;
 use crate::plan::Plan;
 use crate::robot::Robot;
 use crate::solve::{SampleRecord, SampleSink};
@@ -40,8 +48,11 @@ const RATIO_TOLERANCE: f64 = 1e-9;
 pub struct RatioSink {
     /// Per segment: (worst ratio, what sets it: joint index or `None` = tool angular speed).
     pub worst: Vec<(f64, Option<Option<usize>>)>,
+    /// Per segment: worst joint acceleration over its limit, and which joint.
+    pub worst_acceleration: Vec<(f64, Option<usize>)>,
     tool_angular_speed: f64,
     joint_speed_scale: f64,
+    joint_acceleration_scale: f64,
     /// Per segment: straight-line length (m) and time at the programmed speed (s).
     segments: Vec<(f64, f64)>,
     /// Path distance of the previous sample (m).
@@ -53,8 +64,10 @@ impl RatioSink {
     pub fn new(job: &Job, plan: &Plan) -> Self {
         RatioSink {
             worst: vec![(0.0, None); job.waypoints.len().saturating_sub(1)],
+            worst_acceleration: vec![(0.0, None); job.waypoints.len().saturating_sub(1)],
             tool_angular_speed: job.limits.tool_angular_speed,
             joint_speed_scale: job.limits.joint_speed_scale,
+            joint_acceleration_scale: job.limits.joint_acceleration_scale,
             segments: plan.segments().map(|s| (s.length, s.duration)).collect(),
             prev_s: 0.0,
         }
@@ -95,6 +108,15 @@ impl SampleSink for RatioSink {
                 *slot = (r, Some(Some(k)));
             }
         }
+        if let Some(acc) = self.worst_acceleration.get_mut(rec.segment) {
+            for (k, j) in robot.joints().iter().enumerate() {
+                let allowed = joint_acceleration_limit(j.velocity, self.joint_acceleration_scale);
+                let a = rec.joint_acceleration[k].abs() / allowed;
+                if a.is_finite() && a > acc.0 {
+                    *acc = (a, Some(k));
+                }
+            }
+        }
     }
 }
 
@@ -110,6 +132,8 @@ pub struct SegmentSpeed {
     pub programmed: f64,
     /// Worst ratio of speed to allowed speed over the segment at the programmed speed.
     pub ratio: f64,
+    /// Worst ratio of a joint's acceleration to its allowed acceleration over the segment.
+    pub acceleration_ratio: f64,
     /// What sets the ratio: a joint name, `tool angular speed`, or `-` when nothing moves.
     pub limited_by: String,
     /// Largest TCP speed within every limit (m/s); `None` when the TCP speed does not set it
@@ -140,11 +164,26 @@ pub fn proposals(job: &Job, plan: &Plan, robot: &Robot, sink: &RatioSink) -> Vec
     let mut out: Vec<SegmentSpeed> = plan
         .segments()
         .map(|seg| {
-            let (ratio, by) = sink.worst.get(seg.index).copied().unwrap_or((0.0, None));
-            let limited_by = match by {
-                Some(Some(k)) => robot.joints()[k].name.clone(),
-                Some(None) => "tool angular speed".to_string(),
-                None => "-".to_string(),
+            let (speed_ratio, by) = sink.worst.get(seg.index).copied().unwrap_or((0.0, None));
+            let (acc_ratio, acc_by) = sink
+                .worst_acceleration
+                .get(seg.index)
+                .copied()
+                .unwrap_or((0.0, None));
+            // The speed ratio the segment's time scaling must cover (see the module docs).
+            let acc_share = if acc_ratio > 1.0 + RATIO_TOLERANCE {
+                acc_ratio.sqrt()
+            } else {
+                0.0
+            };
+            let ratio = speed_ratio.max(acc_share);
+            let limited_by = match (by, acc_by) {
+                (_, Some(k)) if acc_share > speed_ratio => {
+                    format!("{} acceleration", robot.joints()[k].name)
+                }
+                (Some(Some(k)), _) => robot.joints()[k].name.clone(),
+                (Some(None), _) => "tool angular speed".to_string(),
+                (None, _) => "-".to_string(),
             };
             let linear = seg.motion == Motion::Linear;
             let max_speed = (linear && seg.length > 0.0 && ratio > 0.0 && seg.duration > 0.0)
@@ -161,7 +200,8 @@ pub fn proposals(job: &Job, plan: &Plan, robot: &Robot, sink: &RatioSink) -> Vec
                 motion: seg.motion,
                 process: seg.process,
                 programmed: seg.speed,
-                ratio,
+                ratio: speed_ratio,
+                acceleration_ratio: acc_ratio,
                 limited_by,
                 max_speed,
                 proposed: if too_fast {
@@ -202,6 +242,28 @@ pub fn proposals(job: &Job, plan: &Plan, robot: &Robot, sink: &RatioSink) -> Vec
         }
     }
     out
+}
+
+/// The factor `f² ≤ 1` on the TCP and tool accelerations that goes with the speed proposals
+/// when a straight-line segment's joint accelerations exceed their limits (the largest
+/// excess sets it), or `None` when none does.
+pub fn acceleration_scale(speeds: &[SegmentSpeed]) -> Option<f64> {
+    let worst = speeds
+        .iter()
+        .filter(|s| s.motion == Motion::Linear)
+        .map(|s| s.acceleration_ratio)
+        .fold(0.0f64, f64::max);
+    (worst > 1.0 + RATIO_TOLERANCE).then(|| 1.0 / worst)
+}
+
+/// Round a positive value down to three significant digits (acceleration proposals: finer
+/// than any controller setting, and rounding down keeps them inside the limit).
+pub fn round_down_3(v: f64) -> f64 {
+    if !(v.is_finite() && v > 0.0) {
+        return 0.0;
+    }
+    let step = 10f64.powf(v.log10().floor() - 2.0);
+    ((v / step) * (1.0 + 1e-12)).floor() * step
 }
 
 /// Set the proposed speeds on the waypoints (the waypoint ending each segment carries its

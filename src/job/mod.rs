@@ -25,6 +25,7 @@ mod units;
 mod validate;
 mod yaml;
 
+pub use motion_keys::{TCP_ACCELERATION_RANGE_M_S2, TOOL_ANGULAR_ACCELERATION_RANGE_RAD_S2};
 pub use names::{NamesBuilder, WaypointNames};
 pub use overrides::Overrides;
 pub use units::{AngleUnit, LengthUnit, Units};
