@@ -32,6 +32,7 @@ pub mod error;
 pub mod fix;
 pub mod ik;
 pub mod job;
+pub mod motion;
 pub mod output;
 pub mod plan;
 pub mod report;

@@ -3,13 +3,16 @@
 //!
 //! Segment `k` runs from waypoint `k` to waypoint `k + 1`. A linear segment moves the TCP
 //! along the straight line in position and along the geodesic in orientation with one shared
-//! parameter `u ∈ [0, 1]`, so both arrive together; its duration is
+//! parameter `u ∈ [0, 1]`, so both arrive together. At the programmed speed it takes
 //! `max(length / speed, angle / orientation_speed)` (the second term only when a
-//! reorientation speed is programmed) and `u` grows uniformly in time. Joint segments are
-//! sampled in joint space by the solver, which knows their end joints.
+//! reorientation speed is programmed, the "cruise" time); the controller's acceleration
+//! limits and corner blends stretch and shape that in time ([`SegmentTiming`]): samples stay
+//! evenly spaced in `u`, their times follow the profile. Joint segments are sampled in joint
+//! space by the solver, which knows their end joints.
 
 use crate::error::{Error, Result};
 use crate::job::{Job, Motion, Waypoint};
+use crate::motion::{u_acceleration, Corner, MoveKey, SegmentTiming, Window};
 use crate::rotation::Geodesic;
 use nalgebra::{Isometry3, Translation3, Vector3};
 use std::sync::Arc;
@@ -35,9 +38,14 @@ pub struct Segment {
     pub geodesic: Geodesic,
     /// Programmed TCP speed (m/s).
     pub speed: f64,
-    /// Duration (s) of a linear segment; for a joint segment the time the Cartesian terms
-    /// alone need (the solver adds the joint-speed bound).
+    /// Time (s) a linear segment takes at its programmed speed, without acceleration or
+    /// blends (see `timing` for the time it takes as run); for a joint segment the time the
+    /// Cartesian terms alone need (the solver adds the joint bounds).
     pub duration: f64,
+    /// How a linear segment runs in time: ramps and blends (unused for joint segments).
+    pub timing: SegmentTiming,
+    /// The blend window at the end waypoint (`half == 0`: the segment ends at rest).
+    pub blend: Window,
     /// Number of sample steps (samples after the start); 0 for a repeated waypoint. For joint
     /// segments a lower bound from the Cartesian terms, refined by the solver.
     pub steps: usize,
@@ -55,6 +63,29 @@ impl Segment {
         let p: Vector3<f64> = p0 + (p1 - p0) * u;
         Isometry3::from_parts(Translation3::from(p), self.geodesic.at(u))
     }
+
+    /// Pose commanded at parameter `u` of a linear segment as run: on a blend's curve inside
+    /// a blend window, else [`Segment::pose_at`].
+    #[inline]
+    pub fn run_pose_at(&self, u: f64) -> Isometry3<f64> {
+        self.timing
+            .blended_pose(u)
+            .unwrap_or_else(|| self.pose_at(u))
+    }
+
+    /// Velocity (m/s) and spatial angular velocity (rad/s) at the programmed speed, base
+    /// frame: the rates a blend hands over at its window edges.
+    fn cruise_rates(&self) -> (Vector3<f64>, Vector3<f64>) {
+        if self.duration.is_nan() || self.duration <= 0.0 {
+            return (Vector3::zeros(), Vector3::zeros());
+        }
+        let v = (self.end.translation.vector - self.start.translation.vector) / self.duration;
+        let body = self
+            .geodesic
+            .axis()
+            .map_or(Vector3::zeros(), |a| a.into_inner() * self.geodesic.angle());
+        (v, self.start.rotation * body / self.duration)
+    }
 }
 
 /// What a segment takes from its end waypoint besides its pose.
@@ -64,6 +95,8 @@ struct SegmentKeys {
     speed: f64,
     motion: Motion,
     process: bool,
+    /// Blend radius at the end waypoint (m), 0 = stop.
+    blend: f64,
 }
 
 /// The planned path: waypoints turned into base-frame segments.
@@ -85,6 +118,11 @@ pub struct Plan {
     orientation_speed: Option<f64>,
     step: f64,
     angle_step: f64,
+    /// Largest TCP acceleration (m/s²) and tool angular acceleration (rad/s²).
+    tcp_acceleration: f64,
+    tool_angular_acceleration: f64,
+    /// The job's per-waypoint blend radii and joint-move speeds (empty when none is set).
+    move_keys: Arc<Vec<MoveKey>>,
 }
 
 impl Plan {
@@ -115,7 +153,19 @@ impl Plan {
             speed: wp.speed.unwrap_or(self.speed),
             motion: wp.motion,
             process: wp.process,
+            blend: self.blend_radius(k + 1),
         })
+    }
+
+    /// Blend radius (m) programmed at waypoint `k`; 0 when none.
+    pub fn blend_radius(&self, k: usize) -> f64 {
+        self.move_keys.get(k).map_or(0.0, |m| m.blend)
+    }
+
+    /// Share of the joints' allowed speed programmed for a joint move ending at waypoint `k`,
+    /// if the path file gives one (see [`MoveKey::joint_speed_fraction`]).
+    pub fn joint_speed_fraction(&self, k: usize) -> Option<f64> {
+        self.move_keys.get(k).and_then(|m| m.joint_speed_fraction)
     }
 
     /// Segment `k` (from waypoint `k` to `k + 1`), or `None` past the last.
@@ -131,6 +181,46 @@ impl Plan {
     /// Segment `k` and its step count as a float (which may be huge or infinite before the
     /// sample cap in [`plan`] has been checked).
     fn segment_and_steps(&self, k: usize) -> Option<(Segment, f64)> {
+        let (mut seg, steps_f) = self.untimed(k)?;
+        if seg.motion == Motion::Linear {
+            let before = k.checked_sub(1).and_then(|j| self.untimed(j));
+            let after = self.untimed(k + 1);
+            let blend_in = before.and_then(|(b, _)| self.corner(&b, &seg).0);
+            let (blend_out, window) = match after {
+                Some((a, _)) => self.corner(&seg, &a),
+                None => (None, seg.blend),
+            };
+            let angle = seg.geodesic.angle();
+            let u_accel = u_acceleration(
+                seg.length,
+                angle,
+                self.tcp_acceleration,
+                self.tool_angular_acceleration,
+            );
+            seg.timing = SegmentTiming::new(seg.duration, seg.length, u_accel, blend_in, blend_out);
+            seg.blend = window;
+        }
+        Some((seg, steps_f))
+    }
+
+    /// The blend at the waypoint between `a` and the following `b`, and its window: only
+    /// between two straight-line segments that both move the TCP.
+    fn corner(&self, a: &Segment, b: &Segment) -> (Option<Corner>, Window) {
+        let radius = self.keys(a.index).map_or(0.0, |k| k.blend);
+        let both_linear = a.motion == Motion::Linear && b.motion == Motion::Linear;
+        if !both_linear || radius <= 0.0 {
+            return (None, Window::new(0.0, 0.0, 0.0, 0.0, 0.0));
+        }
+        let window = Window::new(radius, a.length, a.duration, b.length, b.duration);
+        if window.half <= 0.0 {
+            return (None, window);
+        }
+        let corner = Corner::new(a.end, a.cruise_rates(), b.cruise_rates(), window.half);
+        (Some(corner), window)
+    }
+
+    /// Segment `k` without its timing (a rest-to-rest placeholder), and its step count.
+    fn untimed(&self, k: usize) -> Option<(Segment, f64)> {
         let keys = self.keys(k)?;
         let start = self.waypoint_base(k)?;
         let end = self.waypoint_base(k + 1)?;
@@ -153,6 +243,8 @@ impl Plan {
             geodesic,
             speed: keys.speed,
             duration,
+            timing: SegmentTiming::new(duration, length, f64::INFINITY, None, None),
+            blend: Window::new(0.0, 0.0, 0.0, 0.0, 0.0),
             // Exact: `plan` refuses a path whose step counts exceed the sample cap.
             steps: steps_f as usize,
             process: keys.process,
@@ -171,6 +263,9 @@ pub fn plan(job: &Job, max_samples: u64) -> Result<Plan> {
         orientation_speed: job.orientation_speed,
         step: job.sampling.step,
         angle_step: job.sampling.angle_step,
+        tcp_acceleration: job.limits.tcp_acceleration,
+        tool_angular_acceleration: job.limits.tool_angular_acceleration,
+        move_keys: Arc::clone(&job.move_keys),
     };
     let mut total: f64 = 1.0;
     for k in 0..plan.segment_count() {

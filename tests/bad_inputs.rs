@@ -90,7 +90,7 @@ const LIMIT: &str =
     "<axis xyz=\"0 0 1\"/><limit lower=\"-1\" upper=\"1\" effort=\"1\" velocity=\"1\"/>";
 
 /// Size of the catalogue when its last case was added; it may only grow.
-const FLOOR: usize = 113;
+const FLOOR: usize = 123;
 
 /// A valid path file head: robot and speed (2 lines), then whatever follows.
 const HEAD: &str = "robot: arm6.urdf\nspeed: 20\n";
@@ -371,6 +371,16 @@ fn cases() -> Vec<Case> {
         case("csv: no orientation set", vec![csv("x,y,z\n900,0,500\n900,100,500\n")], &csv_args(), &["wp.csv: line 1:", "no orientation columns", "add one set"]),
         case("csv: unknown column", vec![csv("x,y,z,roll,pitch,yaw,colour\n900,0,500,180,0,0,red\n")], &csv_args(), &["wp.csv: line 1, column 7:", "unknown column `colour`", "rename or remove it"]),
         case("csv: zero quaternion", vec![csv("x,y,z,qw,qx,qy,qz\n900,0,500,0,0,0,0\n900,100,500,1,0,0,0\n")], &csv_args(), &["wp.csv: line 2, columns qw,qx,qy,qz:", "zero length"]),
+        case("yaml: zero TCP acceleration", vec![yaml(&format!("{HEAD}limits: {{tcp_acceleration: 0}}\n{TWO}"))], &["check", "path.yaml"], &["path.yaml: limits.tcp_acceleration:", "greater than 0", "mm/s²"]),
+        case("yaml: tool angular acceleration out of range", vec![yaml(&format!("{HEAD}limits: {{tool_angular_acceleration: 1e9}}\n{TWO}"))], &["check", "path.yaml"], &["path.yaml: limits.tool_angular_acceleration:", "outside the accepted range", "deg/s²"]),
+        case("yaml: joint acceleration scale out of range", vec![yaml(&format!("{HEAD}limits: {{joint_acceleration_scale: 1e6}}\n{TWO}"))], &["check", "path.yaml"], &["path.yaml: limits.joint_acceleration_scale:", "from 0.001 to 1000"]),
+        case("yaml: process speed tolerance of 1", vec![yaml(&format!("{HEAD}limits: {{process_speed_tolerance: 1}}\n{TWO}"))], &["check", "path.yaml"], &["path.yaml: limits.process_speed_tolerance:", "not including) 1"]),
+        case("yaml: negative blend", vec![yaml(&format!("{HEAD}waypoints:\n  - {{xyz: [900, 0, 500], rpy: [180, 0, 0]}}\n  - {{xyz: [900, 100, 500], rpy: [180, 0, 0], blend: -5}}\n"))], &["check", "path.yaml"], &["path.yaml: waypoints[1].blend:", "corner radius of 0"]),
+        case("yaml: joint share on a linear move", vec![yaml(&format!("{HEAD}waypoints:\n  - {{xyz: [900, 0, 500], rpy: [180, 0, 0]}}\n  - {{xyz: [900, 100, 500], rpy: [180, 0, 0], speed: 50%}}\n"))], &["check", "path.yaml"], &["path.yaml: waypoints[1].speed:", "only a joint move takes", "motion: joint"]),
+        case("yaml: joint share above 100 %", vec![yaml(&format!("{HEAD}waypoints:\n  - {{xyz: [900, 0, 500], rpy: [180, 0, 0]}}\n  - {{xyz: [900, 100, 500], rpy: [180, 0, 0], motion: joint, speed: 150%}}\n"))], &["check", "path.yaml"], &["path.yaml: waypoints[1].speed:", "up to 100 %"]),
+        case("yaml: speed in words", vec![yaml(&format!("{HEAD}waypoints:\n  - {{xyz: [900, 0, 500], rpy: [180, 0, 0]}}\n  - {{xyz: [900, 100, 500], rpy: [180, 0, 0], speed: fast}}\n"))], &["check", "path.yaml"], &["path.yaml: line 5 column", "waypoints[1].speed:", "such as 50%"]),
+        case("csv: text in blend", vec![csv("x,y,z,roll,pitch,yaw,blend\n900,0,500,180,0,0,\n900,100,500,180,0,0,abc\n")], &csv_args(), &["wp.csv: line 3, column blend:", "`abc` is not a number", "corner radius"]),
+        case("csv: negative blend", vec![csv("x,y,z,roll,pitch,yaw,blend\n900,0,500,180,0,0,\n900,100,500,180,0,0,-1\n")], &csv_args(), &["wp.csv: line 3, column blend:", "corner radius of 0"]),
         case("csv: empty file", vec![csv("")], &csv_args(), &["wp.csv: file:", "no header row", "name the columns"]),
         case("csv: header only", vec![csv(CSV_HEAD)], &csv_args(), &["wp.csv: waypoints:", "0 waypoints", "at least two"]),
         case("csv: too few fields", vec![csv(&format!("{CSV_HEAD}{CSV_ROW}900,100,500,180,0\n"))], &csv_args(), &["wp.csv: line 3:", "5 fields but the header has 6", "one value per column"]),

@@ -338,6 +338,8 @@ fn feed(sink: &mut dyn SampleSink, robot: &armpath::robot::Robot, n: usize, spik
             orientation_error: 0.0,
             joints: armpath::Joints::from(joints),
             joint_speed: armpath::Joints::from(speed),
+            joint_acceleration: armpath::Joints::zeros(joints.len()),
+            tcp_speed: 0.1,
             tool_angular_speed: 0.2,
             singularity: 0.05 + 0.04 * ((i as f64) * 3e-5).sin(),
             singularity_class: None,

@@ -493,7 +493,8 @@ fn roll_line(first: &str, second: &str) -> String {
     const Q0: [f64; 6] = [0.0, 30.0, -20.0, 0.0, 45.0, 0.2];
     format!(
         "robot: {}\ntool: {{xyz: [0, 0, 180], rpy: [0, 0, 0]}}\nspeed: 100\n\
-         limits: {{tool_angular_speed: 2000, joint_speed_scale: 1}}\n\
+         limits: {{tool_angular_speed: 2000, joint_speed_scale: 1, tool_angular_acceleration: 100000, \
+         joint_acceleration_scale: 1000}}\n\
          waypoints:\n  - {{name: {first}, {}}}\n  - {{name: {second}, {}}}\n",
         arm6(),
         arm6_pose(&Q0, [0.0; 3], 0.0),
@@ -543,10 +544,14 @@ fn fix_cannot_be_made_to_write_yaml_through_a_waypoint_name() {
 
 #[test]
 fn fix_takes_the_setting_flags_and_amends_a_csv_path_into_a_checked_path_file() {
-    // Derivation: as in roll_line, j6 turns 90° in 10 mm, so at 100 mm/s it would need
-    // 900 deg/s against arm6's 420 deg/s; the largest speed is 100 × 420/900 = 46.67 mm/s and
-    // the proposal (rounded down to 0.1 mm/s) 46.6 mm/s.
-    // source: robots/arm6.urdf (j6 velocity 7.330383 rad/s = 420 deg/s); common practice
+    // Derivation: as in roll_line, j6 turns 90° in 10 mm, so cruising at 100 mm/s it would
+    // need 900 deg/s. The CSV leaves the accelerations at their defaults: the tool turns at
+    // most 720 deg/s², so the 90° roll peaks at √(720 · 90) ≈ 255 deg/s without cruising,
+    // within j6's 420 deg/s; with --joint-speed-scale 0.5 (210 deg/s) it is too fast. The fix
+    // bounds the speed at cruise: 100 × 210/900 = 23.33 mm/s, proposed (rounded down to
+    // 0.1 mm/s) 23.3 mm/s, at which the roll cruises at 209.7 deg/s.
+    // source: robots/arm6.urdf (j6 velocity 7.330383 rad/s = 420 deg/s); triangular profile
+    // peak √(a·L) (Biagiotti & Melchiorri 2008, §3.2.2; from memory); common practice
     let dir = tempfile::tempdir().unwrap();
     let d = dir.path();
     let yaml: serde_yaml::Mapping = serde_yaml::from_str(&roll_line("a", "b")).unwrap();
@@ -574,12 +579,18 @@ fn fix_takes_the_setting_flags_and_amends_a_csv_path_into_a_checked_path_file() 
         "0,0,180,0,0,0",
         "--tool-angular-speed",
         "2000",
+        "--joint-speed-scale",
+        "0.5",
         "--json",
         "-",
     ]);
     assert_eq!(code, 0, "{stdout} {stderr}");
     let report: serde_json::Value = serde_json::from_str(&stdout).unwrap();
-    assert_eq!(report["speeds"][0]["proposed"].as_f64(), Some(46.6));
+    assert_eq!(
+        report["speeds"][0]["proposed"].as_f64(),
+        Some(23.3),
+        "{report:#}"
+    );
     assert_eq!(
         report["before"]["errors"].as_u64().map(|e| e > 0),
         Some(true)

@@ -30,6 +30,10 @@ pub enum Kind {
     /// `joint_speed` (error): a joint faster than its URDF velocity times the speed scale
     /// (rad/s or m/s).
     JointSpeed,
+    /// A joint accelerates faster than its limit.
+    JointAcceleration,
+    /// The TCP runs slower than the programmed speed allows on a process segment.
+    ProcessSpeed,
 }
 
 impl Kind {
@@ -44,13 +48,17 @@ impl Kind {
             Kind::Singularity => "singularity",
             Kind::ToolAngularSpeed => "tool_angular_speed",
             Kind::JointSpeed => "joint_speed",
+            Kind::JointAcceleration => "joint_acceleration",
+            Kind::ProcessSpeed => "process_speed",
         }
     }
 
     /// Severity of every finding of this kind.
     pub fn severity(self) -> Severity {
         match self {
-            Kind::Input | Kind::NearJointLimit | Kind::Singularity => Severity::Warning,
+            Kind::Input | Kind::NearJointLimit | Kind::Singularity | Kind::ProcessSpeed => {
+                Severity::Warning
+            }
             _ => Severity::Error,
         }
     }
@@ -79,6 +87,10 @@ pub enum Quantity {
     AngularSpeed,
     /// m/s → mm/s
     Speed,
+    /// rad/s² → deg/s²
+    AngularAcceleration,
+    /// m/s² → mm/s²
+    Acceleration,
     /// dimensionless
     Number,
 }
@@ -91,6 +103,8 @@ impl Quantity {
             Quantity::Length => "mm",
             Quantity::AngularSpeed => "deg/s",
             Quantity::Speed => "mm/s",
+            Quantity::AngularAcceleration => "deg/s²",
+            Quantity::Acceleration => "mm/s²",
             Quantity::Number => "none",
         }
     }
@@ -98,8 +112,10 @@ impl Quantity {
     /// Convert an SI value to the display unit.
     pub fn display(self, si: f64) -> f64 {
         match self {
-            Quantity::Angle | Quantity::AngularSpeed => si.to_degrees(),
-            Quantity::Length | Quantity::Speed => si * 1e3,
+            Quantity::Angle | Quantity::AngularSpeed | Quantity::AngularAcceleration => {
+                si.to_degrees()
+            }
+            Quantity::Length | Quantity::Speed | Quantity::Acceleration => si * 1e3,
             Quantity::Number => si,
         }
     }

@@ -19,6 +19,9 @@ fn quantity_of(run: &Run, robot: &Robot) -> Quantity {
         Kind::ToolAngularSpeed => Quantity::AngularSpeed,
         Kind::JointSpeed if prismatic => Quantity::Speed,
         Kind::JointSpeed => Quantity::AngularSpeed,
+        Kind::JointAcceleration if prismatic => Quantity::Acceleration,
+        Kind::JointAcceleration => Quantity::AngularAcceleration,
+        Kind::ProcessSpeed => Quantity::Speed,
         Kind::Input => Quantity::Number,
     }
 }
@@ -31,6 +34,8 @@ fn show(q: Quantity, si: f64) -> String {
         Quantity::Length => format!("{v:.2} mm"),
         Quantity::AngularSpeed => format!("{v:.1} deg/s"),
         Quantity::Speed => format!("{v:.1} mm/s"),
+        Quantity::AngularAcceleration => format!("{v:.0} deg/s²"),
+        Quantity::Acceleration => format!("{v:.0} mm/s²"),
         Quantity::Number => format!("{v:.4}"),
     }
 }
@@ -160,6 +165,27 @@ pub(super) fn finding(robot: &Robot, job: &Job, plan: &Plan, run: &Run) -> Findi
                 factor
             )
         }
+        Kind::JointAcceleration => format!(
+            "{jn} would accelerate at {} ({:.2}× its allowed {}; URDF has no accelerations: the limit is armpath's \
+             default, {} × the URDF speed limit per second × limits.joint_acceleration_scale): blend the corner (blend: radius), lower \
+             limits.tcp_acceleration, slow the segment, or avoid the pose that makes {jn} fast; set \
+             limits.joint_acceleration_scale from the controller's data",
+            show(q, run.value),
+            run.value / run.limit.max(f64::MIN_POSITIVE),
+            show(q, run.limit),
+            crate::motion::JOINT_ACCELERATION_PER_SPEED
+        ),
+        Kind::ProcessSpeed => {
+            let programmed = seg.map(|s| s.speed).unwrap_or(job.speed);
+            format!(
+                "on this process segment the TCP slows to {} of the programmed {} (more than {:.0} % below it): \
+                 a stop or a sharp corner makes the TCP brake and start again; blend the corner (blend: radius), \
+                 start the process after a run-in, or raise limits.tcp_acceleration if the controller allows it",
+                show(q, run.value),
+                show(Quantity::Speed, programmed),
+                job.limits.process_speed_tolerance * 100.0
+            )
+        }
         Kind::Input => String::new(),
     };
     Finding {
@@ -197,7 +223,14 @@ pub(super) fn input_findings(job: &Job, plan: &Plan) -> Vec<Finding> {
         out.push(make(segment, format!("{}: {}", w.location, w.message)));
     }
     // Joint moves do not follow the orientation geodesic: only linear segments are flagged.
+    let mut before: Option<crate::plan::Segment> = None;
     for seg in plan.segments() {
+        if let Some(prev) = &before {
+            if let Some(m) = blend_note(job, plan, prev, &seg) {
+                out.push(make(Some(prev.index), m));
+            }
+        }
+        before = Some(seg.clone());
         if seg.motion == Motion::Linear && seg.geodesic.is_near_half_turn() {
             let axis = seg
                 .geodesic
@@ -218,5 +251,55 @@ pub(super) fn input_findings(job: &Job, plan: &Plan) -> Vec<Finding> {
             ));
         }
     }
+    if let Some(last) = before {
+        let k = last.index + 1;
+        if plan.blend_radius(k) > 0.0 {
+            out.push(make(
+                Some(last.index),
+                format!(
+                    "{}: blend {} on the last waypoint ignored: the path stops there; remove it",
+                    job.waypoint_origin(k),
+                    show(Quantity::Length, plan.blend_radius(k))
+                ),
+            ));
+        }
+    }
     out
+}
+
+/// The note on the blend at the waypoint between segments `a` and `b`: cut to half a
+/// neighbouring segment, or ignored where a blend cannot apply.
+fn blend_note(
+    job: &Job,
+    plan: &Plan,
+    a: &crate::plan::Segment,
+    b: &crate::plan::Segment,
+) -> Option<String> {
+    let k = a.index + 1;
+    let radius = plan.blend_radius(k);
+    if radius <= 0.0 {
+        return None;
+    }
+    let at = job.waypoint_origin(k);
+    let asked = show(Quantity::Length, radius);
+    if a.motion == Motion::Joint || b.motion == Motion::Joint {
+        return Some(format!(
+            "{at}: blend {asked} ignored next to a joint move: the arm stops at {} (blends round corners between \
+             straight-line moves); remove it or make both moves linear",
+            wp_name(job, k)
+        ));
+    }
+    if a.blend.half <= 0.0 {
+        return Some(format!(
+            "{at}: blend {asked} ignored: a neighbouring segment does not move the TCP, so there is no corner to \
+             round; remove it"
+        ));
+    }
+    a.blend.clipped.then(|| {
+        format!(
+            "{at}: blend {asked} cut to {} (half of the shorter neighbouring segment, so that the blends at both \
+             ends of a segment cannot overlap); give a smaller radius or longer segments",
+            show(Quantity::Length, a.blend.radius_in.max(a.blend.radius_out))
+        )
+    })
 }

@@ -11,6 +11,7 @@ mod messages;
 pub use finding::{Finding, Kind, Quantity, Severity};
 
 use crate::job::{Job, Motion};
+use crate::motion::joint_acceleration_limit;
 use crate::plan::Plan;
 pub use crate::robot::DEFAULT_SINGULARITY_THRESHOLD;
 
@@ -20,6 +21,11 @@ use crate::solve::{Reach, SampleRecord, SampleSink};
 /// Speeds within this relative tolerance of their limit count as at the limit, not above:
 /// a segment timed exactly at a limit must not be flagged through rounding.
 const SPEED_TOLERANCE: f64 = 1e-9;
+
+/// Joint accelerations within this relative tolerance of their limit count as at the limit:
+/// finite differences of a profile that runs a joint exactly at its limit scatter by the
+/// rounding of short sample intervals (1e-6 of the limit is far below any physical meaning).
+const ACCELERATION_TOLERANCE: f64 = 1e-6;
 
 /// Thresholds of the assessment, SI.
 #[derive(Debug, Clone, Copy)]
@@ -63,6 +69,18 @@ pub struct Extremes {
     pub max_joint_speed_joint: Option<usize>,
     /// Index of that sample; `None` like the joint.
     pub max_joint_speed_sample: Option<usize>,
+    /// The same over process segments only (the headroom the process keeps; joint moves,
+    /// which run at a programmed share of the allowed speed, do not hide it).
+    pub process_joint_speed_ratio: f64,
+    /// Index of the joint of `process_joint_speed_ratio`; `None` when none moved there.
+    pub process_joint_speed_joint: Option<usize>,
+    /// Largest joint acceleration over its allowed acceleration, and which joint.
+    pub max_joint_acceleration_ratio: f64,
+    /// Index of the joint of `max_joint_acceleration_ratio`; `None` when none was measured.
+    pub max_joint_acceleration_joint: Option<usize>,
+    /// Lowest commanded TCP speed on process segments over the programmed speed (1 = never
+    /// below it; `INFINITY` without process samples).
+    pub min_process_speed_ratio: f64,
     /// Smallest margin to a joint limit over its half range (1 at mid-range, < 0 outside).
     /// +∞ when no joint with a finite range was measured.
     pub min_limit_margin_ratio: f64,
@@ -82,6 +100,11 @@ impl Default for Extremes {
             max_joint_speed_ratio: 0.0,
             max_joint_speed_joint: None,
             max_joint_speed_sample: None,
+            process_joint_speed_ratio: 0.0,
+            process_joint_speed_joint: None,
+            max_joint_acceleration_ratio: 0.0,
+            max_joint_acceleration_joint: None,
+            min_process_speed_ratio: f64::INFINITY,
             min_limit_margin_ratio: f64::INFINITY,
             min_limit_margin_joint: None,
         }
@@ -152,6 +175,14 @@ pub struct Assessor<'a> {
     segment: usize,
     /// The job's and the plan's input findings, made once in `new`.
     inputs: Vec<Finding>,
+    /// The current segment's programmed speed (m/s) and process flag, read from the plan
+    /// when a sample enters a new segment.
+    segment_speed: f64,
+    segment_process: bool,
+    /// The next segment is a process segment too (else the process ends with this one).
+    next_process: bool,
+    /// The segment those were read for.
+    loaded: Option<usize>,
     /// For each waypoint that starts a segment with an input finding (sorted, made in `new`):
     /// the index of the first sample standing at it, where that finding sits in path order.
     /// Only those waypoints are kept, so memory follows the findings, not the path length.
@@ -169,6 +200,10 @@ impl<'a> Assessor<'a> {
             findings: Vec::new(),
             extremes: Extremes::default(),
             segment: 0,
+            segment_speed: 0.0,
+            segment_process: false,
+            next_process: false,
+            loaded: None,
             inputs: Vec::new(),
             waypoint_sample: Vec::new(),
         }
@@ -229,6 +264,18 @@ impl<'a> Assessor<'a> {
             config_change: f.config_change,
             seen: true,
         });
+    }
+
+    /// Read segment `k`'s programmed speed and process flag from the plan.
+    fn load_segment(&mut self, k: usize) {
+        let (speed, process) = self
+            .plan
+            .segment(k)
+            .map_or((0.0, false), |s| (s.speed, s.process));
+        self.segment_speed = speed;
+        self.segment_process = process;
+        self.next_process = self.plan.segment(k + 1).is_some_and(|s| s.process);
+        self.loaded = Some(k);
     }
 
     fn close_unseen(&mut self, robot: &Robot) {
@@ -293,6 +340,9 @@ impl SampleSink for Assessor<'_> {
             }
             self.open = runs;
             self.segment = rec.segment;
+        }
+        if self.loaded != Some(rec.segment) {
+            self.load_segment(rec.segment);
         }
         if rec.reach == Reach::Unreachable {
             let mut f = Flag::new(
@@ -380,6 +430,7 @@ impl SampleSink for Assessor<'_> {
                 );
             }
         }
+        let process = self.segment_process && rec.motion == Motion::Linear && rec.index > 0;
         for (k, j) in robot.joints().iter().enumerate() {
             let allowed = j.velocity * limits.joint_speed_scale;
             let v = rec.joint_speed[k].abs();
@@ -389,8 +440,52 @@ impl SampleSink for Assessor<'_> {
                 self.extremes.max_joint_speed_joint = Some(k);
                 self.extremes.max_joint_speed_sample = Some(rec.index);
             }
+            if process && ratio > self.extremes.process_joint_speed_ratio {
+                self.extremes.process_joint_speed_ratio = ratio;
+                self.extremes.process_joint_speed_joint = Some(k);
+            }
             if ratio > 1.0 + SPEED_TOLERANCE {
                 self.raise(rec, Flag::new(Kind::JointSpeed, Some(k), ratio, v, allowed));
+            }
+            let allowed_acc = joint_acceleration_limit(j.velocity, limits.joint_acceleration_scale);
+            let acc = rec.joint_acceleration[k].abs();
+            let acc_ratio = acc / allowed_acc;
+            if acc_ratio > self.extremes.max_joint_acceleration_ratio {
+                self.extremes.max_joint_acceleration_ratio = acc_ratio;
+                self.extremes.max_joint_acceleration_joint = Some(k);
+            }
+            if acc_ratio > 1.0 + ACCELERATION_TOLERANCE {
+                self.raise(
+                    rec,
+                    Flag::new(
+                        Kind::JointAcceleration,
+                        Some(k),
+                        acc_ratio,
+                        acc,
+                        allowed_acc,
+                    ),
+                );
+            }
+        }
+        // Where the process ends at a stop, the stop itself is the end of the bead, not a
+        // dip in it: the samples before it still show the slowing down.
+        let process_ends_here = rec.waypoint == Some(rec.segment + 1) && !self.next_process;
+        if process && self.segment_speed > 0.0 && !process_ends_here {
+            let ratio = rec.tcp_speed / self.segment_speed;
+            self.extremes.min_process_speed_ratio =
+                self.extremes.min_process_speed_ratio.min(ratio);
+            let floor = (1.0 - limits.process_speed_tolerance) * self.segment_speed;
+            if rec.tcp_speed < floor * (1.0 - SPEED_TOLERANCE) {
+                self.raise(
+                    rec,
+                    Flag::new(
+                        Kind::ProcessSpeed,
+                        None,
+                        floor - rec.tcp_speed,
+                        rec.tcp_speed,
+                        floor,
+                    ),
+                );
             }
         }
         self.close_unseen(robot);

@@ -3,7 +3,9 @@
 
 mod outcome;
 
-pub use outcome::{Advice, CheckOutcome, Feasibility, FirstStop, NonFinite, Verdict};
+pub use outcome::{
+    Advice, CheckOutcome, Feasibility, FirstStop, NonFinite, Verdict, SEGMENT_TABLE_ROWS,
+};
 
 use crate::assess::Finding;
 use crate::assess::{Assessor, Thresholds};
@@ -152,9 +154,11 @@ pub fn check(
         walker = walker.with_closed_form(solver, config);
     }
     let mut assessor = Assessor::new(job, &plan, options.thresholds);
+    let mut clock = crate::solve::WaypointClock::new(SEGMENT_TABLE_ROWS + 1);
     let totals = {
-        let mut all: Vec<&mut dyn SampleSink> = Vec::with_capacity(sinks.len() + 1);
+        let mut all: Vec<&mut dyn SampleSink> = Vec::with_capacity(sinks.len() + 2);
         all.push(&mut assessor);
+        all.push(&mut clock);
         for s in sinks.iter_mut() {
             all.push(&mut **s);
         }
@@ -176,6 +180,7 @@ pub fn check(
         findings,
         extremes,
         totals,
+        segment_durations: clock.segment_durations(),
         thresholds: options.thresholds,
         advice,
     })

@@ -11,6 +11,11 @@ use crate::solve::{StartChoice, WalkTotals};
 use nalgebra::Isometry3;
 use serde::Serialize;
 
+/// Segments whose run time the outcome keeps ([`CheckOutcome::segment_durations`]) and whose
+/// rows the report's segment table shows: the first 500. A path of a million waypoints keeps
+/// its report small; a reader of that many segments wants the joint CSV, not a table.
+pub const SEGMENT_TABLE_ROWS: usize = 500;
+
 pub use crate::configs::{Feasibility, FirstStop};
 
 /// The overall result of a check.
@@ -90,6 +95,10 @@ pub struct CheckOutcome {
     pub extremes: Extremes,
     /// Samples, length and duration of the walk.
     pub totals: WalkTotals,
+    /// Time (s) each of the first [`SEGMENT_TABLE_ROWS`] segments takes as
+    /// run (ramps, blends and joint moves included), in path order; shorter when the walk
+    /// ended early.
+    pub segment_durations: Vec<f64>,
     /// The thresholds the findings were raised with.
     pub thresholds: Thresholds,
     /// Configuration advice for the stopping errors (closed-form arms whose configuration

@@ -20,7 +20,7 @@
 use crate::error::Error;
 use crate::job::schema::{
     ConfigSpec, FrameSpec, LimitsSpec, MarginSpec, MotionSpec, PathFileSpec, SamplingSpec,
-    SplitMargin, ToolSpec, UnitsSpec, WaypointSpec, WaypointsSpec,
+    SpeedSpec, SplitMargin, ToolSpec, UnitsSpec, WaypointSpec, WaypointsSpec,
 };
 use crate::job::{Job, Motion, Units};
 use nalgebra::Isometry3;
@@ -195,6 +195,10 @@ pub fn spec(job: &Job) -> Result<PathFileSpec, Error> {
             angle: Some(angle(lim.near_limit_margin_angle)),
             length: Some(length(lim.near_limit_margin_length)),
         })),
+        tcp_acceleration: Some(length(lim.tcp_acceleration)),
+        tool_angular_acceleration: Some(angle(lim.tool_angular_acceleration)),
+        joint_acceleration_scale: Some(lim.joint_acceleration_scale),
+        process_speed_tolerance: Some(lim.process_speed_tolerance),
     };
     let sampling = SamplingSpec {
         step: Some(length(job.sampling.step)),
@@ -208,6 +212,12 @@ pub fn spec(job: &Job) -> Result<PathFileSpec, Error> {
             let (xyz, quat) = pose_values(&w.work_T_tcp, u);
             // The first waypoint ends no segment: its segment keys mean nothing.
             let segment = i > 0;
+            let keys = job.move_keys.get(i).copied().unwrap_or_default();
+            // A joint move's programmed share of the joints' speed is its `speed: N%`.
+            let speed = match (w.motion, keys.joint_speed_fraction) {
+                (Motion::Joint, Some(f)) => Some(SpeedSpec::Share(f * 100.0)),
+                _ => w.speed.map(|v| SpeedSpec::Tcp(length(v))),
+            };
             WaypointSpec {
                 name: Some(job.waypoint_name(i)),
                 xyz,
@@ -215,8 +225,9 @@ pub fn spec(job: &Job) -> Result<PathFileSpec, Error> {
                 quat: Some(quat),
                 rotvec: None,
                 motion: (segment && w.motion == Motion::Joint).then_some(MotionSpec::Joint),
-                speed: w.speed.filter(|_| segment).map(length),
+                speed: speed.filter(|_| segment),
                 process: (segment && w.process).then_some(true),
+                blend: (segment && keys.blend > 0.0).then(|| length(keys.blend)),
             }
         })
         .collect();

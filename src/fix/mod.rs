@@ -3,7 +3,8 @@
 //!
 //! - [`speed`]: the largest TCP speed per segment from one check walk (joint and tool angular
 //!   speeds scale with the TCP speed on a linear segment), and proposals where the programmed
-//!   speed is too high (one speed over each run of process segments).
+//!   speed is too high (one speed over each run of process segments); where joints accelerate
+//!   too hard, slower speeds with the accelerations scaled by the square of the factor.
 //! - Configuration: from the check's configuration table (arms with a closed-form solver),
 //!   the arm configuration that runs the whole path; when the one the check chose does not
 //!   and another does, the amended file asks for it (`config:`).
@@ -51,6 +52,8 @@ pub struct SpeedRow {
     pub programmed: f64,
     /// Worst speed over allowed speed at the programmed speed (≤ 1 within limits).
     pub ratio: f64,
+    /// Worst joint acceleration over allowed acceleration (≤ 1 within limits).
+    pub acceleration_ratio: f64,
     /// What sets the ratio: a joint name, `tool angular speed`, or `-` when nothing moves.
     pub limited_by: String,
     /// Largest TCP speed within every limit, when the TCP speed sets it.
@@ -192,14 +195,14 @@ pub fn fix(job: &Job, out: &Path, options: &CheckOptions) -> Result<FixReport> {
     }
 
     // The walk the speeds come from: the (possibly spun) path at the programmed speeds.
-    let mut ratios = RatioSink::new(&amended);
+    let plan = crate::plan::plan(&amended, options.max_samples)?;
+    let mut ratios = RatioSink::new(&amended, &plan);
     let base = if spun {
         run_check(&amended, options, &mut [&mut ratios])?
     } else {
         // Without a spin the same walk as the check before, with the ratio sink.
         run_check(&job, options, &mut [&mut ratios])?
     };
-    let plan = crate::plan::plan(&amended, options.max_samples)?;
     robot.set_tool(amended.tool.tip_T_tcp);
     let speeds: Vec<SegmentSpeed> = speed::proposals(&amended, &plan, &robot, &ratios);
 
@@ -238,6 +241,9 @@ pub fn fix(job: &Job, out: &Path, options: &CheckOptions) -> Result<FixReport> {
         }
     }
     let _ = n_speed;
+    if let Some(f2) = speed::acceleration_scale(&speeds) {
+        scale_accelerations(&mut amended, f2, &mut changes);
+    }
 
     let (amended_file, after) = if changes.is_empty() {
         (None, None)
@@ -273,6 +279,7 @@ pub fn fix(job: &Job, out: &Path, options: &CheckOptions) -> Result<FixReport> {
                 process: s.process,
                 programmed: s.programmed / l,
                 ratio: s.ratio,
+                acceleration_ratio: s.acceleration_ratio,
                 limited_by: s.limited_by.clone(),
                 max_speed: s.max_speed.map(|v| v / l),
                 proposed: s.proposed.map(|v| v / l),
@@ -291,6 +298,30 @@ pub fn fix(job: &Job, out: &Path, options: &CheckOptions) -> Result<FixReport> {
         after,
         cautions: CAUTIONS.to_vec(),
     })
+}
+
+/// Scale the TCP and tool angular accelerations of `job` by `f2` (rounded down to three
+/// significant digits in the file's units, never below the accepted minimum) and note it.
+fn scale_accelerations(job: &mut Job, f2: f64, changes: &mut Vec<String>) {
+    let (l, a) = (job.units.length_to_m(), job.units.angle_to_rad());
+    let lim = &mut job.limits;
+    let (tcp0, tool0) = (lim.tcp_acceleration, lim.tool_angular_acceleration);
+    let tcp = (speed::round_down_3(tcp0 * f2 / l) * l).max(job::TCP_ACCELERATION_RANGE_M_S2.0);
+    let tool = (speed::round_down_3(tool0 * f2 / a) * a)
+        .max(job::TOOL_ANGULAR_ACCELERATION_RANGE_RAD_S2.0);
+    lim.tcp_acceleration = tcp;
+    lim.tool_angular_acceleration = tool;
+    changes.push(format!(
+        "accelerations: TCP {} → {} {}/s², tool {} → {} {}/s² (joint accelerations too high: \
+         the slower speeds and these accelerations run the same path {:.2}× slower in time)",
+        emit::num(tcp0 / l, 4),
+        emit::num(tcp / l, 4),
+        job.units.length.name(),
+        emit::num(tool0 / a, 4),
+        emit::num(tool / a, 4),
+        job.units.angle.name(),
+        1.0 / f2.sqrt()
+    ));
 }
 
 /// Ask for configuration `config` in the amended job. `start_joints` would override it, so

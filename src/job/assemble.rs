@@ -3,7 +3,7 @@
 //! A CSV waypoint file loaded directly assembles with an empty spec.
 
 use super::csv_file;
-use super::schema::{MotionSpec, PathFileSpec, WaypointSpec, WaypointsSpec};
+use super::schema::{MotionSpec, PathFileSpec, SpeedSpec, WaypointSpec, WaypointsSpec};
 use super::units::{self, check_finite_array, AngleUnit, LengthUnit, PoseError};
 use super::units::{RawOrientation, Units};
 use super::validate::{self, Loaded, Place};
@@ -339,15 +339,34 @@ impl Ctx<'_> {
             waypoints: Vec::with_capacity(list.len()),
             names: NamesBuilder::new(),
             first_motion_given: false,
+            move_keys: Vec::new(),
         };
         for (i, w) in list.into_iter().enumerate() {
             let field = format!("waypoints[{i}]");
             let work_T_tcp =
                 self.file_pose(&field, w.xyz, (w.rpy, w.quat, w.rotvec), true, Some(i))?;
-            let speed = w
-                .speed
-                .map(|v| validate::segment_speed(v, &self.fu, self.path, Place::Field(&field)))
-                .transpose()?;
+            let joint_move = matches!(w.motion, Some(MotionSpec::Joint));
+            let mut key = crate::motion::MoveKey::default();
+            let speed = match w.speed {
+                None => None,
+                Some(SpeedSpec::Tcp(v)) => Some(validate::segment_speed(
+                    v,
+                    &self.fu,
+                    self.path,
+                    Place::Field(&field),
+                )?),
+                Some(SpeedSpec::Share(p)) => {
+                    let at = format!("{field}.speed");
+                    key.joint_speed_fraction = Some(super::motion_keys::joint_share(
+                        p, joint_move, self.path, &at,
+                    )?);
+                    None
+                }
+            };
+            if let Some(b) = w.blend {
+                key.blend =
+                    super::motion_keys::blend(b, &self.fu, self.path, &format!("{field}.blend"))?;
+            }
             if w.name.as_deref().is_some_and(|n| n.trim().is_empty()) {
                 return Err(self.err(
                     &format!("{field}.name"),
@@ -368,6 +387,7 @@ impl Ctx<'_> {
                 },
                 process: w.process.unwrap_or(false),
             });
+            out.set_move_key(key);
         }
         Ok(out)
     }
@@ -474,6 +494,8 @@ fn build(
         },
     };
     let mut warnings = cx.warnings;
+    let mut loaded = loaded;
+    let move_keys = loaded.take_move_keys();
     let (waypoints, names) = validate::check_waypoints(
         loaded,
         &waypoint_file,
@@ -498,6 +520,7 @@ fn build(
         units: fu,
         waypoints: std::sync::Arc::new(waypoints),
         names,
+        move_keys: std::sync::Arc::new(move_keys),
         warnings,
     })
 }

@@ -14,6 +14,7 @@
 //! | `speed`               | no       | TCP speed of the segment ending here (length unit/s)    |
 //! | `motion`              | no       | `linear` (default when empty) or `joint`                |
 //! | `process`             | no       | `true`/`false`/`1`/`0`; empty = false                   |
+//! | `blend`               | no       | corner radius here (length unit); empty = 0, a stop     |
 //!
 //! Exactly one orientation set must be present, complete. Lines starting with `#` are comments
 //! and empty lines are skipped; both still count for line numbers. Messages give the line
@@ -31,7 +32,7 @@ use std::path::Path;
 
 /// Every column name the format knows, for messages.
 const ALLOWED_COLUMNS: &str =
-    "x, y, z, qw, qx, qy, qz, roll, pitch, yaw, rx, ry, rz, name, speed, motion, process";
+    "x, y, z, qw, qx, qy, qz, roll, pitch, yaw, rx, ry, rz, name, speed, motion, process, blend";
 
 /// The orientation column sets, each with its columns in order.
 const ORIENTATION_SETS: [(&str, &[&str]); 3] = [
@@ -49,6 +50,7 @@ struct Columns {
     speed: Option<usize>,
     motion: Option<usize>,
     process: Option<usize>,
+    blend: Option<usize>,
     count: usize,
 }
 
@@ -113,6 +115,7 @@ pub(super) fn parse_waypoints(
         waypoints: Vec::with_capacity(rows + 1),
         names: NamesBuilder::new(),
         first_motion_given: false,
+        move_keys: Vec::new(),
     };
     while read(&mut reader, &mut record, path, &mut lines)? {
         let line = lines.line_of(&record);
@@ -123,8 +126,13 @@ pub(super) fn parse_waypoints(
         if index == 0 {
             out.first_motion_given = motion_given;
         }
+        let blend = blend_cell(&record, &cols, line, units, path)?;
         out.waypoints.push(waypoint);
         out.names.push(name);
+        out.set_move_key(crate::motion::MoveKey {
+            blend,
+            ..Default::default()
+        });
     }
     out.waypoints.shrink_to_fit();
     Ok(out)
@@ -388,6 +396,7 @@ fn parse_header(record: &csv::StringRecord, line: u64, path: &Path) -> Result<Co
         speed: find("speed"),
         motion: find("motion"),
         process: find("process"),
+        blend: find("blend"),
         count: names.len(),
     })
 }
@@ -516,6 +525,34 @@ fn parse_row<'r>(
         process,
     };
     Ok((waypoint, name, motion_given))
+}
+
+/// The `blend` cell of a row (m): empty or absent = 0, a stop.
+fn blend_cell(
+    record: &csv::StringRecord,
+    cols: &Columns,
+    line: u64,
+    units: &Units,
+    path: &Path,
+) -> Result<f64, Error> {
+    let Some(cell) = cols
+        .blend
+        .and_then(|i| record.get(i))
+        .filter(|s| !s.is_empty())
+    else {
+        return Ok(0.0);
+    };
+    let at = format!("line {line}, column blend");
+    let v: f64 = cell.parse().map_err(|_| {
+        Error::input(
+            path,
+            &at,
+            format!(
+                "`{cell}` is not a number: write a corner radius such as 5 (empty = 0, a stop)"
+            ),
+        )
+    })?;
+    super::motion_keys::blend(v, units, path, &at)
 }
 
 #[cfg(test)]

@@ -15,6 +15,7 @@ use std::sync::Arc;
 // (schema + overrides -> Job, uses csv_file for `waypoints: <file.csv>`).
 mod assemble;
 mod csv_file;
+mod motion_keys;
 mod names;
 mod overrides;
 mod read;
@@ -25,6 +26,7 @@ mod units;
 mod validate;
 mod yaml;
 
+pub use motion_keys::{TCP_ACCELERATION_RANGE_M_S2, TOOL_ANGULAR_ACCELERATION_RANGE_RAD_S2};
 pub use names::{NamesBuilder, WaypointNames};
 pub use overrides::Overrides;
 pub use units::{AngleUnit, LengthUnit, Units};
@@ -128,6 +130,16 @@ pub struct Limits {
     pub near_limit_margin_angle: f64,
     /// Margin to a prismatic joint's limit that raises `near_joint_limit` (m).
     pub near_limit_margin_length: f64,
+    /// Largest TCP acceleration on straight-line moves (m/s², > 0).
+    pub tcp_acceleration: f64,
+    /// Largest tool angular acceleration on straight-line moves (rad/s², > 0).
+    pub tool_angular_acceleration: f64,
+    /// Multiplies each joint's default acceleration limit
+    /// ([`crate::motion::joint_acceleration_limit`]), > 0.
+    pub joint_acceleration_scale: f64,
+    /// Share of the programmed speed a process segment may lose before a `process_speed`
+    /// warning, in [0, 1).
+    pub process_speed_tolerance: f64,
 }
 
 /// Sampling density along the path.
@@ -292,6 +304,9 @@ pub struct Job {
     pub waypoints: Arc<Vec<Waypoint>>,
     /// One name per waypoint (shared with the report).
     pub names: WaypointNames,
+    /// Blend radii and joint-move speeds per waypoint: empty when no waypoint sets one, else
+    /// one per waypoint (kept apart from `waypoints` so that paths without them pay nothing).
+    pub move_keys: Arc<Vec<crate::motion::MoveKey>>,
     /// Problems in the input that armpath worked around, in the order found.
     pub warnings: Vec<InputWarning>,
 }

@@ -193,6 +193,23 @@ pub struct LimitsSpec {
     /// key keeps its default. Default 5 deg and 5 mm.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub near_limit_margin: Option<MarginSpec>,
+    /// `tcp_acceleration: <number>`: largest TCP acceleration on straight-line moves, length
+    /// unit per s², > 0. Default 2000 mm/s² (common practice, not the robot's own value).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub tcp_acceleration: Option<f64>,
+    /// `tool_angular_acceleration: <number>`: largest tool angular acceleration on
+    /// straight-line moves, angle unit per s², > 0. Default 720 deg/s² (common practice).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub tool_angular_acceleration: Option<f64>,
+    /// `joint_acceleration_scale: <number>`: factor on every joint's default acceleration
+    /// limit (2 × its URDF velocity per second; URDF has no accelerations), 0.001 to 1000.
+    /// Default 1.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub joint_acceleration_scale: Option<f64>,
+    /// `process_speed_tolerance: <number>`: share of the programmed speed a process segment
+    /// may lose before a `process_speed` warning, in [0, 1). Default 0.05.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub process_speed_tolerance: Option<f64>,
 }
 
 /// `near_limit_margin`: one number for both joint kinds, or separate values.
@@ -326,13 +343,68 @@ pub struct WaypointSpec {
     #[serde(skip_serializing_if = "Option::is_none")]
     pub motion: Option<MotionSpec>,
     /// `speed: <number>`: TCP speed of the segment ending here, length unit per second, > 0.
-    /// Default: the job's `speed`.
+    /// Default: the job's `speed`. On a joint move also `speed: <number>%`: the share of
+    /// each joint's allowed speed the move uses, above 0 and up to 100 %.
     #[serde(skip_serializing_if = "Option::is_none")]
-    pub speed: Option<f64>,
+    pub speed: Option<SpeedSpec>,
     /// `process: true|false` (default false): the segment ending here is a process segment
     /// (constant TCP speed required).
     #[serde(skip_serializing_if = "Option::is_none")]
     pub process: Option<bool>,
+    /// `blend: <number>`: corner radius at this waypoint, length unit, ≥ 0: the TCP rounds the
+    /// corner between two straight-line moves instead of stopping here. Default 0 (stop).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub blend: Option<f64>,
+}
+
+/// A waypoint's `speed:`: a TCP speed, or (joint moves) a share of the joints' speed.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum SpeedSpec {
+    /// `speed: 20`: TCP speed, length unit per second.
+    Tcp(f64),
+    /// `speed: 50%`: per cent of each joint's allowed speed.
+    Share(f64),
+}
+
+impl Serialize for SpeedSpec {
+    fn serialize<S: serde::Serializer>(&self, s: S) -> Result<S::Ok, S::Error> {
+        match self {
+            SpeedSpec::Tcp(v) => s.serialize_f64(*v),
+            SpeedSpec::Share(p) => s.serialize_str(&format!("{p}%")),
+        }
+    }
+}
+
+impl<'de> Deserialize<'de> for SpeedSpec {
+    fn deserialize<D: Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
+        struct V;
+        impl Visitor<'_> for V {
+            type Value = SpeedSpec;
+            fn expecting(&self, f: &mut fmt::Formatter) -> fmt::Result {
+                f.write_str(
+                    "speed: a number (length unit per second), or on a joint move a share of \
+                     the joints' allowed speed such as 50%",
+                )
+            }
+            fn visit_f64<E: de::Error>(self, v: f64) -> Result<SpeedSpec, E> {
+                Ok(SpeedSpec::Tcp(v))
+            }
+            fn visit_i64<E: de::Error>(self, v: i64) -> Result<SpeedSpec, E> {
+                Ok(SpeedSpec::Tcp(v as f64))
+            }
+            fn visit_u64<E: de::Error>(self, v: u64) -> Result<SpeedSpec, E> {
+                Ok(SpeedSpec::Tcp(v as f64))
+            }
+            fn visit_str<E: de::Error>(self, v: &str) -> Result<SpeedSpec, E> {
+                v.trim()
+                    .strip_suffix('%')
+                    .and_then(|n| n.trim().parse::<f64>().ok())
+                    .map(SpeedSpec::Share)
+                    .ok_or_else(|| E::invalid_value(de::Unexpected::Str(v), &self))
+            }
+        }
+        d.deserialize_any(V)
+    }
 }
 
 /// `motion:` values.

@@ -25,6 +25,31 @@ pub(super) struct Loaded {
     pub names: NamesBuilder,
     /// The file gave the first waypoint's motion (`motion:` key or a non-empty `motion` cell).
     pub first_motion_given: bool,
+    /// Blend radii and joint-move shares: empty until a waypoint sets one, then one per
+    /// waypoint read so far (see [`Loaded::set_move_key`]).
+    pub move_keys: Vec<crate::motion::MoveKey>,
+}
+
+impl Loaded {
+    /// Record the motion keys of the waypoint just pushed, when it sets any: the list is
+    /// filled with defaults up to it first, so paths without these keys keep it empty.
+    pub fn set_move_key(&mut self, key: crate::motion::MoveKey) {
+        if key == crate::motion::MoveKey::default() && self.move_keys.is_empty() {
+            return;
+        }
+        let i = self.waypoints.len().saturating_sub(1);
+        self.move_keys.resize(i, crate::motion::MoveKey::default());
+        self.move_keys.push(key);
+    }
+
+    /// The motion keys, one per waypoint (or none), moved out.
+    pub fn take_move_keys(&mut self) -> Vec<crate::motion::MoveKey> {
+        let mut keys = std::mem::take(&mut self.move_keys);
+        if !keys.is_empty() {
+            keys.resize(self.waypoints.len(), crate::motion::MoveKey::default());
+        }
+        keys
+    }
 }
 
 /// Location of waypoint `i` in its file for errors: `waypoints[2]` or `line 5`.
@@ -200,6 +225,7 @@ pub(super) fn check_waypoints(
         waypoints,
         names,
         first_motion_given,
+        ..
     } = loaded;
     let names = names.finish();
     if waypoints.len() < 2 {

@@ -1,5 +1,9 @@
-//! The joint trajectory as CSV, streamed while the path is walked:
-//! `t_s,s_mm,segment,<joint>_deg...` (`<joint>_mm` for prismatic joints), one row per sample.
+//! The joint trajectory as CSV, streamed while the path is walked, one row per sample:
+//! `t_s,s_mm,segment,<joint>_deg...` (`<joint>_mm` for prismatic joints), then each joint's
+//! speed `<joint>_deg_s...` and acceleration `<joint>_deg_s2...` (`mm_s`, `mm_s2`), then the
+//! commanded TCP speed `tcp_mm_s`. Speeds are averages over the interval ending at the row,
+//! accelerations are taken between neighbouring intervals; both are 0 where unknown (first
+//! row, across a jump or an unreachable sample).
 
 use super::{joint_display, joint_unit};
 use crate::error::{Error, Result};
@@ -53,17 +57,21 @@ impl SampleSink for JointsCsv {
         self.line.clear();
         if !self.header_written {
             self.line.push_str("t_s,s_mm,segment");
-            for j in robot.joints() {
-                let _ = write!(self.line, ",{}_{}", j.name, joint_unit(j.kind));
+            for suffix in ["", "_s", "_s2"] {
+                for j in robot.joints() {
+                    let _ = write!(self.line, ",{}_{}{suffix}", j.name, joint_unit(j.kind));
+                }
             }
-            self.line.push('\n');
+            self.line.push_str(",tcp_mm_s\n");
             self.header_written = true;
         }
         let _ = write!(self.line, "{:.6},{:.4},{}", rec.t, rec.s * 1e3, rec.segment);
-        for (j, q) in robot.joints().iter().zip(rec.joints.iter()) {
-            let _ = write!(self.line, ",{:.6}", joint_display(j.kind, *q));
+        for values in [&rec.joints, &rec.joint_speed, &rec.joint_acceleration] {
+            for (j, q) in robot.joints().iter().zip(values.iter()) {
+                let _ = write!(self.line, ",{:.6}", joint_display(j.kind, *q));
+            }
         }
-        self.line.push('\n');
+        let _ = writeln!(self.line, ",{:.4}", rec.tcp_speed * 1e3);
         if let Err(e) = self.out.write_all(self.line.as_bytes()) {
             self.error = Some(e);
         }

@@ -2,23 +2,26 @@
 //! as JSON, and the joint trajectory as CSV. Values here are in display units (mm, deg, s):
 //! the conversion from SI happens once, when the report is built.
 
+mod entries;
 mod escape;
 pub mod html;
 mod joints_csv;
 pub mod kinematics;
 mod text;
 
+use entries::advice_text;
+pub use entries::{ConfigurationReport, FindingReport, StopReport};
 pub use escape::{count, visible};
 pub use joints_csv::JointsCsv;
 pub use text::{render_text, Style};
 
-use crate::assess::{Finding, Severity};
+use crate::assess::Finding;
 pub use crate::check::Verdict;
 pub use crate::units_display::{joint_display, joint_unit};
 
-use crate::check::{Advice, CheckOutcome, Feasibility};
+use crate::check::{Advice, CheckOutcome};
 use crate::error::{Error, Result};
-use crate::job::{Job, Motion};
+use crate::job::Motion;
 use crate::robot::{spherical_wrist, JointKind, Robot};
 use serde::Serialize;
 
@@ -27,7 +30,7 @@ pub const CAUTIONS: [&str; 5] = [
     "A simulated kinematic check is not a safety assessment.",
     "Verify the program on the real cell under the local robot safety standard and the site's procedures before production.",
     "Make the first runs at reduced speed (ISO 10218-1 limits the TCP to 250 mm/s in reduced-speed mode) with the cell cleared.",
-    "The model ignores collisions, cables and hoses, payload, dynamics and the controller's own interpolation and blending.",
+    "The model ignores collisions, cables and hoses, payload, forces and torques, and jerk; its speed ramps and corner blends are armpath's own model with default accelerations (URDF has none), not the controller's interpolation.",
     "Results are only as good as the robot description, tool offset and work frame given to armpath: check them against the cell.",
 ];
 
@@ -165,8 +168,11 @@ pub struct SegmentReport {
     pub length_mm: f64,
     /// Orientation change between the end poses (deg).
     pub turn_deg: f64,
-    /// Planned duration (s); for a joint move a lower bound (the walk adds the joint-speed bound).
+    /// Planned duration at the programmed speed, without ramps or blends (s); for a joint
+    /// move a lower bound (the walk adds the joint bounds).
     pub planned_s: f64,
+    /// Duration as run (ramps, blends, synchronised joint move), if the walk got there.
+    pub duration_s: Option<f64>,
 }
 
 /// The path and the settings the check used (JSON `path`), in display units.
@@ -200,6 +206,18 @@ pub struct PathReport {
     pub angle_step_deg: f64,
     /// Singularity measure (dimensionless) below which `singularity` is raised.
     pub singularity_threshold: f64,
+    /// Largest TCP acceleration on straight-line moves (mm/s²).
+    pub tcp_acceleration_mm_s2: f64,
+    /// Largest tool angular acceleration on straight-line moves (deg/s²).
+    pub tool_angular_acceleration_deg_s2: f64,
+    /// Multiplies the default joint accelerations (URDF has none: each joint's default is
+    /// [`crate::motion::JOINT_ACCELERATION_PER_SPEED`] times its speed limit per second).
+    pub joint_acceleration_scale: f64,
+    /// Share of the programmed speed a process segment may lose before a warning.
+    pub process_speed_tolerance: f64,
+    /// Time each of the first [`SEGMENT_TABLE_ROWS`] segments takes as run (s), in path
+    /// order; their sum over all segments is `summary.duration_s`, the cycle time.
+    pub segment_durations_s: Vec<f64>,
     /// How the joints at the first waypoint were chosen.
     pub start: StartReport,
     /// The first [`SEGMENT_TABLE_ROWS`] segments with their motion, speed and planned time
@@ -209,8 +227,7 @@ pub struct PathReport {
     pub segment_table: Vec<SegmentReport>,
 }
 
-/// Rows of the segment table a report keeps (see [`PathReport::segment_table`]).
-pub const SEGMENT_TABLE_ROWS: usize = 500;
+pub use crate::check::SEGMENT_TABLE_ROWS;
 
 /// The result in a few numbers (JSON `summary`), in display units.
 #[derive(Debug, Clone, Serialize)]
@@ -241,78 +258,22 @@ pub struct Summary {
     pub max_joint_speed_ratio: f64,
     /// Name of the joint with that ratio; null when no joint moved.
     pub max_joint_speed_joint: Option<String>,
+    /// The same on process segments only (null without process segments).
+    pub process_max_joint_speed_ratio: Option<f64>,
+    /// Joint of `process_max_joint_speed_ratio` (null without process segments).
+    pub process_max_joint_speed_joint: Option<String>,
+    /// Largest joint acceleration over its allowed acceleration (≤ 1 is within limits).
+    pub max_joint_acceleration_ratio: f64,
+    /// Joint of `max_joint_acceleration_ratio` (null when no acceleration was measured).
+    pub max_joint_acceleration_joint: Option<String>,
+    /// Lowest commanded TCP speed on process segments over the programmed speed (null
+    /// without process segments).
+    pub min_process_speed_ratio: Option<f64>,
     /// Smallest distance to a joint limit over half the joint's range (1 = mid-range, < 0
     /// outside the range); null when no limited joint was measured.
     pub min_limit_margin_ratio: Option<f64>,
     /// Name of the joint with that margin; null like `min_limit_margin_ratio`.
     pub min_limit_margin_joint: Option<String>,
-}
-
-/// One finding as the JSON `findings[]` entry shows it, in display units. Fields that do not
-/// apply to a finding are null (an input finding about the whole file has no segment), except
-/// `joint_deltas`, which is left out.
-#[derive(Debug, Clone, Serialize)]
-pub struct FindingReport {
-    /// `unreachable`, `joint_limit`, `joint_jump`, … (fixed names scripts match on).
-    pub kind: &'static str,
-    /// `warning` or `error`; errors fail the check.
-    pub severity: Severity,
-    /// 0-based index of the segment it lies on.
-    pub segment: Option<usize>,
-    /// Name of the waypoint that segment starts at.
-    pub from: Option<String>,
-    /// Name of the waypoint that segment ends at.
-    pub to: Option<String>,
-    /// First and last sample index of the flagged run (0-based from the path start).
-    pub samples: Option<[usize; 2]>,
-    /// Path distance at the first and last sample (mm).
-    pub s_mm: Option<[f64; 2]>,
-    /// Time from the path start at the first and last sample (s).
-    pub t_s: Option<[f64; 2]>,
-    /// Joint name, for joint findings.
-    pub joint: Option<String>,
-    /// Worst value over the run, in `unit`.
-    pub value: Option<f64>,
-    /// The limit `value` is compared with, in `unit`; null for `joint_jump`.
-    pub limit: Option<f64>,
-    /// Unit of `value` and `limit`: `mm`, `deg`, `deg/s`, `mm/s` or `none`.
-    pub unit: &'static str,
-    /// `joint_jump` only: the change of each joint across the jump, by joint name (deg; mm
-    /// for prismatic joints).
-    #[serde(skip_serializing_if = "Option::is_none")]
-    pub joint_deltas: Option<std::collections::BTreeMap<String, f64>>,
-    /// What happened and what to try.
-    pub message: String,
-}
-
-impl FindingReport {
-    /// The finding converted to display units; `robot` supplies the joint names and kinds.
-    pub fn new(f: &Finding, robot: &Robot) -> Self {
-        let q = f.quantity;
-        FindingReport {
-            kind: f.kind.name(),
-            severity: f.severity(),
-            segment: f.segment,
-            from: f.from.clone(),
-            to: f.to.clone(),
-            samples: f.samples,
-            s_mm: f.s.map(|s| [s[0] * 1e3, s[1] * 1e3]),
-            t_s: f.t,
-            joint: f.joint.clone(),
-            value: f.value.map(|v| q.display(v)),
-            limit: f.limit.map(|v| q.display(v)),
-            unit: q.unit(),
-            joint_deltas: f.deltas.as_ref().map(|d| {
-                robot
-                    .joints()
-                    .iter()
-                    .zip(d)
-                    .map(|(j, v)| (j.name.clone(), joint_display(j.kind, *v)))
-                    .collect()
-            }),
-            message: f.message.clone(),
-        }
-    }
 }
 
 /// The whole result of a check.
@@ -334,80 +295,6 @@ pub struct Report {
     pub configurations: Option<Vec<ConfigurationReport>>,
     /// The safety cautions ([`CAUTIONS`]), carried by every report.
     pub cautions: Vec<&'static str>,
-}
-
-/// What first stops a configuration's walk, in display units.
-#[derive(Debug, Clone, Serialize)]
-pub struct StopReport {
-    /// `unreachable`, `joint_limit` or `joint_jump`.
-    pub kind: &'static str,
-    /// Segment where it happens.
-    pub segment: usize,
-    /// Name of the segment's first waypoint.
-    pub from: String,
-    /// Name of the segment's last waypoint.
-    pub to: String,
-    /// Path distance where it happens (mm).
-    pub s_mm: f64,
-    /// The joint concerned (`joint_limit`).
-    pub joint: Option<String>,
-}
-
-/// One row of the configuration table, in display units.
-#[derive(Debug, Clone, Serialize)]
-pub struct ConfigurationReport {
-    /// `front/up/noflip` etc.
-    pub config: String,
-    /// The whole path runs in this configuration without unreachable, joint-limit or jump
-    /// errors.
-    pub runs: bool,
-    /// The first error that would stop the walk in this configuration.
-    pub first_failure: Option<StopReport>,
-    /// Joints at the first waypoint in this configuration (deg / mm), if it reaches it.
-    pub start_joints: Option<Vec<f64>>,
-}
-
-impl ConfigurationReport {
-    fn new(row: &Feasibility, robot: &Robot, job: &Job) -> Self {
-        ConfigurationReport {
-            config: row.config.to_string(),
-            runs: row.runs(),
-            first_failure: row.first_stop.map(|stop| StopReport {
-                kind: stop.kind.name(),
-                segment: stop.segment,
-                from: job.waypoint_name(stop.segment),
-                to: job.waypoint_name(stop.segment + 1),
-                s_mm: stop.s * 1e3,
-                joint: stop.joint.map(|k| robot.joints()[k].name.clone()),
-            }),
-            start_joints: row.start_joints.as_ref().map(|q| {
-                robot
-                    .joints()
-                    .iter()
-                    .zip(q)
-                    .map(|(j, v)| joint_display(j.kind, *v))
-                    .collect()
-            }),
-        }
-    }
-}
-
-/// The advice as the text appended to the stopping errors' messages.
-fn advice_text(advice: &Advice) -> String {
-    match advice {
-        Advice::NoConfigurationRuns => {
-            " — no arm configuration runs the whole path: change the path, the tool or the placement"
-                .to_string()
-        }
-        Advice::RunsIn(configs) => format!(
-            " — the whole path runs in configuration {}: start there (config: or start_joints)",
-            configs
-                .iter()
-                .map(|c| c.to_string())
-                .collect::<Vec<_>>()
-                .join(", ")
-        ),
-    }
 }
 
 impl Report {
@@ -483,6 +370,7 @@ impl Report {
                             )
                             .to_degrees(),
                             planned_s: g.duration,
+                            duration_s: o.segment_durations.get(g.index).copied(),
                         }
                     })
                     .collect(),
@@ -491,6 +379,15 @@ impl Report {
                 step_mm: o.job.sampling.step * 1e3,
                 angle_step_deg: o.job.sampling.angle_step.to_degrees(),
                 singularity_threshold: o.thresholds.singularity,
+                tcp_acceleration_mm_s2: o.job.limits.tcp_acceleration * 1e3,
+                tool_angular_acceleration_deg_s2: o
+                    .job
+                    .limits
+                    .tool_angular_acceleration
+                    .to_degrees(),
+                joint_acceleration_scale: o.job.limits.joint_acceleration_scale,
+                process_speed_tolerance: o.job.limits.process_speed_tolerance,
+                segment_durations_s: o.segment_durations.clone(),
                 start: StartReport {
                     method: o.start.method.name(),
                     joints: o
@@ -517,6 +414,13 @@ impl Report {
                 max_tool_angular_speed_deg_s: e.max_tool_angular_speed.to_degrees(),
                 max_joint_speed_ratio: e.max_joint_speed_ratio,
                 max_joint_speed_joint: joint_name(e.max_joint_speed_joint),
+                process_max_joint_speed_ratio: e
+                    .process_joint_speed_joint
+                    .map(|_| e.process_joint_speed_ratio),
+                process_max_joint_speed_joint: joint_name(e.process_joint_speed_joint),
+                max_joint_acceleration_ratio: e.max_joint_acceleration_ratio,
+                max_joint_acceleration_joint: joint_name(e.max_joint_acceleration_joint),
+                min_process_speed_ratio: finite(e.min_process_speed_ratio),
                 min_limit_margin_ratio: finite(e.min_limit_margin_ratio),
                 min_limit_margin_joint: joint_name(e.min_limit_margin_joint),
             },
@@ -555,11 +459,25 @@ impl Report {
                 s.max_tool_angular_speed_deg_s,
             ),
             ("summary.max_joint_speed_ratio", s.max_joint_speed_ratio),
+            (
+                "summary.max_joint_acceleration_ratio",
+                s.max_joint_acceleration_ratio,
+            ),
+            ("path.tcp_acceleration_mm_s2", p.tcp_acceleration_mm_s2),
+            (
+                "path.tool_angular_acceleration_deg_s2",
+                p.tool_angular_acceleration_deg_s2,
+            ),
         ];
         let optional = [
             ("summary.min_singularity", s.min_singularity),
             ("summary.min_singularity_s_mm", s.min_singularity_s_mm),
             ("summary.min_limit_margin_ratio", s.min_limit_margin_ratio),
+            (
+                "summary.process_max_joint_speed_ratio",
+                s.process_max_joint_speed_ratio,
+            ),
+            ("summary.min_process_speed_ratio", s.min_process_speed_ratio),
         ];
         let start = p.start.joints.iter().map(|&v| ("path.start.joints", v));
         let poses = [

@@ -36,6 +36,41 @@ fn range(r: Option<[f64; 2]>, digits: usize) -> String {
     }
 }
 
+/// Segments whose run time the text lists; the JSON has the first
+/// [`super::SEGMENT_TABLE_ROWS`].
+const TEXT_SEGMENT_TIMES: usize = 8;
+
+/// The cycle time, the acceleration model and the first segments' run times.
+fn timing_lines(o: &mut String, report: &Report) {
+    let (p, s) = (&report.path, &report.summary);
+    let _ = writeln!(
+        o,
+        "  cycle time            {:.2} s · accelerations: TCP {:.0} mm/s², tool {:.0} deg/s², \
+         joints {} × speed limit per s × {} (URDF has none: armpath's default)",
+        s.duration_s,
+        p.tcp_acceleration_mm_s2,
+        p.tool_angular_acceleration_deg_s2,
+        crate::motion::JOINT_ACCELERATION_PER_SPEED,
+        p.joint_acceleration_scale
+    );
+    let times: Vec<String> = p
+        .segment_durations_s
+        .iter()
+        .take(TEXT_SEGMENT_TIMES)
+        .enumerate()
+        .map(|(k, d)| format!("{k}: {d:.2} s"))
+        .collect();
+    if times.is_empty() {
+        return;
+    }
+    let more = if p.segments > TEXT_SEGMENT_TIMES {
+        " · … (every segment's time is in the JSON report)"
+    } else {
+        ""
+    };
+    let _ = writeln!(o, "  segment times         {}{more}", times.join(" · "));
+}
+
 /// Render the report for a terminal or a log.
 pub fn render_text(report: &Report, style: Style) -> String {
     let mut o = String::new();
@@ -125,6 +160,35 @@ pub fn render_text(report: &Report, style: Style) -> String {
             .map(|j| format!(" ({})", v(j)))
             .unwrap_or_default()
     );
+    if let (Some(r), Some(j)) = (
+        s.process_max_joint_speed_ratio,
+        &s.process_max_joint_speed_joint,
+    ) {
+        let _ = writeln!(
+            o,
+            "  on process segments   {:.1} % of allowed speed ({})",
+            r * 100.0,
+            v(j)
+        );
+    }
+    let _ = writeln!(
+        o,
+        "  hardest acceleration  {:.0} % of allowed{}",
+        s.max_joint_acceleration_ratio * 100.0,
+        s.max_joint_acceleration_joint
+            .as_ref()
+            .map(|j| format!(" ({})", v(j)))
+            .unwrap_or_default()
+    );
+    if let Some(r) = s.min_process_speed_ratio {
+        let _ = writeln!(
+            o,
+            "  slowest process feed  {:.0} % of programmed speed (warn below {:.0} %)",
+            r * 100.0,
+            (1.0 - p.process_speed_tolerance) * 100.0
+        );
+    }
+    timing_lines(&mut o, report);
     if let (Some(m), Some(j)) = (s.min_limit_margin_ratio, &s.min_limit_margin_joint) {
         let _ = writeln!(
             o,

@@ -17,11 +17,13 @@
 //! - `start`: the joints at the first pose, for both solvers, and the [`margin`] score.
 //! - `record`: what a sink sees ([`SampleRecord`]) and the walk's totals.
 
+mod clock;
 mod follow;
 mod record;
 mod start;
 mod walk;
 
+pub use clock::WaypointClock;
 pub use record::{Jump, Reach, SampleRecord, SampleSink, WalkTotals};
 pub use start::{
     best_in_config, choose_start, limit_ratio, margin, pose_margin, StartChoice, StartMethod,

@@ -54,6 +54,12 @@ pub struct SampleRecord {
     /// Joint speeds since the previous sample (rad/s or m/s; 0 for the first and across a
     /// jump or an unreachable sample, where a speed has no meaning), `dof` of them.
     pub joint_speed: Joints,
+    /// Joint accelerations at the sample (rad/s² or m/s²), from the speeds of the intervals
+    /// on either side of it; 0 where a speed is unknown (see `joint_speed`), `dof` of them.
+    pub joint_acceleration: Joints,
+    /// Commanded TCP speed at the sample (m/s) on straight-line segments: the speed profile
+    /// or, in a blend window, the blend's speed; 0 in joint moves and at the first sample.
+    pub tcp_speed: f64,
     /// Tool angular speed since the previous sample (rad/s).
     pub tool_angular_speed: f64,
     /// Singularity measure (see [`crate::robot::SingularityModel::measure`]).

@@ -8,6 +8,7 @@ use super::{WalkTotals, RECOVER_EVERY};
 use crate::ik::analytic::{Config, OrthoParallel};
 use crate::ik::{IkOptions, NumericIk};
 use crate::job::{Job, Motion};
+use crate::motion::{joint_acceleration_limit, SyncedMove};
 use crate::plan::{Plan, Segment};
 use crate::robot::{Jacobian, Joints, Robot, SingularityModel};
 use crate::rotation;
@@ -98,6 +99,7 @@ impl<'a> Walker<'a> {
             unreachable_run: 0,
             probe: (0.0, 0.0),
             work: WalkTotals::default(),
+            prev_speed_valid: false,
         };
         self.follower.begin(start, self.light);
         sink.begin(self.robot, self.plan.estimated_samples);
@@ -125,6 +127,8 @@ impl<'a> Walker<'a> {
                 dt: 0.0,
                 s: 0.0,
                 check_jump: false,
+                tcp_speed: 0.0,
+                from_rest: false,
             },
         );
         // Path distance at each segment's start: the sum of the straight-line lengths before
@@ -162,13 +166,16 @@ impl<'a> Walker<'a> {
             // A repeated waypoint: the previous sample already stands there.
             return;
         }
-        let dt = seg.duration / steps as f64;
+        // Samples stay evenly spaced in u; their times follow the segment's profile.
+        let timing = &seg.timing;
+        let mut t_prev = 0.0;
         for i in 1..=steps {
             if sink.done() {
                 return;
             }
             let u = i as f64 / steps as f64;
-            let target = seg.pose_at(u);
+            let t_now = timing.time_at(u);
+            let target = seg.run_pose_at(u);
             let solved = self.solve_sample(&target, i == steps, state);
             self.emit(
                 state,
@@ -179,11 +186,14 @@ impl<'a> Walker<'a> {
                     motion: Motion::Linear,
                     target,
                     solved,
-                    dt,
+                    dt: t_now - t_prev,
                     s: s0 + seg.length * u,
                     check_jump: true,
+                    tcp_speed: timing.tcp_speed(u),
+                    from_rest: i == 1 && timing.blend_in().is_none(),
                 },
             );
+            t_prev = t_now;
         }
     }
 
@@ -220,28 +230,35 @@ impl<'a> Walker<'a> {
         solved
     }
 
-    /// Samples and time step of a joint move from `q0` to `q1`: no joint moves more than one
-    /// angle step (or length step for a prismatic joint) between samples; the duration is the
-    /// Cartesian one or the slowest joint's at its allowed speed, whichever is longer (a
-    /// synchronised joint move).
+    /// Samples and profile of a joint move from `q0` to `q1`: no joint moves more than one
+    /// angle step (or length step for a prismatic joint) between samples; all joints follow
+    /// one acceleration-limited profile at the programmed share of their allowed speed
+    /// ([`SyncedMove`]). Without a programmed share the move runs at the joints' full allowed
+    /// speed and lasts at least the segment's straight-line length at the TCP speed.
     fn joint_move_timing(&self, seg: &Segment, q0: &Joints, q1: &Joints) -> JointMoveTiming {
-        let scale = self.job.limits.joint_speed_scale;
+        let limits = &self.job.limits;
         let mut steps = seg.steps.max(1);
-        let mut duration = seg.duration;
+        let n = self.robot.dof();
+        let mut delta = Joints::zeros(n);
+        let mut speed = Joints::zeros(n);
+        let mut accel = Joints::zeros(n);
         for (i, j) in self.robot.joints().iter().enumerate() {
-            let d = (q1[i] - q0[i]).abs();
+            delta[i] = q1[i] - q0[i];
+            speed[i] = j.velocity * limits.joint_speed_scale;
+            accel[i] = joint_acceleration_limit(j.velocity, limits.joint_acceleration_scale);
             let step = if j.kind.is_prismatic() {
                 self.job.sampling.step
             } else {
                 self.job.sampling.angle_step
             };
-            steps = steps.max((d / step).ceil() as usize);
-            duration = duration.max(d / (j.velocity * scale));
+            steps = steps.max((delta[i].abs() / step).ceil() as usize);
         }
-        JointMoveTiming {
-            steps,
-            dt: duration / steps as f64,
-        }
+        let (fraction, min_duration) = match self.plan.joint_speed_fraction(seg.index + 1) {
+            Some(f) => (f, 0.0),
+            None => (1.0, seg.duration),
+        };
+        let synced = SyncedMove::new(&delta, &speed, &accel, fraction, min_duration);
+        JointMoveTiming { steps, synced }
     }
 
     /// A joint move starting at path distance `s0`. It counts as its straight-line length,
@@ -273,14 +290,20 @@ impl<'a> Walker<'a> {
                     dt: seg.duration,
                     s: s0 + seg.length,
                     check_jump: false,
+                    tcp_speed: 0.0,
+                    from_rest: true,
                 },
             );
             return;
         }
         let q1 = end.q;
-        let JointMoveTiming { steps, dt } = self.joint_move_timing(seg, &q0, &q1);
+        let JointMoveTiming { steps, synced } = self.joint_move_timing(seg, &q0, &q1);
+        let mut t_prev = 0.0;
         for i in 1..=steps {
             let u = i as f64 / steps as f64;
+            let t_now = synced.ramp.t_at(u);
+            let dt = t_now - t_prev;
+            t_prev = t_now;
             let q = q0.map(|k, v| v + (q1[k] - v) * u);
             let last = i == steps;
             let (pe, oe) = if last {
@@ -304,6 +327,10 @@ impl<'a> Walker<'a> {
                     dt,
                     s: s0 + seg.length * u,
                     check_jump: false,
+                    // The TCP's route in a joint move is not the programmed path: its
+                    // speed is not the programmed speed's business.
+                    tcp_speed: 0.0,
+                    from_rest: i == 1,
                 },
             );
         }
@@ -336,6 +363,8 @@ impl<'a> Walker<'a> {
             (m, class)
         };
         let mut joint_speed = Joints::zeros(n);
+        let mut joint_acceleration = Joints::zeros(n);
+        let mut speed_valid = false;
         let mut tool_angular_speed = 0.0;
         let mut jump = None;
         if let Some(prev) = &state.prev {
@@ -358,8 +387,17 @@ impl<'a> Walker<'a> {
                 for ((v, qk), q_prev) in joint_speed.iter_mut().zip(&q).zip(&prev.joints) {
                     *v = (qk - q_prev) / a.dt;
                 }
+                speed_valid = true;
+                joint_acceleration = acceleration_between(
+                    prev,
+                    &joint_speed,
+                    a.dt,
+                    a.from_rest,
+                    state.prev_speed_valid,
+                );
             }
         }
+        state.prev_speed_valid = speed_valid;
         state.s = a.s;
         state.t += a.dt;
         let rec = SampleRecord {
@@ -376,6 +414,8 @@ impl<'a> Walker<'a> {
             orientation_error,
             joints: q,
             joint_speed,
+            joint_acceleration,
+            tcp_speed: a.tcp_speed,
             tool_angular_speed,
             singularity,
             singularity_class,
@@ -456,10 +496,42 @@ impl<'a> Walker<'a> {
     }
 }
 
-/// Samples and time step of a joint move (see [`Walker::joint_move_timing`]).
+/// Joint accelerations (rad/s² or m/s²) at a sample from the joint speeds of the interval
+/// ending there (`speed`, over `dt`) and the previous interval's (`prev`). Interval speeds
+/// are average speeds, i.e. speeds at interval midpoints, so the difference is taken over
+/// the midpoints' distance `(dt + prev.dt)/2`: exact for constant acceleration. After a stop
+/// (`from_rest`) the previous speed is 0 at the start of the interval, half an interval
+/// before its midpoint. Without a valid previous speed (first sample, a jump, an unreachable
+/// sample) the acceleration is not known and is reported as 0.
+fn acceleration_between(
+    prev: &SampleRecord,
+    speed: &Joints,
+    dt: f64,
+    from_rest: bool,
+    prev_valid: bool,
+) -> Joints {
+    let mut acc = Joints::zeros(speed.len());
+    if from_rest {
+        for (a, v) in acc.iter_mut().zip(speed.iter()) {
+            *a = v / (0.5 * dt);
+        }
+    } else if prev_valid && prev.dt > 0.0 {
+        let span = 0.5 * (dt + prev.dt);
+        for ((a, v), v_prev) in acc
+            .iter_mut()
+            .zip(speed.iter())
+            .zip(prev.joint_speed.iter())
+        {
+            *a = (v - v_prev) / span;
+        }
+    }
+    acc
+}
+
+/// Samples and shared profile of a joint move (see [`Walker::joint_move_timing`]).
 struct JointMoveTiming {
     steps: usize,
-    dt: f64,
+    synced: SyncedMove,
 }
 
 /// What the walk keeps between samples.
@@ -477,6 +549,8 @@ struct State {
     probe: (f64, f64),
     /// The work counters of [`WalkTotals`] (its other fields stay zero here).
     work: WalkTotals,
+    /// The previous sample's joint speeds are known (see [`acceleration_between`]).
+    prev_speed_valid: bool,
 }
 
 impl State {
@@ -499,4 +573,8 @@ struct EmitArgs {
     /// Path distance of the sample (m).
     s: f64,
     check_jump: bool,
+    /// Commanded TCP speed at the sample (m/s; 0 in joint moves).
+    tcp_speed: f64,
+    /// The interval ending at this sample starts from rest (a stop before it).
+    from_rest: bool,
 }

@@ -17,12 +17,12 @@ start_joints_seed: true
 config: {shoulder: front, elbow: up, wrist: noflip}
 speed: 20.3
 orientation_speed: 30
-limits: {tool_angular_speed: 120, joint_speed_scale: 0.8, near_limit_margin: {angle: 3, length: 2.5}}
+limits: {tool_angular_speed: 120, joint_speed_scale: 0.8, near_limit_margin: {angle: 3, length: 2.5}, tcp_acceleration: 1500.5, tool_angular_acceleration: 400, joint_acceleration_scale: 0.7, process_speed_tolerance: 0.1}
 sampling: {step: 0.7, angle_step: 0.3}
 waypoints:
   - {name: approach, xyz: [0, 0, 60], rpy: [180, 0, 0]}
-  - {name: seam_a, xyz: [0.1, 0.2, 0.3], quat: [0, 1, 0, 0], motion: joint, speed: 50}
-  - {xyz: [400, -0.7, 1e-3], rotvec: [180, 0, 0], motion: linear, speed: 8.1, process: true}
+  - {name: seam_a, xyz: [0.1, 0.2, 0.3], quat: [0, 1, 0, 0], motion: joint, speed: 50%}
+  - {xyz: [400, -0.7, 1e-3], rotvec: [180, 0, 0], motion: linear, speed: 8.1, process: true, blend: 2.5}
   - {name: seam_c, xyz: [410, 33.3, 0], quat: [0, 0.6, 0.8, 0], process: false}
 ";
 
@@ -136,6 +136,38 @@ fn assert_same_job(a: &Job, b: &Job, rel: f64) {
         rel,
         "margin length",
     );
+    close(
+        la.tcp_acceleration,
+        lb.tcp_acceleration,
+        rel,
+        "tcp_acceleration",
+    );
+    close(
+        la.tool_angular_acceleration,
+        lb.tool_angular_acceleration,
+        rel,
+        "tool_angular_acceleration",
+    );
+    close(
+        la.joint_acceleration_scale,
+        lb.joint_acceleration_scale,
+        0.0,
+        "joint_acceleration_scale",
+    );
+    close(
+        la.process_speed_tolerance,
+        lb.process_speed_tolerance,
+        0.0,
+        "process_speed_tolerance",
+    );
+    assert_eq!(a.move_keys.len(), b.move_keys.len(), "move keys");
+    for (i, (x, y)) in a.move_keys.iter().zip(b.move_keys.iter()).enumerate() {
+        close(x.blend, y.blend, rel, &format!("waypoints[{i}].blend"));
+        assert_eq!(
+            x.joint_speed_fraction, y.joint_speed_fraction,
+            "waypoints[{i}] joint-move share"
+        );
+    }
     close(a.sampling.step, b.sampling.step, rel, "step");
     close(
         a.sampling.angle_step,

@@ -129,6 +129,8 @@ impl Ctx<'_> {
                 }
             }
         }
+        let (tcp_acceleration, tool_angular_acceleration, joint_acceleration_scale, tolerance) =
+            super::super::motion_keys::limits(spec, &self.fu, self.path)?;
         Ok(Limits {
             tool_angular_speed,
             joint_speed_scale: over_scale
@@ -136,6 +138,10 @@ impl Ctx<'_> {
                 .unwrap_or(DEFAULT_JOINT_SPEED_SCALE),
             near_limit_margin_angle: angle,
             near_limit_margin_length: length,
+            tcp_acceleration,
+            tool_angular_acceleration,
+            joint_acceleration_scale,
+            process_speed_tolerance: tolerance,
         })
     }
 

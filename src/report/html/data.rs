@@ -184,6 +184,7 @@ pub struct PlotJoint {
 #[derive(Debug, Clone)]
 pub struct PlotData {
     joint_speed_scale: f64,
+    joint_acceleration_scale: f64,
     near_margin_angle: f64,
     near_margin_length: f64,
     step: f64,
@@ -191,6 +192,8 @@ pub struct PlotData {
     joints: Vec<PlotJoint>,
     /// Allowed speed per joint (rad/s or m/s).
     allowed: Joints,
+    /// Allowed acceleration per joint (rad/s² or m/s²).
+    allowed_acc: Joints,
     env: Option<Envelope>,
     /// The same series against time.
     env_t: Option<Envelope>,
@@ -214,12 +217,14 @@ impl PlotData {
     pub fn with_sizes(job: &Job, buckets: usize, trace_points: usize) -> Self {
         PlotData {
             joint_speed_scale: job.limits.joint_speed_scale,
+            joint_acceleration_scale: job.limits.joint_acceleration_scale,
             near_margin_angle: job.limits.near_limit_margin_angle,
             near_margin_length: job.limits.near_limit_margin_length,
             step: job.sampling.step,
             bucket_count: buckets,
             joints: Vec::new(),
             allowed: Joints::default(),
+            allowed_acc: Joints::default(),
             env: None,
             env_t: None,
             time_step: job.sampling.step / job.speed,
@@ -254,11 +259,19 @@ impl PlotData {
             })
             .collect();
         let mut allowed = Joints::zeros(robot.dof());
-        for (a, j) in allowed.iter_mut().zip(robot.joints()) {
+        let mut allowed_acc = Joints::zeros(robot.dof());
+        for ((a, acc), j) in allowed
+            .iter_mut()
+            .zip(allowed_acc.iter_mut())
+            .zip(robot.joints())
+        {
             *a = j.velocity * self.joint_speed_scale;
+            *acc =
+                crate::motion::joint_acceleration_limit(j.velocity, self.joint_acceleration_scale);
         }
         self.allowed = allowed;
-        let series = 2 * robot.dof() + 2;
+        self.allowed_acc = allowed_acc;
+        let series = 3 * robot.dof() + 3;
         self.env = Some(Envelope::new(series, self.bucket_count, self.step));
         self.env_t = Some(Envelope::new(series, self.bucket_count, self.time_step));
     }
@@ -286,6 +299,14 @@ impl PlotData {
     /// Series index of the tool angular speed (deg/s; linear segments only).
     pub fn tool_speed_series(&self) -> usize {
         2 * self.dof() + 1
+    }
+    /// Series index of joint k's acceleration as a fraction of its allowed acceleration.
+    pub fn acceleration_series(&self, k: usize) -> usize {
+        2 * self.dof() + 2 + k
+    }
+    /// Series index of the commanded TCP speed (mm/s, straight-line segments).
+    pub fn tcp_speed_series(&self) -> usize {
+        3 * self.dof() + 2
     }
     /// The series against s; `None` before the first sample.
     pub fn envelope(&self) -> Option<&Envelope> {
@@ -351,16 +372,23 @@ impl SampleSink for PlotData {
             waypoint: rec.waypoint.is_some(),
         });
         if let Some(env) = self.env.as_mut() {
-            add_sample(env, rec.s, robot, &self.allowed, rec);
+            add_sample(env, rec.s, robot, [&self.allowed, &self.allowed_acc], rec);
         }
         if let Some(env) = self.env_t.as_mut() {
-            add_sample(env, rec.t, robot, &self.allowed, rec);
+            add_sample(env, rec.t, robot, [&self.allowed, &self.allowed_acc], rec);
         }
     }
 }
 
-/// Add one sample's series at coordinate `x` (s or t) to an envelope.
-fn add_sample(env: &mut Envelope, x: f64, robot: &Robot, allowed: &Joints, rec: &SampleRecord) {
+/// Add one sample's series at coordinate `x` (s or t) to an envelope; `allowed` holds each
+/// joint's allowed speed and acceleration.
+fn add_sample(
+    env: &mut Envelope,
+    x: f64,
+    robot: &Robot,
+    [allowed, allowed_acc]: [&Joints; 2],
+    rec: &SampleRecord,
+) {
     let n = allowed.len();
     let slot = env.slot(x);
     if rec.reach == Reach::Unreachable {
@@ -373,10 +401,15 @@ fn add_sample(env: &mut Envelope, x: f64, robot: &Robot, allowed: &Joints, rec: 
         if allowed[k] > 0.0 {
             env.add(slot, n + k, x, rec.joint_speed[k].abs() / allowed[k]);
         }
+        if allowed_acc.get(k).is_some_and(|a| *a > 0.0) {
+            let a = rec.joint_acceleration[k].abs() / allowed_acc[k];
+            env.add(slot, 2 * n + 2 + k, x, a);
+        }
     }
     env.add(slot, 2 * n, x, rec.singularity);
     if rec.motion == Motion::Linear {
         env.add(slot, 2 * n + 1, x, rec.tool_angular_speed.to_degrees());
+        env.add(slot, 3 * n + 2, x, rec.tcp_speed * 1e3);
     }
 }
 

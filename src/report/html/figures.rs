@@ -73,6 +73,8 @@ pub struct Figures {
     pub tool: Result<Figure, String>,
     /// Joint speed, singularity measure and tool angular speed against time.
     pub over_time: [Result<Figure, String>; 3],
+    /// Commanded TCP speed and joint accelerations against time.
+    pub timing: [Result<Figure, String>; 2],
     pub joints: Vec<Result<Figure, String>>,
     /// Top (x–y), side (x–z) and end (y–z) views.
     pub views: [Result<Figure, String>; 3],
@@ -236,6 +238,28 @@ fn marks(report: &Report, places: &[(usize, Place)], joints: usize, axis: Axis) 
     m
 }
 
+/// One line per joint of a per-joint ratio series (`series(k)`), each labelled with its
+/// peak in per cent, and the largest peak.
+fn joint_lines(ax: &AxisData, names: &[&str], series: impl Fn(usize) -> usize) -> (Vec<Line>, f64) {
+    let lines: Vec<Line> = (0..names.len())
+        .map(|k| {
+            let runs = ax.runs(series(k));
+            let peak = bounds(&runs).map_or(0.0, |b| b[1]);
+            Line {
+                colour: plots::JOINT_COLOURS[k % plots::JOINT_COLOURS.len()],
+                width: 2,
+                runs,
+                label: Some(format!("{} {:.0} %", names[k], peak * 100.0)),
+            }
+        })
+        .collect();
+    let peak = lines
+        .iter()
+        .filter_map(|l| bounds(&l.runs))
+        .fold(0.0f64, |m, b| m.max(b[1]));
+    (lines, peak)
+}
+
 /// Joint speed, singularity measure and tool angular speed against one axis.
 fn main_plots(
     report: &Report,
@@ -248,22 +272,7 @@ fn main_plots(
     let busiest = report.summary.max_joint_speed_joint.as_deref();
 
     // Joint speeds as a fraction of the allowed speed, one line per joint.
-    let speed_lines: Vec<Line> = (0..names.len())
-        .map(|k| {
-            let runs = ax.runs(data.speed_series(k));
-            let peak = bounds(&runs).map_or(0.0, |b| b[1]);
-            Line {
-                colour: plots::JOINT_COLOURS[k % plots::JOINT_COLOURS.len()],
-                width: 2,
-                runs,
-                label: Some(format!("{} {:.0} %", names[k], peak * 100.0)),
-            }
-        })
-        .collect();
-    let peak = speed_lines
-        .iter()
-        .filter_map(|l| bounds(&l.runs))
-        .fold(0.0f64, |m, b| m.max(b[1]));
+    let (speed_lines, peak) = joint_lines(ax, &names, |k| data.speed_series(k));
     // Peak labels only where a joint comes within half of the busiest one (the rest sit in
     // a bundle near zero where names would overlap); the joint the summary names as the
     // busiest always keeps its label.
@@ -346,6 +355,46 @@ fn main_plots(
         plots::s_plot(&singularity),
         plots::s_plot(&tool),
     ]
+}
+
+/// The TCP speed on straight-line segments against the job's speed, and each joint's
+/// acceleration against its allowed acceleration, over time.
+fn timing_plots(report: &Report, data: &PlotData, ax: &AxisData) -> [Result<Figure, String>; 2] {
+    let job_speed = report.path.speed_mm_s;
+    let tcp_runs = ax.runs(data.tcp_speed_series());
+    let tcp_peak = bounds(&tcp_runs).map_or(0.0, |b| b[1]);
+    let mut tcp = ax.plot(
+        (FULL, 250),
+        "mm/s".into(),
+        [0.0, (job_speed.max(tcp_peak) * 1.1).max(1e-3)],
+        vec![Line {
+            colour: plots::BLUE,
+            width: 2,
+            runs: tcp_runs,
+            label: None,
+        }],
+    );
+    tcp.rules.push(Rule {
+        y: job_speed,
+        label: format!("job speed {} mm/s", super::nice(job_speed)),
+    });
+    let names: Vec<&str> = data.joints().iter().map(|j| j.name.as_str()).collect();
+    let (lines, peak) = joint_lines(ax, &names, |k| data.acceleration_series(k));
+    let mut acc = ax.plot(
+        (FULL, 250),
+        "acceleration / allowed".into(),
+        [0.0, (peak * 1.1).max(1.2)],
+        lines,
+    );
+    acc.rules.push(Rule {
+        y: 1.0,
+        label: format!(
+            "1.0 = allowed acceleration ({} × URDF velocity per s × {}, armpath's default)",
+            crate::motion::JOINT_ACCELERATION_PER_SPEED,
+            super::nice(report.path.joint_acceleration_scale)
+        ),
+    });
+    [plots::s_plot(&tcp), plots::s_plot(&acc)]
 }
 
 /// Build every figure.
@@ -440,6 +489,7 @@ pub fn build(report: &Report, data: &PlotData) -> Figures {
         speed,
         singularity,
         tool,
+        timing: timing_plots(report, data, &by_t),
         over_time,
         joints,
         views,

@@ -388,6 +388,21 @@ fn over_time(o: &mut String, report: &Report, figs: &Figures, names: &[String]) 
     );
     let [speed, singularity, tool] = &figs.over_time;
     main_figures(o, "time", report, names, [speed, singularity, tool]);
+    let [tcp, acc] = &figs.timing;
+    figure(
+        o,
+        "time-tcp",
+        "<b>TCP speed</b> commanded on straight-line moves (mm/s): ramps at stops, dips in \
+         blended corners",
+        tcp,
+    );
+    figure(
+        o,
+        "time-acc",
+        "<b>Joint acceleration</b> as a fraction of the allowed acceleration (URDF has none: \
+         armpath's default, see the settings)",
+        acc,
+    );
 }
 
 fn views(o: &mut String, figs: &Figures) {
