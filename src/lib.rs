@@ -24,6 +24,7 @@
 #![allow(non_snake_case)]
 
 pub mod assess;
+pub mod cell;
 pub mod check;
 pub mod configs;
 pub mod error;

@@ -2,6 +2,7 @@
 
 mod chain;
 mod fastmath;
+mod links;
 mod load;
 mod ranges;
 mod singularity;
@@ -9,6 +10,7 @@ mod wrist;
 mod xml;
 
 pub use chain::{manipulability, scaled_jjt, Chain, ChainJoint, Jacobian, JointKind, MAX_DOF};
+pub use links::LinkMount;
 pub use load::{from_urdf_str, load_urdf};
 pub use ranges::{
     check_offset, check_pose, MAX_EFFORT, MAX_JOINT_SPEED, MAX_LENGTH_M, MAX_ORIGIN_ANGLE_RAD,
@@ -58,6 +60,7 @@ pub struct Robot {
     joints: Vec<JointInfo>,
     chain: Chain,
     reach: f64,
+    links: Vec<LinkMount>,
 }
 
 impl Robot {
@@ -68,6 +71,7 @@ impl Robot {
         tip_link: String,
         joints: Vec<JointInfo>,
         chain: Chain,
+        links: Vec<LinkMount>,
     ) -> Self {
         let mut robot = Robot {
             name,
@@ -77,6 +81,7 @@ impl Robot {
             joints,
             chain,
             reach: 0.0,
+            links,
         };
         robot.reach = robot.estimate_reach();
         robot
@@ -105,6 +110,11 @@ impl Robot {
     }
     pub fn chain(&self) -> &Chain {
         &self.chain
+    }
+    /// The links from the root link to the tip link, each with the joint frame it rides on
+    /// and its collision elements (for the cell model).
+    pub fn links(&self) -> &[LinkMount] {
+        &self.links
     }
     /// Mount a tool: TCP pose in the tip-link frame.
     pub fn set_tool(&mut self, tip_T_tcp: Isometry3<f64>) {
