@@ -14,6 +14,10 @@ pub enum Kind {
     Singularity,
     ToolAngularSpeed,
     JointSpeed,
+    /// Two bodies of the cell model touch or overlap (not an allowed contact).
+    Collision,
+    /// Two bodies come closer than the clearance limit.
+    Clearance,
 }
 
 impl Kind {
@@ -28,13 +32,17 @@ impl Kind {
             Kind::Singularity => "singularity",
             Kind::ToolAngularSpeed => "tool_angular_speed",
             Kind::JointSpeed => "joint_speed",
+            Kind::Collision => "collision",
+            Kind::Clearance => "clearance",
         }
     }
 
     /// Severity of every finding of this kind.
     pub fn severity(self) -> Severity {
         match self {
-            Kind::Input | Kind::NearJointLimit | Kind::Singularity => Severity::Warning,
+            Kind::Input | Kind::NearJointLimit | Kind::Singularity | Kind::Clearance => {
+                Severity::Warning
+            }
             _ => Severity::Error,
         }
     }
@@ -103,6 +111,8 @@ pub struct Finding {
     pub t: Option<[f64; 2]>,
     /// Joint name, for joint findings.
     pub joint: Option<String>,
+    /// The two bodies, for `collision` and `clearance` findings.
+    pub bodies: Option<[String; 2]>,
     /// The worst value over the run, and the limit it is compared with.
     pub value: Option<f64>,
     pub limit: Option<f64>,
@@ -132,6 +142,7 @@ impl Finding {
             s: None,
             t: None,
             joint: None,
+            bodies: None,
             value: None,
             limit: None,
             quantity: Quantity::Number,

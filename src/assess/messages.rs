@@ -20,6 +20,7 @@ fn quantity_of(run: &Run, robot: &Robot) -> Quantity {
         Kind::JointSpeed if prismatic => Quantity::Speed,
         Kind::JointSpeed => Quantity::AngularSpeed,
         Kind::Input => Quantity::Number,
+        Kind::Collision | Kind::Clearance => Quantity::Length,
     }
 }
 
@@ -160,7 +161,8 @@ pub(super) fn finding(robot: &Robot, job: &Job, plan: &Plan, run: &Run) -> Findi
                 factor
             )
         }
-        Kind::Input => String::new(),
+        // Made by the cell watch, which closes its own runs.
+        Kind::Input | Kind::Collision | Kind::Clearance => String::new(),
     };
     Finding {
         kind: run.kind,
@@ -171,6 +173,7 @@ pub(super) fn finding(robot: &Robot, job: &Job, plan: &Plan, run: &Run) -> Findi
         s: Some(run.s),
         t: Some(run.t),
         joint: joint_name,
+        bodies: None,
         value: Some(run.value),
         // A jump has no limit: any discontinuity is one.
         limit: (run.kind != Kind::JointJump).then_some(run.limit),

@@ -15,6 +15,7 @@ mod model;
 mod probe;
 pub mod shape;
 pub mod stl;
+mod watch;
 
 pub use file::{
     load_cell, tool_bodies, AllowWhen, AllowedContact, Anchor, BodySpec, CellFile, RawBody, Scale,
@@ -24,6 +25,7 @@ pub use model::{
 };
 pub use probe::{CellProbe, Proximity, CONTACT_RESOLUTION_M, EXACT_MARGIN_M, MAX_SPLIT_DEPTH};
 pub use shape::{Primitive, Solid};
+pub use watch::{CellSummary, CellWatch, Nearest};
 
 /// Why a capped read failed; each reader words its own message.
 pub(crate) enum ReadFail {

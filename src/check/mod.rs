@@ -178,6 +178,7 @@ pub fn check(
         totals,
         thresholds: options.thresholds,
         advice,
+        cell: None,
     })
 }
 

@@ -70,6 +70,9 @@ pub struct CheckOutcome {
     /// Configuration advice for the stopping errors (closed-form arms whose configuration
     /// does not run the path).
     pub advice: Option<Advice>,
+    /// What the collision and clearance check covered; `None` when the job has no cell and
+    /// no tool geometry (then collisions are not checked).
+    pub cell: Option<crate::cell::CellSummary>,
 }
 
 impl CheckOutcome {

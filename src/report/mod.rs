@@ -28,6 +28,51 @@ pub const CAUTIONS: [&str; 5] = [
     "Results are only as good as the robot description, tool offset and work frame given to armpath: check them against the cell.",
 ];
 
+/// The cautions of a report whose check measured a cell model: the fourth says what the
+/// collision check covers instead of that collisions are ignored.
+pub const CAUTIONS_WITH_CELL: [&str; 5] = [
+    CAUTIONS[0],
+    CAUTIONS[1],
+    CAUTIONS[2],
+    "Collisions are checked only against the modelled geometry (the robot's collision shapes, the tool bodies and the cell bodies, STL meshes as their convex hulls); anything not modelled is ignored, as are cables and hoses, payload, dynamics and the controller's own interpolation and blending.",
+    "Results are only as good as the robot description, tool offset and geometry, work frame and cell file given to armpath: check them against the cell.",
+];
+
+/// What the collision and clearance check covered, display units (mm).
+#[derive(Debug, Clone, Serialize)]
+pub struct CellReport {
+    /// Bodies in the model: robot links with collision geometry, tool bodies, cell bodies.
+    pub bodies: usize,
+    /// Body pairs tested.
+    pub pairs_tested: usize,
+    pub clearance_mm: f64,
+    /// Nearest approach of any tested pair at a sample (negative: penetration depth); for
+    /// far pairs a lower bound.
+    pub nearest_mm: Option<f64>,
+    pub nearest_bodies: Option<[String; 2]>,
+    pub nearest_sample: Option<usize>,
+    /// Configurations measured: samples and midpoints of the between-samples rule.
+    pub configurations_measured: u64,
+    /// What the model leaves out.
+    pub notes: Vec<String>,
+}
+
+impl CellReport {
+    /// The report form of a cell summary.
+    pub fn new(c: &crate::cell::CellSummary) -> Self {
+        CellReport {
+            bodies: c.bodies,
+            pairs_tested: c.pairs,
+            clearance_mm: c.clearance * 1e3,
+            nearest_mm: c.nearest.as_ref().map(|n| n.distance * 1e3),
+            nearest_bodies: c.nearest.as_ref().map(|n| n.bodies.clone()),
+            nearest_sample: c.nearest.as_ref().map(|n| n.sample),
+            configurations_measured: c.configurations,
+            notes: c.notes.clone(),
+        }
+    }
+}
+
 /// Display value of a joint quantity: deg for revolute, mm for prismatic.
 pub fn joint_display(kind: JointKind, si: f64) -> f64 {
     if kind.is_prismatic() {
@@ -244,6 +289,9 @@ pub struct FindingReport {
     pub s_mm: Option<[f64; 2]>,
     pub t_s: Option<[f64; 2]>,
     pub joint: Option<String>,
+    /// `collision` and `clearance` only: the two bodies.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub bodies: Option<[String; 2]>,
     pub value: Option<f64>,
     pub limit: Option<f64>,
     pub unit: &'static str,
@@ -267,6 +315,7 @@ impl FindingReport {
             s_mm: f.s.map(|s| [s[0] * 1e3, s[1] * 1e3]),
             t_s: f.t,
             joint: f.joint.clone(),
+            bodies: f.bodies.clone(),
             value: f.value.map(|v| q.display(v)),
             limit: f.limit.map(|v| q.display(v)),
             unit: q.unit(),
@@ -294,6 +343,10 @@ pub struct Report {
     /// For arms with a closed-form solver: each arm configuration, whether the whole path
     /// runs in it, and if not where it first stops. Null for other arms.
     pub configurations: Option<Vec<ConfigurationReport>>,
+    /// The collision and clearance check; absent when the job has no cell and no tool
+    /// geometry.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub cell: Option<CellReport>,
     pub cautions: Vec<&'static str>,
 }
 
@@ -489,7 +542,12 @@ impl Report {
                     .map(|row| ConfigurationReport::new(row, &r.robot, &r.job))
                     .collect()
             }),
-            cautions: CAUTIONS.to_vec(),
+            cell: o.cell.as_ref().map(CellReport::new),
+            cautions: if o.cell.is_some() {
+                CAUTIONS_WITH_CELL.to_vec()
+            } else {
+                CAUTIONS.to_vec()
+            },
         }
     }
 

@@ -167,6 +167,16 @@ pub fn run_robot(a: RobotArgs) -> Result<u8> {
             reason: Some(reason),
         },
     });
+    if robot.links().iter().any(|l| !l.collisions.is_empty()) {
+        let model = armpath::cell::CellModel::build(armpath::cell::CellInputs {
+            robot: &robot,
+            tool: &[],
+            cell: None,
+            base_T_work: Isometry3::identity(),
+            clearance: 0.0,
+        })?;
+        info.collision = Some(armpath::report::kinematics::RobotCollision::new(&model));
+    }
     if !is_stdout(a.json.as_deref()) {
         output::print(&info.render_text())?;
     }
