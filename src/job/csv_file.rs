@@ -22,8 +22,9 @@
 //! Records are read one at a time into one reused buffer and line numbers are counted
 //! incrementally, so time grows linearly with the number of rows.
 
-use super::units::{self, PoseError, RawOrientation, Units};
-use super::yaml::{check_file, read_file, Loaded};
+use super::read::{check_file, read_file};
+use super::units::{RawOrientation, Units};
+use super::validate::{self, Loaded, Place};
 use super::{InputWarning, Motion, NamesBuilder, Waypoint};
 use crate::error::Error;
 use std::path::Path;
@@ -457,21 +458,13 @@ fn parse_row<'r>(
         "rpy" => RawOrientation::Rpy([o[0], o[1], o[2]]),
         _ => RawOrientation::Rotvec([o[0], o[1], o[2]]),
     };
-    let set_loc = format!("line {line}, columns {}", members.join(","));
-    let (work_T_tcp, renormalised) = units::pose(xyz, Some(&raw), units).map_err(|e| match e {
-        PoseError::Xyz(m) => Error::input(path, loc("x,y,z"), m),
-        PoseError::Orientation(m) => Error::input(path, set_loc.clone(), m),
-    })?;
-    if let Some(norm) = renormalised {
-        warnings.push(InputWarning {
-            location: format!("{file_name} line {line}, columns {}", members.join(",")),
-            message: format!(
-                "the quaternion has length {norm}; armpath normalised it: write a unit \
-                 quaternion to silence this warning"
-            ),
-            waypoint: Some(index),
-        });
-    }
+    let columns = members.join(",");
+    let place = Place::Row {
+        file_name,
+        line,
+        columns: &columns,
+    };
+    let work_T_tcp = validate::pose(xyz, Some(&raw), units, path, place, Some(index), warnings)?;
 
     let name = cols
         .name
@@ -482,15 +475,7 @@ fn parse_row<'r>(
         None => None,
         Some(i) => {
             let v = number(i, "speed")?;
-            units::check_positive(
-                v,
-                units.length_to_m(),
-                units::SPEED_RANGE_M_S,
-                "the TCP speed (or leave the cell empty to use the job's speed)",
-                &units.speed_name(),
-            )
-            .map_err(|m| Error::input(path, loc("speed"), m))?;
-            Some(units.length(v))
+            Some(validate::segment_speed(v, units, path, place)?)
         }
     };
 
@@ -837,7 +822,13 @@ mod tests {
             .find(|w| w.location == "seam.csv line 2, columns qw,qx,qy,qz")
             .unwrap_or_else(|| panic!("{:?}", job.warnings));
         assert_eq!(w.waypoint, Some(0));
-        assert!(w.message.contains("length 2"));
+        // source: common practice (|(2, 0, 0, 0)| = 2); the wording is the YAML reader's.
+        assert!(
+            w.message
+                .starts_with("the quaternion [2, 0, 0, 0] has length 2; armpath normalised it"),
+            "{}",
+            w.message
+        );
         // Comments and blank lines before the header and between rows keep line numbers right.
         assert_csv_err(
             "# made by hand\n   \nx,y,z,roll,pitch,yaw\n# first\n  \n\n0,0,0,0,0,0\r\n# two\r\n1,0,abc,0,0,0\n",
@@ -853,6 +844,32 @@ mod tests {
         assert_eq!(job.warnings.len(), 1);
         assert_eq!(job.warnings[0].waypoint, Some(1));
         assert_eq!(job.warnings[0].location, "seam.csv line 3");
+    }
+
+    #[test]
+    fn quaternion_warning_worded_as_in_yaml() {
+        // The same quaternion off unit length in a CSV row and in a YAML waypoint: one message,
+        // only the location differs (file line and columns, or the field path).
+        let (csv_job, _dir) = load_csv(
+            "x,y,z,qw,qx,qy,qz\n0,0,0,1,0,0,0.5\n1,0,0,1,0,0,0\n",
+            &overrides(),
+        );
+        let csv_job = csv_job.unwrap();
+        let dir = tempfile::tempdir().unwrap();
+        let p = dir.path().join("job.yaml");
+        let text = "robot: arm.urdf\nspeed: 20\nwaypoints:\n  - {xyz: [0, 0, 0], quat: [1, 0, 0, 0.5]}\n  - {xyz: [1, 0, 0], quat: [1, 0, 0, 0]}\n";
+        std::fs::write(&p, text).unwrap();
+        let yaml_job = load(&p, &Overrides::default()).unwrap();
+        let (c, y) = (&csv_job.warnings[0], &yaml_job.warnings[0]);
+        assert_eq!(c.location, "seam.csv line 2, columns qw,qx,qy,qz");
+        assert_eq!(y.location, "waypoints[0].quat");
+        assert_eq!((c.waypoint, y.waypoint), (Some(0), Some(0)));
+        assert_eq!(c.message, y.message);
+        // source: common practice, |(1, 0, 0, 0.5)| = sqrt(1.25)
+        let norm = 1.25f64.sqrt();
+        assert!(c.message.starts_with(&format!(
+            "the quaternion [1, 0, 0, 0.5] has length {norm}; "
+        )));
     }
 
     #[test]

@@ -2,23 +2,78 @@
 //! types. Built once from a path file (YAML or CSV) plus command-line overrides; nothing
 //! downstream re-validates or sees mm, degrees or file syntax.
 
+use crate::error::Error;
 use crate::ik::analytic::{Config, Elbow, Shoulder, Wrist};
 use nalgebra::Isometry3;
-use std::path::PathBuf;
+use std::path::{Path, PathBuf};
 use std::sync::Arc;
 
+// The readers form a chain without circles (each uses only the ones listed before it, and
+// the types here): names, units; read (file checks); schema (the YAML keys); yaml (parse into
+// the schema); validate (waypoint checks); csv_file (read, validate); overrides; assemble
+// (schema + overrides -> Job, uses csv_file for `waypoints: <file.csv>`).
+mod assemble;
 mod csv_file;
 mod names;
+mod overrides;
+mod read;
+pub mod schema;
+#[cfg(test)]
+mod tests_load;
 mod units;
+mod validate;
 mod yaml;
 
 pub use names::{NamesBuilder, WaypointNames};
+pub use overrides::Overrides;
 pub use units::{AngleUnit, LengthUnit, Units};
 pub use units::{
     ANGLE_STEP_RANGE_RAD, ANGULAR_SPEED_RANGE_RAD_S, MAX_ABS_ANGLE_RAD, MAX_ABS_LENGTH_M,
     MAX_ABS_QUAT_COMPONENT, MIN_JOINT_SPEED_SCALE, SPEED_RANGE_M_S, STEP_RANGE_M,
 };
-pub use yaml::{load, load_bytes, Overrides};
+
+/// Reads the job in `path`: a YAML path file, or a CSV waypoint file when the extension is
+/// `.csv` (any case), then applies `overrides` (see [`Overrides`] for units and precedence).
+///
+/// Errors name the file and the line (syntax, unknown keys, wrong types) or the field path
+/// (`waypoints[2].quat`, 0-based indices) and say what to change. Problems armpath can work
+/// around (quaternion off unit length, repeated waypoints, settings that have no effect)
+/// become [`InputWarning`]s in the job.
+pub fn load(path: &Path, overrides: &Overrides) -> Result<Job, Error> {
+    let what = if read::is_csv(path) {
+        "CSV waypoint file"
+    } else {
+        "path file"
+    };
+    read::check_file(path, what, "")?;
+    let bytes = read::read_file(path, what)?;
+    if !read::is_csv(path) {
+        return load_bytes(&bytes, path, overrides);
+    }
+    let override_units = overrides.units()?;
+    let mut warnings = Vec::new();
+    let loaded = csv_file::parse_waypoints(&bytes, path, &override_units, &mut warnings)?;
+    // The file's text is no longer needed: free it before the job is assembled, so that it
+    // does not add to the peak memory of a long path.
+    drop(bytes);
+    assemble::from_csv(path, overrides, override_units, loaded, warnings)
+}
+
+/// As [`load`], for file contents already in memory (the fuzz targets use it). `path` picks
+/// the format by its extension, names the file in messages, and is the base against which a
+/// `robot:` and a `waypoints: <file.csv>` are resolved; a CSV file named that way is still
+/// read from disk.
+pub fn load_bytes(bytes: &[u8], path: &Path, overrides: &Overrides) -> Result<Job, Error> {
+    let override_units = overrides.units()?;
+    if read::is_csv(path) {
+        let mut warnings = Vec::new();
+        let loaded = csv_file::parse_waypoints(bytes, path, &override_units, &mut warnings)?;
+        assemble::from_csv(path, overrides, override_units, loaded, warnings)
+    } else {
+        let spec = yaml::parse_yaml(bytes, path)?;
+        assemble::from_spec(path, spec, overrides, override_units)
+    }
+}
 
 /// How the TCP moves from the previous waypoint to this one.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
