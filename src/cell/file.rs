@@ -26,7 +26,7 @@ use super::stl::read_stl;
 use crate::error::{Error, Result};
 use crate::job::{AngleUnit, LengthUnit};
 use nalgebra::{Isometry3, Translation3, Vector3};
-use serde::Deserialize;
+use serde::{Deserialize, Serialize};
 use std::path::{Path, PathBuf};
 
 /// Largest cell file read (bytes): a cell of a few hundred bodies is a few tens of kB; the
@@ -75,6 +75,9 @@ pub struct BodySpec {
     pub anchor_T_body: Isometry3<f64>,
     /// Where the body was given (`bodies[3]`), for messages.
     pub field: String,
+    /// For a mesh: its file (as resolved) and the scale factors as written (STL unit to the
+    /// file's length unit), so that the body can be written back.
+    pub mesh: Option<(PathBuf, Vector3<f64>)>,
 }
 
 /// When an allowed contact applies.
@@ -106,42 +109,52 @@ pub struct CellFile {
 }
 
 /// The raw form of a body, as written in a cell file or a tool's `geometry` list.
-#[derive(Debug, Clone, Deserialize)]
+#[derive(Debug, Clone, Deserialize, Serialize)]
 #[serde(deny_unknown_fields)]
 pub struct RawBody {
+    #[serde(skip_serializing_if = "Option::is_none")]
     name: Option<String>,
+    #[serde(skip_serializing_if = "Option::is_none")]
     frame: Option<String>,
+    #[serde(skip_serializing_if = "Option::is_none")]
     #[serde(rename = "box")]
     cuboid: Option<[f64; 3]>,
+    #[serde(skip_serializing_if = "Option::is_none")]
     cylinder: Option<RawRound>,
+    #[serde(skip_serializing_if = "Option::is_none")]
     sphere: Option<RawSphere>,
+    #[serde(skip_serializing_if = "Option::is_none")]
     capsule: Option<RawRound>,
+    #[serde(skip_serializing_if = "Option::is_none")]
     mesh: Option<RawMesh>,
+    #[serde(skip_serializing_if = "Option::is_none")]
     xyz: Option<[f64; 3]>,
+    #[serde(skip_serializing_if = "Option::is_none")]
     rpy: Option<[f64; 3]>,
 }
 
-#[derive(Debug, Clone, Deserialize)]
+#[derive(Debug, Clone, Deserialize, Serialize)]
 #[serde(deny_unknown_fields)]
 struct RawRound {
     radius: f64,
     length: f64,
 }
 
-#[derive(Debug, Clone, Deserialize)]
+#[derive(Debug, Clone, Deserialize, Serialize)]
 #[serde(deny_unknown_fields)]
 struct RawSphere {
     radius: f64,
 }
 
-#[derive(Debug, Clone, Deserialize)]
+#[derive(Debug, Clone, Deserialize, Serialize)]
 #[serde(deny_unknown_fields)]
 struct RawMesh {
     file: String,
+    #[serde(skip_serializing_if = "Option::is_none")]
     scale: Option<RawScale>,
 }
 
-#[derive(Debug, Clone, Deserialize)]
+#[derive(Debug, Clone, Deserialize, Serialize)]
 #[serde(untagged)]
 enum RawScale {
     One(f64),
@@ -262,6 +275,7 @@ impl RawBody {
                 format!("body '{name}' must give exactly one shape ({shape_keys})"),
             ));
         }
+        let mut mesh_file = None;
         let primitive = if let Some(p) = given.pop() {
             p.validate(file, field)?;
             p
@@ -282,6 +296,7 @@ impl RawBody {
             }
             let mesh_path = folder.join(&mesh.file);
             let points = read_stl(&mesh_path, factor * m, file, &format!("{field}.mesh.file"))?;
+            mesh_file = Some((mesh_path, factor));
             Primitive::Hull(points)
         } else {
             return Err(err(
@@ -318,6 +333,7 @@ impl RawBody {
                 crate::rotation::from_rpy(rpy.x, rpy.y, rpy.z),
             ),
             field: field.to_string(),
+            mesh: mesh_file,
         })
     }
 }

@@ -20,6 +20,7 @@ fn body(name: &str, anchor: Option<Anchor>, primitive: Primitive, xyz: [f64; 3])
             UnitQuaternion::identity(),
         ),
         field: format!("test {name}"),
+        mesh: None,
     }
 }
 
@@ -215,38 +216,60 @@ fn free_motion_is_proven_clear_without_splitting() {
 }
 
 #[test]
-fn wrist_folds_onto_the_forearm_at_the_computed_angle() {
-    // arm6.urdf: the forearm tube (link4) ends 0.06 m before the wrist centre, radius 0.06;
-    // the flange puck (link6) is a 0.05 m ball whose centre lies 0.09 m past the wrist centre
-    // along the tool axis. Bending j5 by θ puts the ball centre at (0.09 cos θ, −0.09 sin θ)
-    // from the wrist centre in the forearm's x–z plane. Past a quarter turn it nears the
-    // tube's end rim at (−0.06, −0.06): contact when
-    // (0.09 c + 0.06)² + (0.09 s − 0.06)² = 0.05², i.e. cos θ − sin θ = (0.0025 − 0.0153) /
-    // 0.0108, so θ* = acos(that / √2) − π/4 ≈ 1.7791 rad (101.9°).
-    // source: common practice (distance from a point to a circle's rim)
+fn forearm_folds_onto_the_upper_arm_at_the_computed_angle() {
+    // arm6.urdf, j2 = 0 so the upper arm stands upright: its box spans x = ±0.07 m and
+    // z = 0.05 .. 0.55 m in link2's frame, axis 3 at z = 0.6. The forearm tube (link4, radius
+    // 0.06) starts 0.42 m along the forearm from axis 3 (0.30 to axis 4's origin + 0.12), on
+    // axis 4, 0.12 m below axis 3. Bending j3 by θ tips the forearm down: the tube's near-end
+    // rim point nearest the upper arm lies at x = 0.42 cos θ − (0.12 + 0.06) sin θ, so it meets
+    // the upper arm's front face x = 0.07 when 0.42 cos θ − 0.18 sin θ = 0.07:
+    // θ* = acos(0.07 / R) − atan2(0.18, 0.42), R = sqrt(0.42² + 0.18²) ≈ 1.0121 rad (58.0°),
+    // at a height inside the face (z ≈ 0.15 m). At θ = 45° the gap is 0.24·cos 45° − 0.07.
+    // source: common practice (rotation of a point about an axis; a cos θ − b sin θ = R cos(θ + φ))
     let robot = arm6();
     let model = build(&robot, &[], None);
-    let p = pair_index(&model, "link4", "link6");
-    let k = (0.0025 - 0.0153) / 0.0108;
-    let theta = (k / 2f64.sqrt()).acos() - std::f64::consts::FRAC_PI_4;
-    assert!((theta - 1.7791).abs() < 1e-4, "{theta}");
+    let p = pair_index(&model, "link2", "link4");
+    let r = (0.42f64 * 0.42 + 0.18 * 0.18).sqrt();
+    let theta = (0.07 / r).acos() - 0.18f64.atan2(0.42);
+    assert!((theta - 1.0121).abs() < 1e-4, "{theta}");
     let mut probe = CellProbe::new(&model);
     probe.exact_within = f64::INFINITY;
     let mut at = |t: f64| {
         probe.restart();
-        let hit = probe.sample(&model, &[0.0, 0.0, 0.0, 0.0, t, 0.0], false);
+        let hit = probe.sample(&model, &[0.0, 0.0, t, 0.0, 0.0, 0.0], false);
         (probe.distance(p), hit)
     };
-    // A quarter turn: ball centre at (0, −0.09): rim distance sqrt(0.06² + 0.03²) − 0.05.
-    let (d, _) = at(std::f64::consts::FRAC_PI_2);
+    let (d, _) = at(std::f64::consts::FRAC_PI_4);
     // GJK on a curved rim converges to within about 1e-6 m.
-    assert!((d - (0.0045f64.sqrt() - 0.05)).abs() < 1e-6, "{d}");
+    let gap = 0.24 * std::f64::consts::FRAC_1_SQRT_2 - 0.07;
+    assert!((d - gap).abs() < 1e-6, "{d} vs {gap}");
     let (before, _) = at(theta - 2e-3);
     assert!(before > 0.0, "{before}");
     let (after, hit) = at(theta + 2e-3);
     assert!(after < 0.0, "{after}");
     let hit = hit.expect("self-collision reported");
-    assert_eq!(model.pair_names(hit.pair), ("link4", "link6"));
+    assert_eq!(model.pair_names(hit.pair), ("link2", "link4"));
+}
+
+#[test]
+fn the_wrist_bends_through_its_range_without_touching_the_forearm() {
+    // The flange puck (0.04 m ball, centre 0.09 m past the wrist centre) and the forearm
+    // tube's end rim (0.09 m before the wrist centre, radius 0.06) would meet where
+    // (0.09 c + 0.09)² + (0.09 s − 0.06)² = 0.04², i.e. 0.0162 c − 0.0108 s = −0.0182, whose
+    // smallest solution, θ = π − atan2(0.0108, 0.0162) − acos(0.0182 / 0.019470) ≈ 2.193 rad
+    // (125.7°), lies beyond j5's ±125° range: the wrist may bend fully.
+    // source: common practice (distance from a point to a circle's rim)
+    let robot = arm6();
+    let model = build(&robot, &[], None);
+    let mut probe = CellProbe::new(&model);
+    let limit = robot.joints()[4].upper;
+    assert!(limit < 2.193);
+    for k in 0..=50 {
+        let t = -limit + 2.0 * limit * k as f64 / 50.0;
+        probe.restart();
+        let hit = probe.sample(&model, &[0.0, 0.0, 0.0, 0.0, t, 0.0], false);
+        assert!(hit.is_none_or(|h| h.distance > 0.0), "j5 = {t}: {hit:?}");
+    }
 }
 
 #[test]

@@ -473,6 +473,14 @@ fn build(
             WaypointsSpec::List(list) => (cx.list_waypoints(list)?, path.to_path_buf()),
         },
     };
+    let cell = match (&ov.cell, &spec.cell) {
+        (Some(p), _) => Some(crate::cell::load_cell(p)?),
+        (None, Some(name)) => {
+            let base = path.parent().unwrap_or(Path::new(""));
+            Some(crate::cell::load_cell(&base.join(name.trim()))?)
+        }
+        (None, None) => None,
+    };
     let mut warnings = cx.warnings;
     let (waypoints, names) = validate::check_waypoints(
         loaded,
@@ -499,5 +507,6 @@ fn build(
         waypoints: std::sync::Arc::new(waypoints),
         names,
         warnings,
+        cell: cell.map(std::sync::Arc::new),
     })
 }

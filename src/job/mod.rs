@@ -114,6 +114,8 @@ pub struct Tool {
     pub spin_range: (f64, f64),
     /// Largest allowed rate of spin change (rad/s), `None` = unlimited.
     pub spin_rate: Option<f64>,
+    /// The tool's bodies in the tip-link frame (SI), empty when not modelled.
+    pub geometry: Vec<crate::cell::BodySpec>,
 }
 
 /// Limits the assessment applies.
@@ -127,6 +129,8 @@ pub struct Limits {
     pub near_limit_margin_angle: f64,
     /// Margin to a prismatic joint's limit that raises `near_joint_limit` (m).
     pub near_limit_margin_length: f64,
+    /// Distance between bodies (m) below which `clearance` is raised.
+    pub clearance: f64,
 }
 
 /// Sampling density along the path.
@@ -288,6 +292,8 @@ pub struct Job {
     /// One name per waypoint (shared with the report).
     pub names: WaypointNames,
     pub warnings: Vec<InputWarning>,
+    /// The cell file, when the path file names one (`cell:`) or `--cell` is given.
+    pub cell: Option<std::sync::Arc<crate::cell::CellFile>>,
 }
 
 impl Job {
