@@ -84,6 +84,14 @@ impl CheckOutcome {
             .count()
     }
 
+    /// `collision` findings.
+    pub fn collisions(&self) -> usize {
+        self.findings
+            .iter()
+            .filter(|f| f.kind == Kind::Collision)
+            .count()
+    }
+
     /// Warning findings (input notes included).
     pub fn warnings(&self) -> usize {
         self.findings.len() - self.errors()

@@ -50,6 +50,60 @@ fn pose_fields(job: &Job, pose: &Isometry3<f64>) -> String {
     )
 }
 
+/// One tool body as a flow mapping in the file's units: name, shape, `xyz` and `rpy` (the
+/// body's rotation as URDF roll, pitch, yaw). A mesh keeps its scale and gets an absolute
+/// file name, like `robot:`.
+fn body_fields(job: &Job, b: &crate::cell::BodySpec) -> String {
+    use crate::cell::Primitive;
+    let l = job.units.length_to_m();
+    let a = job.units.angle_to_rad();
+    let n = |v: f64| num(v / l, 9);
+    let shape = match (&b.primitive, &b.mesh) {
+        (_, Some((file, scale))) => {
+            let file = std::fs::canonicalize(file).unwrap_or_else(|_| file.clone());
+            format!(
+                "mesh: {{file: {}, scale: [{}, {}, {}]}}",
+                quoted(&file.display().to_string()),
+                num(scale.x, 12),
+                num(scale.y, 12),
+                num(scale.z, 12)
+            )
+        }
+        (Primitive::Box { size }, None) => {
+            format!("box: [{}, {}, {}]", n(size.x), n(size.y), n(size.z))
+        }
+        (Primitive::Cylinder { radius, length }, None) => {
+            format!(
+                "cylinder: {{radius: {}, length: {}}}",
+                n(*radius),
+                n(*length)
+            )
+        }
+        (Primitive::Capsule { radius, length }, None) => {
+            format!(
+                "capsule: {{radius: {}, length: {}}}",
+                n(*radius),
+                n(*length)
+            )
+        }
+        (Primitive::Sphere { radius }, None) => format!("sphere: {{radius: {}}}", n(*radius)),
+        // A hull always comes from a mesh file, handled above.
+        (Primitive::Hull(_), None) => String::new(),
+    };
+    let t = b.anchor_T_body.translation.vector;
+    let (r, p, y) = b.anchor_T_body.rotation.euler_angles();
+    format!(
+        "{{name: {}, {shape}, xyz: [{}, {}, {}], rpy: [{}, {}, {}]}}",
+        quoted(&b.name),
+        n(t.x),
+        n(t.y),
+        n(t.z),
+        num(r / a, 9),
+        num(p / a, 9),
+        num(y / a, 9)
+    )
+}
+
 /// True for the characters YAML reads as a line break or that a double-quoted scalar may not
 /// hold raw: C0 and C1 controls, DEL, the Unicode line and paragraph separators and the byte
 /// order mark.
@@ -137,8 +191,16 @@ pub fn path_file(job: &Job, header: &[String]) -> String {
             let _ = write!(tool_line, ", spin_rate: {}", num(r / a, 9));
         }
     }
+    if !tool.geometry.is_empty() {
+        let bodies: Vec<String> = tool.geometry.iter().map(|b| body_fields(job, b)).collect();
+        let _ = write!(tool_line, ", geometry: [{}]", bodies.join(", "));
+    }
     tool_line.push('}');
     let _ = writeln!(out, "{tool_line}");
+    if let Some(cell) = &job.cell {
+        let path = std::fs::canonicalize(&cell.path).unwrap_or_else(|_| cell.path.clone());
+        let _ = writeln!(out, "cell: {}", quoted(&path.display().to_string()));
+    }
     let _ = writeln!(
         out,
         "work_frame: {{{}}}",
@@ -170,9 +232,15 @@ pub fn path_file(job: &Job, header: &[String]) -> String {
         let _ = writeln!(out, "orientation_speed: {}", num(w / a, 9));
     }
     let lim = &job.limits;
+    // The clearance matters only with a cell model; other files stay as they were.
+    let clearance = if job.cell.is_some() || !tool.geometry.is_empty() {
+        format!(", clearance: {}", num(lim.clearance / l, 9))
+    } else {
+        String::new()
+    };
     let _ = writeln!(
         out,
-        "limits: {{tool_angular_speed: {}, joint_speed_scale: {}, near_limit_margin: {{angle: {}, length: {}}}}}",
+        "limits: {{tool_angular_speed: {}, joint_speed_scale: {}, near_limit_margin: {{angle: {}, length: {}}}{clearance}}}",
         num(lim.tool_angular_speed / a, 9),
         num(lim.joint_speed_scale, 12),
         num(lim.near_limit_margin_angle / a, 9),

@@ -38,6 +38,16 @@ pub const CAUTIONS_WITH_CELL: [&str; 5] = [
     "Results are only as good as the robot description, tool offset and geometry, work frame and cell file given to armpath: check them against the cell.",
 ];
 
+/// The cautions of a report on `job`: [`CAUTIONS_WITH_CELL`] when its check measures a cell
+/// model (the job has a cell file or tool geometry), else [`CAUTIONS`].
+pub fn cautions_for(job: &Job) -> Vec<&'static str> {
+    if job.cell.is_some() || !job.tool.geometry.is_empty() {
+        CAUTIONS_WITH_CELL.to_vec()
+    } else {
+        CAUTIONS.to_vec()
+    }
+}
+
 /// What the collision and clearance check covered, display units (mm).
 #[derive(Debug, Clone, Serialize)]
 pub struct CellReport {
