@@ -146,7 +146,7 @@ fn the_amended_file_keeps_the_cell_tool_geometry_and_clearance() {
     let back = armpath::job::load(&out, &Default::default()).unwrap();
     assert_eq!(
         std::fs::canonicalize(&back.cell.as_ref().unwrap().path).unwrap(),
-        std::fs::canonicalize(repo("paths/rib_cell.yaml")).unwrap()
+        std::fs::canonicalize(repo("paths/cells/rib_cell.yaml")).unwrap()
     );
     assert!((back.limits.clearance - job.limits.clearance).abs() < 1e-12);
     assert_eq!(back.tool.geometry.len(), 2);

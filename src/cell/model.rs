@@ -70,8 +70,6 @@ pub struct Pair {
     pub b: usize,
     /// True when the pair may touch on `process: true` segments (an allowed contact).
     pub allowed_in_process: bool,
-    /// Sum of both bodies' levers: their relative motion is at most `lever · |Δq|`.
-    pub(crate) lever: [f64; MAX_DOF],
 }
 
 /// Everything that can collide, and which pairs are tested. See the module doc.
@@ -281,10 +279,6 @@ impl CellModel {
                         continue;
                     }
                 }
-                let mut lever = ba.lever;
-                for (l, o) in lever.iter_mut().zip(bb.lever) {
-                    *l += o;
-                }
                 if robot_pair {
                     self_pairs.push(self.pairs.len());
                 }
@@ -292,7 +286,6 @@ impl CellModel {
                     a,
                     b,
                     allowed_in_process: in_process.contains(&(a, b)),
-                    lever,
                 });
             }
         }
@@ -311,7 +304,10 @@ impl CellModel {
         let mut nearest = vec![f64::INFINITY; self.pairs.len()];
         let mut farthest = vec![f64::NEG_INFINITY; self.pairs.len()];
         let mut probe = CellProbe::new(self);
-        probe.exact_within = f64::INFINITY;
+        // Beyond the margin a pair counts as apart whatever its exact distance, and an
+        // overlap needs no depth here.
+        probe.exact_within = NEVER_MEET_MARGIN_M;
+        probe.depth_wanted = false;
         let mut rng = crate::rng::SplitMix64::new(NEVER_MEET_SEED);
         let mut q = [0.0; MAX_DOF];
         for _ in 0..NEVER_MEET_SAMPLES {

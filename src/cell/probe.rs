@@ -15,6 +15,17 @@
 //! every pair is proven clear, a contact is found, or the pair's bound falls below
 //! [`CONTACT_RESOLUTION_M`] (then no penetration deeper than half of it can be hidden in the
 //! interval). A pair already in contact at either end is reported there and not refined.
+//!
+//! # Measuring only what can have changed
+//!
+//! The same bound spares most queries: a pair measured at `q0` with distance `d0` is at least
+//! `d0 − Σ λ·|Δq|` apart at any later configuration, the sum running over the steps between
+//! the configurations measured since (by the triangle inequality it is at least `λ·|q − q0|`,
+//! so the bound holds in whatever order configurations are measured). While that lower bound
+//! stays above the clearance limit plus [`EXACT_MARGIN_M`], the pair can raise no finding and
+//! the bound itself serves the between-samples rule, so the pair is measured again only when
+//! its bound falls below that. Each step costs one product per moving body and one addition
+//! per pair.
 
 use super::model::CellModel;
 use crate::robot::MAX_DOF;
@@ -31,11 +42,13 @@ pub const CONTACT_RESOLUTION_M: f64 = 2e-4;
 /// bound of 200 m, far beyond any sample step; the cap only guards against a runaway.
 pub const MAX_SPLIT_DEPTH: usize = 20;
 
-/// Pairs whose bounding spheres are more than this (m) beyond the clearance limit apart get
-/// the sphere distance (a lower bound) instead of the exact one: 50 mm exceeds a sample
-/// step's motion bound on the demo arm many times, so the between-samples rule rarely has to
-/// split because of the looser value, and the exact query is saved for pairs that matter.
-pub const EXACT_MARGIN_M: f64 = 0.05;
+/// Pairs provably more than this (m) beyond the clearance limit apart, by their bounding
+/// spheres or by the motion bound since their last measurement, are not measured exactly:
+/// the lower bound can raise no finding. 5 mm keeps the bounds loose enough to be renewed
+/// rarely, while the between-samples rule, which needs the two ends' distances to exceed a
+/// sample's motion bound, still passes any sample step moving a body less than twice the
+/// clearance limit without splitting.
+pub const EXACT_MARGIN_M: f64 = 0.005;
 
 /// Search distance handed to GJK: farther than any two bodies of a cell can be (1 km).
 const GJK_MAX_DIST: f64 = 1e3;
@@ -63,6 +76,18 @@ pub struct CellProbe {
     previous: Option<[f64; MAX_DOF]>,
     simplex: VoronoiSimplex,
     epa: EPA,
+    /// Per pair: the distance (or lower bound) at its last measurement (NaN until measured)
+    /// and the motion bound spent since.
+    anchor_d: Vec<f64>,
+    spent: Vec<f64>,
+    /// Per body: the motion bound of the last step (m), and of the interval being refined.
+    step: Vec<f64>,
+    motion: Vec<f64>,
+    /// The last configuration measured, if any.
+    last_q: Option<[f64; MAX_DOF]>,
+    /// False where only the sign of an overlap matters (the never-meet filter): overlapping
+    /// pairs then give 0 without a penetration depth.
+    pub(crate) depth_wanted: bool,
     /// See [`EXACT_MARGIN_M`]; widened to ∞ when exact distances are needed everywhere.
     pub(crate) exact_within: f64,
     evaluations: u64,
@@ -90,6 +115,12 @@ impl CellProbe {
             previous: None,
             simplex: VoronoiSimplex::new(),
             epa: EPA::new(),
+            anchor_d: vec![f64::NAN; npairs],
+            spent: vec![0.0; npairs],
+            step: vec![0.0; model.bodies.len()],
+            motion: vec![0.0; model.bodies.len()],
+            last_q: None,
+            depth_wanted: true,
             exact_within: model.clearance + EXACT_MARGIN_M,
             evaluations: 0,
         };
@@ -179,9 +210,14 @@ impl CellProbe {
         worst: &mut Option<Proximity>,
     ) {
         let dof = model.chain.dof();
-        let mut dq = [0.0; MAX_DOF];
-        for j in 0..dof {
-            dq[j] = (qb[j] - qa[j]).abs();
+        // Each body's motion bound over the interval, then each pair's as the sum of its two.
+        for (m, body) in self.motion.iter_mut().zip(&model.bodies) {
+            *m = 0.0;
+            if body.frame.is_some() {
+                for j in 0..dof {
+                    *m += body.lever[j] * (qb[j] - qa[j]).abs();
+                }
+            }
         }
         let n = self.npairs;
         let open = model.pairs.iter().enumerate().any(|(p, pair)| {
@@ -189,11 +225,7 @@ impl CellProbe {
             if da <= 0.0 || db <= 0.0 || (process && pair.allowed_in_process) {
                 return false;
             }
-            let bound: f64 = pair.lever[..dof]
-                .iter()
-                .zip(&dq[..dof])
-                .map(|(l, d)| l * d)
-                .sum();
+            let bound = self.motion[pair.a] + self.motion[pair.b];
             bound >= da + db && bound > CONTACT_RESOLUTION_M
         });
         if !open || depth_row >= 2 + MAX_SPLIT_DEPTH {
@@ -230,19 +262,51 @@ impl CellProbe {
                 self.centres[i] = frames[f] * p.frame_centre;
             }
         }
+        let dof = q.len();
+        if let Some(last) = self.last_q {
+            for (b, body) in model.bodies.iter().enumerate() {
+                let mut m = 0.0;
+                if body.frame.is_some() {
+                    for j in 0..dof {
+                        m += body.lever[j] * (q[j] - last[j]).abs();
+                    }
+                }
+                self.step[b] = m;
+            }
+            for (spent, pair) in self.spent.iter_mut().zip(&model.pairs) {
+                *spent += self.step[pair.a] + self.step[pair.b];
+            }
+        }
+        let mut now = [0.0; MAX_DOF];
+        now[..dof].copy_from_slice(q);
+        self.last_q = Some(now);
         let n = self.npairs;
         match only {
             Some(list) => {
                 for &p in list {
-                    self.rows[row * n + p] = self.pair_distance(model, p);
+                    self.rows[row * n + p] = self.bounded_distance(model, p);
                 }
             }
             None => {
                 for p in 0..n {
-                    self.rows[row * n + p] = self.pair_distance(model, p);
+                    self.rows[row * n + p] = self.bounded_distance(model, p);
                 }
             }
         }
+    }
+
+    /// The distance of pair `p` at the configuration just placed, or a lower bound on it
+    /// from its last measurement when that bound is far enough (see the module doc).
+    #[inline]
+    fn bounded_distance(&mut self, model: &CellModel, p: usize) -> f64 {
+        let bound = self.anchor_d[p] - self.spent[p];
+        if bound > self.exact_within {
+            return bound;
+        }
+        let d = self.pair_distance(model, p);
+        self.anchor_d[p] = d;
+        self.spent[p] = 0.0;
+        d
     }
 
     /// Smallest distance between the solids of a pair's two bodies (a lower bound for far
@@ -277,6 +341,7 @@ impl CellProbe {
             .reset(CSOPoint::from_shapes(&pos12, g1, g2, &dir));
         match gjk::closest_points(&pos12, g1, g2, GJK_MAX_DIST, true, &mut self.simplex) {
             GJKResult::ClosestPoints(p1, p2, _) => (p2 - p1).norm(),
+            GJKResult::Intersection if !self.depth_wanted => 0.0,
             GJKResult::Intersection => match self.epa.closest_points(&pos12, g1, g2, &self.simplex)
             {
                 Some((p1, p2, n)) => (p2 - p1).dot(&n).min(0.0),

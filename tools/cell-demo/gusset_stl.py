@@ -1,6 +1,7 @@
 #!/usr/bin/env python3
-"""Writes paths/rib_gusset.stl: the invented triangular gusset bracing the rib of the demo
-cell (paths/rib_cell.yaml), as a closed binary STL in millimetres, in the gusset's own frame.
+"""Writes paths/cells/rib_gusset.stl: the invented triangular gusset bracing the rib of the
+demo cell (paths/cells/rib_cell.yaml), as a closed binary STL in millimetres, in the
+gusset's own frame.
 
 The gusset is a right-triangle plate: legs of 50 mm along -x (on the plate) and +z (up the
 rib), 10 mm thick along y. Run from the repository root:
@@ -47,9 +48,9 @@ def main():
         for p in (a, b, c):
             out += struct.pack("<3f", *p)
         out += b"\0\0"
-    with open("paths/rib_gusset.stl", "wb") as f:
+    with open("paths/cells/rib_gusset.stl", "wb") as f:
         f.write(out)
-    print(f"paths/rib_gusset.stl: {len(tris)} triangles")
+    print(f"paths/cells/rib_gusset.stl: {len(tris)} triangles")
 
 
 if __name__ == "__main__":
