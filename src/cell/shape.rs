@@ -4,12 +4,15 @@
 //!
 //! Every solid is convex: boxes, cylinders, spheres, capsules, and the convex hull of an STL
 //! mesh's vertices. A hull holds the mesh whatever its shape (conservative: a concave part is
-//! modelled as larger than it is; split it into several bodies to follow a concavity).
+//! modelled as larger than it is; split it into several bodies to follow a concavity). The
+//! hull is never built: its support point in a direction is the vertex farthest along it,
+//! which is exact and cannot fail on degenerate or hostile meshes; the cost is linear in the
+//! vertex count, so a coarse collision mesh keeps the check fast.
 
 use super::stl::MeshPoints;
 use crate::error::{Error, Result};
 use nalgebra::{Isometry3, Point3, UnitQuaternion, Vector3};
-use parry3d_f64::shape::{Ball, Capsule, ConvexPolyhedron, Cuboid, Cylinder, SupportMap};
+use parry3d_f64::shape::{Ball, Capsule, Cuboid, Cylinder, SupportMap};
 use std::path::Path;
 
 /// Smallest size (m) of any primitive dimension: below a micrometre a body is a typo (a size
@@ -96,7 +99,61 @@ enum SolidKind {
     Cuboid(Cuboid),
     Cylinder(Cylinder),
     Capsule(Capsule),
-    Hull(ConvexPolyhedron),
+    Hull(VertexHull),
+}
+
+/// The convex hull of a vertex cloud as a support map (see the module doc).
+#[derive(Debug, Clone)]
+struct VertexHull {
+    points: Vec<Point3<f64>>,
+}
+
+impl SupportMap for VertexHull {
+    fn local_support_point(&self, dir: &Vector3<f64>) -> Point3<f64> {
+        let mut best = self.points[0];
+        let mut reach = best.coords.dot(dir);
+        for p in &self.points[1..] {
+            let r = p.coords.dot(dir);
+            if r > reach {
+                reach = r;
+                best = *p;
+            }
+        }
+        best
+    }
+}
+
+/// A mesh whose vertices lie within this fraction of its size of one plane encloses no
+/// volume: a flat part exported as a single surface, not a solid.
+const FLAT_FRACTION: f64 = 1e-6;
+
+/// True when the points span a volume: a fourth point stands off the plane of three spread
+/// ones by more than [`FLAT_FRACTION`] of the cloud's size.
+fn spans_volume(points: &[Point3<f64>]) -> bool {
+    let Some(&p0) = points.first() else {
+        return false;
+    };
+    let farthest = |score: &dyn Fn(&Point3<f64>) -> f64| {
+        points
+            .iter()
+            .copied()
+            .map(|p| (score(&p), p))
+            .fold(
+                (f64::NEG_INFINITY, p0),
+                |a, b| if b.0 > a.0 { b } else { a },
+            )
+    };
+    let (size, p1) = farthest(&|p| (p - p0).norm());
+    if size.is_nan() || size <= 0.0 {
+        return false;
+    }
+    let axis = (p1 - p0) / size;
+    let (_, p2) = farthest(&|p| (p - p0).cross(&axis).norm());
+    let Some(normal) = (p1 - p0).cross(&(p2 - p0)).try_normalize(0.0) else {
+        return false;
+    };
+    let (off, _) = farthest(&|p| (p - p0).dot(&normal).abs());
+    off > FLAT_FRACTION * size
 }
 
 impl Solid {
@@ -134,7 +191,12 @@ impl Solid {
                 Vector3::zeros(),
             ),
             Primitive::Hull(mesh) => {
-                let hull = ConvexPolyhedron::from_convex_hull(mesh.points())?;
+                if !spans_volume(mesh.points()) {
+                    return None;
+                }
+                let hull = VertexHull {
+                    points: mesh.points().to_vec(),
+                };
                 let (centre, radius) = mesh.bounding_sphere();
                 (SolidKind::Hull(hull), Isometry3::identity(), radius, centre)
             }
@@ -210,6 +272,42 @@ mod tests {
         .unwrap();
         assert!((s.radius - 0.3).abs() < 1e-12);
         assert!((s.reach_from_origin() - 1.3).abs() < 1e-12);
+    }
+
+    #[test]
+    fn a_mesh_is_its_vertex_hull_and_a_flat_one_is_refused() {
+        // The support point of a box's corners toward (1, 1, 1) is the far corner; a square
+        // of two triangles spans no volume.
+        // source: common practice (support function of a convex polytope)
+        use super::super::stl::{box_triangles, MeshPoints};
+        let corners: Vec<Point3<f64>> =
+            box_triangles(Vector3::zeros(), Vector3::new(0.1, 0.2, 0.3))
+                .into_iter()
+                .flatten()
+                .collect();
+        let s = Solid::new(
+            &Primitive::Hull(MeshPoints::new(corners)),
+            Isometry3::identity(),
+        )
+        .unwrap();
+        let far = s
+            .support()
+            .local_support_point(&Vector3::new(1.0, 1.0, 1.0));
+        assert!(
+            (far.coords - Vector3::new(0.1, 0.2, 0.3)).norm() < 1e-15,
+            "{far}"
+        );
+        let flat = vec![
+            Point3::new(0.0, 0.0, 0.0),
+            Point3::new(1.0, 0.0, 0.0),
+            Point3::new(1.0, 1.0, 0.0),
+            Point3::new(0.0, 1.0, 0.0),
+        ];
+        assert!(Solid::new(
+            &Primitive::Hull(MeshPoints::new(flat)),
+            Isometry3::identity()
+        )
+        .is_none());
     }
 
     #[test]
