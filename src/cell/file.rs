@@ -488,6 +488,8 @@ fn parse<T: serde::de::DeserializeOwned>(text: &str, path: &Path) -> Result<T> {
             "remove the key or correct its spelling"
         } else if message.contains("missing field") {
             "add the key"
+        } else if message.contains("unknown variant") {
+            "use one of the listed values"
         } else {
             "write the value in the form the cell file format expects (see README)"
         };

@@ -420,6 +420,20 @@ mod tests {
         }
     }
 
+    #[test]
+    fn a_placement_that_collides_ranks_below_other_failures() {
+        // One collision (one error) against three joint-limit errors: the colliding
+        // placement is worse, whatever its error count.
+        // source: common practice (a placement where the tool hits the part is no fix)
+        let mut hits = placement(0.0, 1);
+        hits.collisions = 1;
+        let stretched = placement(50.0, 3);
+        assert!(stretched.better_than(&hits));
+        assert!(!hits.better_than(&stretched));
+        // Without collisions the error count decides, as before.
+        assert!(placement(50.0, 1).better_than(&placement(0.0, 3)));
+    }
+
     fn report(best: Vec<Placement>) -> PlaceReport {
         PlaceReport {
             file: "cell.yaml".into(),
