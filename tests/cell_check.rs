@@ -159,3 +159,39 @@ fn the_amended_file_keeps_the_cell_tool_geometry_and_clearance() {
         assert_eq!(format!("{:?}", a.primitive), format!("{:?}", b.primitive));
     }
 }
+
+#[test]
+fn robot_still_describes_an_arm_whose_collision_mesh_cannot_be_read() {
+    // A collision mesh named by a ROS package cannot be resolved; `armpath robot` still
+    // gives the kinematic facts (exit 0) and says why the geometry cannot be used, while a
+    // check with tool geometry stops on it (exit 2).
+    // source: common practice (an unusable optional part does not hide the rest)
+    let dir = tempfile::tempdir().unwrap();
+    let urdf = dir.path().join("arm.urdf");
+    std::fs::write(
+        &urdf,
+        arm6_text_with(
+            "<sphere radius=\"0.05\"/>",
+            "<mesh filename=\"package://arm/wrist.stl\"/>",
+        ),
+    )
+    .unwrap();
+    let (code, info) = json_of(&["robot", urdf.to_str().unwrap(), "--json", "-"]);
+    assert_eq!(code, 0);
+    assert_eq!(info["dof"], 6);
+    let note = info["collision"]["notes"][0].as_str().unwrap();
+    assert!(
+        note.contains("link 'link5' <collision> 1") && note.contains("ROS package"),
+        "{note}"
+    );
+    let path = dir.path().join("p.yaml");
+    std::fs::write(
+        &path,
+        "robot: arm.urdf\nspeed: 20\ntool: {xyz: [0, 0, 100], geometry: [{sphere: {radius: 5}}]}\n\
+         waypoints:\n  - {xyz: [900, 0, 500], rpy: [180, 0, 0]}\n  - {xyz: [900, 100, 500], rpy: [180, 0, 0]}\n",
+    )
+    .unwrap();
+    let out = armpath().arg("check").arg(&path).output().unwrap();
+    assert_eq!(out.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&out.stderr).contains("ROS package"));
+}

@@ -142,10 +142,17 @@ impl RobotInfo {
                 .iter()
                 .map(|[a, b]| format!("{} ⟷ {}", v(a), v(b)))
                 .collect();
+            let shapes = if c.links.is_empty() {
+                "no usable shapes".to_string()
+            } else {
+                format!(
+                    "shapes on {}",
+                    c.links.iter().map(|l| v(l)).collect::<Vec<_>>().join(", ")
+                )
+            };
             let _ = writeln!(
                 o,
-                "  collide  shapes on {}; self-collision pairs tested: {}",
-                c.links.iter().map(|l| v(l)).collect::<Vec<_>>().join(", "),
+                "  collide  {shapes}; self-collision pairs tested: {}",
                 if pairs.is_empty() {
                     "none".to_string()
                 } else {
