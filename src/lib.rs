@@ -26,6 +26,7 @@
 #![allow(non_snake_case)]
 
 pub mod assess;
+pub mod cell;
 pub mod check;
 pub mod configs;
 pub mod error;
@@ -40,6 +41,7 @@ pub mod rng;
 pub mod robot;
 pub mod rotation;
 pub mod solve;
+pub mod units;
 pub mod units_display;
 
 pub use error::{Error, Result};

@@ -234,6 +234,15 @@ pub fn job_inputs(job: &crate::job::Job) -> Vec<(&'static str, &Path)> {
         inputs.push(("the CSV waypoint file", job.waypoints_file.as_path()));
     }
     inputs.push(("the URDF", job.robot.as_path()));
+    if let Some(cell) = &job.cell {
+        inputs.push(("the cell file", cell.path.as_path()));
+    }
+    let cell_bodies = job.cell.iter().flat_map(|c| c.bodies.iter());
+    for b in job.tool.geometry.iter().chain(cell_bodies) {
+        if let Some((mesh, _)) = &b.mesh {
+            inputs.push(("a mesh file", mesh.as_path()));
+        }
+    }
     inputs
 }
 

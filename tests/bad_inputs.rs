@@ -90,7 +90,7 @@ const LIMIT: &str =
     "<axis xyz=\"0 0 1\"/><limit lower=\"-1\" upper=\"1\" effort=\"1\" velocity=\"1\"/>";
 
 /// Size of the catalogue when its last case was added; it may only grow.
-const FLOOR: usize = 123;
+const FLOOR: usize = 142;
 
 /// A valid path file head: robot and speed (2 lines), then whatever follows.
 const HEAD: &str = "robot: arm6.urdf\nspeed: 20\n";
@@ -438,7 +438,42 @@ fn cases() -> Vec<Case> {
             &["fix", "w.yaml", "--out", "o.yaml", "--units", "m,rad", "--start-joints", "0,0,0,0,0,0", "--start-joints-as-seed"],
             &["--start-joints:", "other units than the path file", "--units mm,deg"],
         ),
+        // ---------------------------------------------------------------- cell and tool geometry
+        case("cell: file missing", vec![yaml(&format!("{HEAD}cell: nothere.yaml\n{TWO}"))], &["check", "path.yaml"], &["nothere.yaml: file:", "cannot be opened", "relative to the path file's folder"]),
+        case("cell: --cell names a folder", vec![good(), ("sub", Entry::Folder)], &["check", "good.yaml", "--cell", "sub"], &["sub: file:", "not a regular file", ".yaml cell file"]),
+        case("cell: body without frame", vec![cell_path(), text("c.yaml", "bodies:\n  - {name: block, box: [100, 100, 100]}\n")], &["check", "path.yaml"], &["c.yaml: bodies[0]:", "no `frame`", "frame: base"]),
+        case("cell: unknown shape key", vec![cell_path(), text("c.yaml", "bodies:\n  - {name: block, frame: base, cone: [1, 2]}\n")], &["check", "path.yaml"], &["c.yaml: line 2 column", "unknown field `cone`", "remove the key"]),
+        case("cell: negative radius", vec![cell_path(), text("c.yaml", "bodies:\n  - {name: ball, frame: work, sphere: {radius: -5}}\n")], &["check", "path.yaml"], &["c.yaml: bodies[0]:", "radius is -0.005 m", "positive size"]),
+        case("cell: two shapes in one body", vec![cell_path(), text("c.yaml", "bodies:\n  - {name: b, frame: base, sphere: {radius: 5}, box: [1, 1, 1]}\n")], &["check", "path.yaml"], &["c.yaml: bodies[0]:", "exactly one shape"]),
+        case("cell: allowed contact names no body", vec![cell_path(), text("c.yaml", "bodies:\n  - {name: b, frame: base, sphere: {radius: 5}, xyz: [2000, 0, 0]}\nallowed_contacts:\n  - {between: [ghost, b], when: always}\n")], &["check", "path.yaml"], &["c.yaml: allowed_contacts[0]:", "names 'ghost'", "use one of"]),
+        case("cell: body named like a robot link", vec![cell_path(), text("c.yaml", "bodies:\n  - {name: link2, frame: base, sphere: {radius: 5}, xyz: [2000, 0, 0]}\n")], &["check", "path.yaml"], &["c.yaml: bodies[0].name:", "already the name of a robot link"]),
+        case("cell: never_meet with a cell body", vec![cell_path(), text("c.yaml", "bodies:\n  - {name: b, frame: base, sphere: {radius: 5}, xyz: [2000, 0, 0]}\nnever_meet:\n  - [link1, b]\n")], &["check", "path.yaml"], &["c.yaml: never_meet[0]:", "use allowed_contacts"]),
+        case("cell: mesh file is not STL", vec![cell_path(), text("c.yaml", "bodies:\n  - {name: m, frame: work, mesh: {file: m.stl}}\n"), text("m.stl", "hello")], &["check", "path.yaml"], &["c.yaml: bodies[0].mesh.file:", "m.stl", "STL"]),
+        case("cell: mesh encloses no volume", vec![cell_path(), text("c.yaml", "bodies:\n  - {name: m, frame: work, mesh: {file: m.stl}}\n"), text("m.stl", "solid t\nfacet normal 0 0 1\nouter loop\nvertex 0 0 0\nvertex 1 0 0\nvertex 0 1 0\nendloop\nendfacet\nendsolid t\n")], &["check", "path.yaml"], &["c.yaml: bodies[0].mesh.file:", "encloses no volume"]),
+        case("cell: flat mesh of four triangles", vec![cell_path(), text("c.yaml", "bodies:\n  - {name: sheet, frame: work, mesh: {file: m.stl}}\n"), text("m.stl", "solid t\nfacet normal 0 0 1\nouter loop\nvertex 0 0 0\nvertex 10 0 0\nvertex 0 10 0\nendloop\nendfacet\nfacet normal 0 0 1\nouter loop\nvertex 10 0 0\nvertex 10 10 0\nvertex 0 10 0\nendloop\nendfacet\nfacet normal 0 0 1\nouter loop\nvertex 0 0 0\nvertex 10 0 0\nvertex 0 10 0\nendloop\nendfacet\nfacet normal 0 0 1\nouter loop\nvertex 10 0 0\nvertex 10 10 0\nvertex 0 10 0\nendloop\nendfacet\nendsolid t\n")], &["check", "path.yaml"], &["c.yaml: bodies[0].mesh:", "'sheet' encloses no volume", "closed mesh"]),
+        case("cell: allowed contact with an unknown `when`", vec![cell_path(), text("c.yaml", "bodies:\n  - {name: b, frame: base, sphere: {radius: 5}, xyz: [2000, 0, 0]}\nallowed_contacts:\n  - {between: [link6, b], when: sometimes}\n")], &["check", "path.yaml"], &["c.yaml: line 4 column", "unknown variant `sometimes`", "use one of the listed values"]),
+        case("cell: brackets nested too deep", vec![cell_path(), text("c.yaml", format!("bodies: {}{}\n", "[".repeat(40), "]".repeat(40)))], &["check", "path.yaml"], &["c.yaml: line 1:", "nest more than"]),
+        case("tool: geometry with a frame", vec![yaml(&format!("{HEAD}tool: {{xyz: [0, 0, 100], geometry: [{{frame: work, sphere: {{radius: 5}}}}]}}\n{TWO}"))], &["check", "path.yaml"], &["path.yaml: tool.geometry[0].frame:", "rides on the tip link"]),
+        case("tool: geometry with a zero length", vec![yaml(&format!("{HEAD}tool: {{xyz: [0, 0, 100], geometry: [{{name: neck, cylinder: {{radius: 10, length: 0}}}}]}}\n{TWO}"))], &["check", "path.yaml"], &["path.yaml: tool.geometry[0]:", "length is 0 m"]),
+        case("limits: negative clearance", vec![yaml(&format!("{HEAD}limits: {{clearance: -1}}\n{TWO}"))], &["check", "path.yaml"], &["path.yaml: limits.clearance:", "the clearance"]),
+        case(
+            "urdf: collision mesh named by a ROS package",
+            vec![text("arm6.urdf", arm6_with("<sphere radius=\"0.05\"/>", "<mesh filename=\"package://arm/wrist.stl\"/>")), cell_path(), text("c.yaml", "bodies:\n  - {name: b, frame: base, sphere: {radius: 5}, xyz: [2000, 0, 0]}\n")],
+            &["check", "path.yaml"],
+            &["arm6.urdf: link 'link5' <collision> 1:", "ROS package", "relative to the URDF's folder"],
+        ),
+        case(
+            "urdf: collision box of zero size",
+            vec![text("arm6.urdf", arm6_with("<box size=\"0.14 0.16 0.5\"/>", "<box size=\"0.14 0 0.5\"/>")), ("p.yaml", Entry::Bytes(format!("{HEAD}tool: {{xyz: [0, 0, 100], geometry: [{{sphere: {{radius: 5}}}}]}}\n{TWO}").into_bytes()))],
+            &["check", "p.yaml"],
+            &["arm6.urdf: link 'link2' <collision> 1:", "size y is 0 m"],
+        ),
     ]
+}
+
+/// A valid path file naming the cell file `c.yaml`.
+fn cell_path() -> (&'static str, Entry) {
+    yaml(&format!("{HEAD}cell: c.yaml\n{TWO}"))
 }
 
 /// An older report that an input error must leave as it is.

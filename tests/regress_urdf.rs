@@ -135,7 +135,7 @@ fn vector_of_a_link_geometry_is_checked_too() {
     let text = arm6_plus(
         "<link name=\"camera\"><visual><geometry><box size=\"0.1 0.1\"/></geometry></visual></link>",
     );
-    let line = format!("(line {})", line_of(&text, "size="));
+    let line = format!("(line {})", line_of(&text, "size=\"0.1 0.1\""));
     refused(
         &text,
         &["link 'camera' <box size>:", "has 2 numbers", &line],

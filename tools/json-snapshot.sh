@@ -21,6 +21,7 @@ for p in paths/*.yaml; do
   # fix writes beside a copy so that the demo folder stays untouched; the robot path is
   # made absolute in the copy, and the file names are blanked in the snapshot.
   sed -i -E "s#^robot: *(\.\./)?robots/#robot: $PWD/robots/#" "$work/$n.yaml"
+  sed -i -E "s#^cell: *#cell: $PWD/paths/#" "$work/$n.yaml"
   "$bin" fix "$work/$n.yaml" --out "$work/$n.fixed.yaml" --json - | sed "s#$work#WORK#g" | strip > "$out/fix-$n.json" || true
   [ -f "$work/$n.fixed.yaml" ] && sed "s#$work#WORK#g" "$work/$n.fixed.yaml" > "$out/fix-$n.fixed.yaml"
 done

@@ -34,6 +34,10 @@ pub enum Kind {
     JointAcceleration,
     /// The TCP runs slower than the programmed speed allows on a process segment.
     ProcessSpeed,
+    /// Two bodies of the cell model touch or overlap (not an allowed contact).
+    Collision,
+    /// Two bodies come closer than the clearance limit.
+    Clearance,
 }
 
 impl Kind {
@@ -50,15 +54,19 @@ impl Kind {
             Kind::JointSpeed => "joint_speed",
             Kind::JointAcceleration => "joint_acceleration",
             Kind::ProcessSpeed => "process_speed",
+            Kind::Collision => "collision",
+            Kind::Clearance => "clearance",
         }
     }
 
     /// Severity of every finding of this kind.
     pub fn severity(self) -> Severity {
         match self {
-            Kind::Input | Kind::NearJointLimit | Kind::Singularity | Kind::ProcessSpeed => {
-                Severity::Warning
-            }
+            Kind::Input
+            | Kind::NearJointLimit
+            | Kind::Singularity
+            | Kind::ProcessSpeed
+            | Kind::Clearance => Severity::Warning,
             _ => Severity::Error,
         }
     }
@@ -140,6 +148,8 @@ pub struct Finding {
     pub t: Option<[f64; 2]>,
     /// Joint name, for joint findings.
     pub joint: Option<String>,
+    /// The two bodies, for `collision` and `clearance` findings.
+    pub bodies: Option<[String; 2]>,
     /// The worst value over the run, and the limit it is compared with.
     pub value: Option<f64>,
     /// `None` for `joint_jump` (any discontinuity is one) and for input findings.
@@ -171,6 +181,7 @@ impl Finding {
             s: None,
             t: None,
             joint: None,
+            bodies: None,
             value: None,
             limit: None,
             quantity: Quantity::Number,

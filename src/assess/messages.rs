@@ -23,6 +23,7 @@ fn quantity_of(run: &Run, robot: &Robot) -> Quantity {
         Kind::JointAcceleration => Quantity::AngularAcceleration,
         Kind::ProcessSpeed => Quantity::Speed,
         Kind::Input => Quantity::Number,
+        Kind::Collision | Kind::Clearance => Quantity::Length,
     }
 }
 
@@ -186,7 +187,8 @@ pub(super) fn finding(robot: &Robot, job: &Job, plan: &Plan, run: &Run) -> Findi
                 job.limits.process_speed_tolerance * 100.0
             )
         }
-        Kind::Input => String::new(),
+        // Made by the cell watch, which closes its own runs.
+        Kind::Input | Kind::Collision | Kind::Clearance => String::new(),
     };
     Finding {
         kind: run.kind,
@@ -197,6 +199,7 @@ pub(super) fn finding(robot: &Robot, job: &Job, plan: &Plan, run: &Run) -> Findi
         s: Some(run.s),
         t: Some(run.t),
         joint: joint_name,
+        bodies: None,
         value: Some(run.value),
         // A jump has no limit: any discontinuity is one.
         limit: (run.kind != Kind::JointJump).then_some(run.limit),

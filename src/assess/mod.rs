@@ -296,6 +296,12 @@ impl<'a> Assessor<'a> {
         self.findings.push(finding);
     }
 
+    /// Adds findings made elsewhere (the cell watch's `collision` and `clearance`), to be
+    /// sorted into path order with the rest by [`Assessor::finish`].
+    pub fn add_findings(&mut self, findings: Vec<Finding>) {
+        self.findings.extend(findings);
+    }
+
     /// Close every open run and return the findings in path order: by first sample (an
     /// input finding on a segment sits at the segment's start, one on the file as a whole at
     /// the path's start), then segment, then kind (input first), then joint; with the extremes.

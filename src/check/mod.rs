@@ -3,6 +3,8 @@
 
 mod outcome;
 
+mod cell_watch;
+pub use cell_watch::{CellSummary, CellWatch, Nearest};
 pub use outcome::{
     Advice, CheckOutcome, Feasibility, FirstStop, NonFinite, Verdict, SEGMENT_TABLE_ROWS,
 };
@@ -155,16 +157,26 @@ pub fn check(
     }
     let mut assessor = Assessor::new(job, &plan, options.thresholds);
     let mut clock = crate::solve::WaypointClock::new(SEGMENT_TABLE_ROWS + 1);
+    let cell_model = cell_model(job, &robot)?;
+    let mut watch = cell_model.as_ref().map(|m| CellWatch::new(m, job, &plan));
     let totals = {
-        let mut all: Vec<&mut dyn SampleSink> = Vec::with_capacity(sinks.len() + 2);
+        let mut all: Vec<&mut dyn SampleSink> = Vec::with_capacity(sinks.len() + 3);
         all.push(&mut assessor);
         all.push(&mut clock);
+        if let Some(w) = watch.as_mut() {
+            all.push(w);
+        }
         for s in sinks.iter_mut() {
             all.push(&mut **s);
         }
         let mut fan = Fanout { sinks: &mut all };
         walker.walk(&start, &mut fan)
     };
+    let cell = watch.map(|w| {
+        let (found, summary) = w.finish();
+        assessor.add_findings(found);
+        summary
+    });
     let (mut findings, extremes) = assessor.finish(&robot);
     drop(walker);
     findings.splice(0..0, notes);
@@ -183,7 +195,24 @@ pub fn check(
         segment_durations: clock.segment_durations(),
         thresholds: options.thresholds,
         advice,
+        cell,
     })
+}
+
+/// The cell model of a job that has a cell file or tool geometry (`robot` with the tool
+/// mounted); `None` otherwise, and then the check measures nothing more.
+pub fn cell_model(job: &Job, robot: &Robot) -> Result<Option<crate::cell::CellModel>> {
+    if job.cell.is_none() && job.tool.geometry.is_empty() {
+        return Ok(None);
+    }
+    crate::cell::CellModel::build(crate::cell::CellInputs {
+        robot,
+        tool: &job.tool.geometry,
+        cell: job.cell.as_deref(),
+        base_T_work: job.base_T_work,
+        clearance: job.limits.clearance,
+    })
+    .map(Some)
 }
 
 /// How far (m) the TCP of given start joints may be from the first waypoint. Joints copied

@@ -104,6 +104,9 @@ pub struct CheckOutcome {
     /// Configuration advice for the stopping errors (closed-form arms whose configuration
     /// does not run the path).
     pub advice: Option<Advice>,
+    /// What the collision and clearance check covered; `None` when the job has no cell and
+    /// no tool geometry (then collisions are not checked).
+    pub cell: Option<super::CellSummary>,
 }
 
 impl CheckOutcome {
@@ -112,6 +115,14 @@ impl CheckOutcome {
         self.findings
             .iter()
             .filter(|f| f.severity() == Severity::Error)
+            .count()
+    }
+
+    /// `collision` findings.
+    pub fn collisions(&self) -> usize {
+        self.findings
+            .iter()
+            .filter(|f| f.kind == Kind::Collision)
             .count()
     }
 

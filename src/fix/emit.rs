@@ -23,6 +23,7 @@ use crate::job::schema::{
     SpeedSpec, SplitMargin, ToolSpec, UnitsSpec, WaypointSpec, WaypointsSpec,
 };
 use crate::job::{Job, Motion, Units};
+pub use crate::units::file_value;
 use nalgebra::Isometry3;
 use std::fmt::Write;
 
@@ -41,40 +42,6 @@ pub fn num(v: f64, decimals: usize) -> String {
         s = "0".into();
     }
     s
-}
-
-/// How many neighbouring doubles on each side of `si / unit` [`file_value`] tries: the
-/// quotient is within one rounding of the exact one and the reader's product adds one more,
-/// so a value that reads back exactly lies within a few units in the last place.
-const FILE_VALUE_NEIGHBOURS: u32 = 4;
-
-/// The number to write for SI value `si` in a unit of `si_per_unit` SI per unit (the reader
-/// multiplies it back). Among the doubles next to `si / si_per_unit`, the shortest written
-/// one that the reader turns back into exactly `si`; when none does (the product cannot hit
-/// every double), the plain quotient, which reads back within a rounding or two.
-pub fn file_value(si: f64, si_per_unit: f64) -> f64 {
-    if si_per_unit == 1.0 || !si.is_finite() {
-        return si;
-    }
-    let q = si / si_per_unit;
-    let mut best: Option<(usize, f64)> = None;
-    let mut consider = |v: f64| {
-        if v.is_finite() && v * si_per_unit == si {
-            let len = v.to_string().len();
-            if best.is_none_or(|(l, _)| len < l) {
-                best = Some((len, v));
-            }
-        }
-    };
-    consider(q);
-    let (mut up, mut down) = (q, q);
-    for _ in 0..FILE_VALUE_NEIGHBOURS {
-        up = up.next_up();
-        down = down.next_down();
-        consider(up);
-        consider(down);
-    }
-    best.map_or(q, |(_, v)| v)
 }
 
 /// True for the characters YAML reads as a line break or that a comment may not hold raw:
@@ -172,6 +139,12 @@ pub fn spec(job: &Job) -> Result<PathFileSpec, Error> {
         free_spin: free.then_some(true),
         spin_range: free.then(|| [angle(tool.spin_range.0), angle(tool.spin_range.1)]),
         spin_rate: tool.spin_rate.filter(|_| free).map(angle),
+        geometry: (!tool.geometry.is_empty()).then(|| {
+            tool.geometry
+                .iter()
+                .map(|b| crate::cell::RawBody::from_body(b, l, a))
+                .collect()
+        }),
     };
     let (xyz, quat) = pose_values(&job.base_T_work, u);
     let work_frame = FrameSpec {
@@ -188,6 +161,7 @@ pub fn spec(job: &Job) -> Result<PathFileSpec, Error> {
             wrist: c.wrist,
         });
     let lim = &job.limits;
+    let has_cell_model = job.cell.is_some() || !job.tool.geometry.is_empty();
     let limits = LimitsSpec {
         tool_angular_speed: Some(angle(lim.tool_angular_speed)),
         joint_speed_scale: Some(lim.joint_speed_scale),
@@ -199,6 +173,8 @@ pub fn spec(job: &Job) -> Result<PathFileSpec, Error> {
         tool_angular_acceleration: Some(angle(lim.tool_angular_acceleration)),
         joint_acceleration_scale: Some(lim.joint_acceleration_scale),
         process_speed_tolerance: Some(lim.process_speed_tolerance),
+        // The clearance matters only with a cell model.
+        clearance: has_cell_model.then(|| length(lim.clearance)),
     };
     let sampling = SamplingSpec {
         step: Some(length(job.sampling.step)),
@@ -239,6 +215,10 @@ pub fn spec(job: &Job) -> Result<PathFileSpec, Error> {
         robot: Some(robot.display().to_string()),
         tip: job.tip.clone(),
         tool: Some(tool),
+        cell: job.cell.as_ref().map(|c| {
+            let path = std::fs::canonicalize(&c.path).unwrap_or_else(|_| c.path.clone());
+            path.display().to_string()
+        }),
         work_frame: Some(work_frame),
         start_joints: start_joints(job)?,
         start_joints_seed: job

@@ -28,7 +28,7 @@ pub use text::render_fix_text;
 use crate::check::{check, CheckOptions, CheckOutcome};
 use crate::error::{Error, Result};
 use crate::job::{self, Job, Overrides};
-use crate::report::{Report, Summary, CAUTIONS};
+use crate::report::{Report, Summary};
 use crate::robot::load_urdf;
 use crate::solve::SampleSink;
 use serde::Serialize;
@@ -168,7 +168,11 @@ pub fn fix(job: &Job, out: &Path, options: &CheckOptions) -> Result<FixReport> {
             if s.changed {
                 let trial = run_check(&s.job, options, &mut [])?;
                 let (t, b) = (trial.errors(), before.errors());
-                if t < b || (t == b && trial.margin() > before.margin() + 0.01) {
+                // A spin that makes the tool or arm hit something is no fix, whatever else
+                // it improves.
+                let no_new_contact = trial.collisions() <= before.collisions();
+                if no_new_contact && (t < b || (t == b && trial.margin() > before.margin() + 0.01))
+                {
                     amended = s.job.clone();
                     spun = true;
                     s.outcome.applied = true;
@@ -211,7 +215,7 @@ pub fn fix(job: &Job, out: &Path, options: &CheckOptions) -> Result<FixReport> {
     let used = base.start.config;
     let mut chosen = None;
     if !spun {
-        if let Some(&first) = running.first() {
+        if let Some(first) = first_without_new_contact(&amended, &running, &base, options)? {
             if used.is_none_or(|u| !running.contains(&u)) {
                 set_config(&mut amended, first);
                 changes.push(format!(
@@ -296,7 +300,7 @@ pub fn fix(job: &Job, out: &Path, options: &CheckOptions) -> Result<FixReport> {
         changes,
         before: before_summary,
         after,
-        cautions: CAUTIONS.to_vec(),
+        cautions: crate::report::cautions_for(&job),
     })
 }
 
@@ -322,6 +326,29 @@ fn scale_accelerations(job: &mut Job, f2: f64, changes: &mut Vec<String>) {
         job.units.angle.name(),
         1.0 / f2.sqrt()
     ));
+}
+
+/// The first of the `running` configurations (which run the whole path) whose check has no
+/// more collisions than `base`'s: without a cell model the first one; with one, each is
+/// checked in turn (the configuration table walks without the cell). `None` when none does.
+fn first_without_new_contact(
+    job: &Job,
+    running: &[crate::ik::analytic::Config],
+    base: &CheckOutcome,
+    options: &CheckOptions,
+) -> Result<Option<crate::ik::analytic::Config>> {
+    if base.cell.is_none() {
+        return Ok(running.first().copied());
+    }
+    for &c in running {
+        let mut trial = job.clone();
+        set_config(&mut trial, c);
+        let outcome = run_check(&trial, options, &mut [])?;
+        if outcome.collisions() <= base.collisions() {
+            return Ok(Some(c));
+        }
+    }
+    Ok(None)
 }
 
 /// Ask for configuration `config` in the amended job. `start_joints` would override it, so

@@ -7,7 +7,9 @@
 //! parallel over the cores with `rayon`; the checks are independent, so the result does not
 //! depend on the number of threads.
 //!
-//! Ranking: verdict first (pass, then warn, then fail), then fewer errors, then the larger
+//! Ranking: verdict first (pass, then warn, then fail), then fewer collisions (a placement
+//! where the arm or tool hits the cell is worse than any other failure), then fewer errors,
+//! then the larger
 //! margin ([`crate::solve::margin`] of the smallest limit ratio and the smallest singularity
 //! measure, the score the start-pose choice ranks with),
 //! then the smaller offset (the placement closest to the programmed one).
@@ -118,6 +120,8 @@ pub struct Placement {
     pub verdict: Verdict,
     /// Error findings.
     pub errors: usize,
+    /// `collision` findings (also counted in `errors`).
+    pub collisions: usize,
     /// Warning findings.
     pub warnings: usize,
     /// Smallest singularity measure along the path (0 singular … 1).
@@ -147,6 +151,7 @@ impl Placement {
         let dist = |p: &Placement| p.dx * p.dx + p.dy * p.dy + p.dz * p.dz + p.dyaw * p.dyaw;
         self.verdict_rank()
             .cmp(&other.verdict_rank())
+            .then(other.collisions.cmp(&self.collisions))
             .then(other.errors.cmp(&self.errors))
             .then(self.score.total_cmp(&other.score))
             .then(dist(other).total_cmp(&dist(self)))
@@ -252,6 +257,7 @@ pub fn search(
                 dyaw,
                 verdict: outcome.verdict(),
                 errors: outcome.errors(),
+                collisions: outcome.collisions(),
                 warnings: outcome.warnings(),
                 min_singularity: measure,
                 min_limit_margin: ratio,
@@ -412,11 +418,26 @@ mod tests {
                 Verdict::Fail
             },
             errors,
+            collisions: 0,
             warnings: 0,
             min_singularity: Some(0.5),
             min_limit_margin: None,
             score: 1.0,
         }
+    }
+
+    #[test]
+    fn a_placement_that_collides_ranks_below_other_failures() {
+        // One collision (one error) against three joint-limit errors: the colliding
+        // placement is worse, whatever its error count.
+        // source: common practice (a placement where the tool hits the part is no fix)
+        let mut hits = placement(0.0, 1);
+        hits.collisions = 1;
+        let stretched = placement(50.0, 3);
+        assert!(stretched.better_than(&hits));
+        assert!(!hits.better_than(&stretched));
+        // Without collisions the error count decides, as before.
+        assert!(placement(50.0, 1).better_than(&placement(0.0, 3)));
     }
 
     fn report(best: Vec<Placement>) -> PlaceReport {

@@ -493,6 +493,14 @@ fn build(
             WaypointsSpec::List(list) => (cx.list_waypoints(list)?, path.to_path_buf()),
         },
     };
+    let cell = match (&ov.cell, &spec.cell) {
+        (Some(p), _) => Some(crate::cell::load_cell(p)?),
+        (None, Some(name)) => {
+            let base = path.parent().unwrap_or(Path::new(""));
+            Some(crate::cell::load_cell(&base.join(name.trim()))?)
+        }
+        (None, None) => None,
+    };
     let mut warnings = cx.warnings;
     let mut loaded = loaded;
     let move_keys = loaded.take_move_keys();
@@ -522,5 +530,6 @@ fn build(
         names,
         move_keys: std::sync::Arc::new(move_keys),
         warnings,
+        cell: cell.map(std::sync::Arc::new),
     })
 }

@@ -117,6 +117,8 @@ pub struct Tool {
     pub spin_range: (f64, f64),
     /// Largest allowed rate of spin change (rad/s), `None` = unlimited.
     pub spin_rate: Option<f64>,
+    /// The tool's bodies in the tip-link frame (SI), empty when not modelled.
+    pub geometry: Vec<crate::cell::BodySpec>,
 }
 
 /// Limits the assessment applies.
@@ -140,6 +142,8 @@ pub struct Limits {
     /// Share of the programmed speed a process segment may lose before a `process_speed`
     /// warning, in [0, 1).
     pub process_speed_tolerance: f64,
+    /// Distance between bodies (m) below which `clearance` is raised.
+    pub clearance: f64,
 }
 
 /// Sampling density along the path.
@@ -309,6 +313,8 @@ pub struct Job {
     pub move_keys: Arc<Vec<crate::motion::MoveKey>>,
     /// Problems in the input that armpath worked around, in the order found.
     pub warnings: Vec<InputWarning>,
+    /// The cell file, when the path file names one (`cell:`) or `--cell` is given.
+    pub cell: Option<std::sync::Arc<crate::cell::CellFile>>,
 }
 
 impl Job {

@@ -45,6 +45,8 @@ pub struct Overrides {
     pub step: Option<f64>,
     /// Largest orientation step between samples, angle unit, > 0.
     pub angle_step: Option<f64>,
+    /// Cell file, used as given (relative to the working directory); replaces `cell:`.
+    pub cell: Option<PathBuf>,
 }
 
 impl Overrides {

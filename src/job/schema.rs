@@ -47,6 +47,11 @@ pub struct PathFileSpec {
     /// `tool: {...}`: the tool, see [`ToolSpec`]. Default: TCP at the tip-link frame.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub tool: Option<ToolSpec>,
+    /// `cell: <file.yaml>`: the cell file (bodies of the part, fixtures and cell, allowed
+    /// contacts), relative to this file's folder; `--cell` replaces it. With a cell or tool
+    /// geometry the check tests collisions and clearance.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub cell: Option<String>,
     /// `work_frame: {xyz, rpy|quat|rotvec}`: pose of the work frame in the robot base frame;
     /// waypoints are given in the work frame. Default: the base frame.
     #[serde(skip_serializing_if = "Option::is_none")]
@@ -103,7 +108,7 @@ pub struct UnitsSpec {
 #[derive(Debug, Deserialize, Serialize)]
 #[serde(
     deny_unknown_fields,
-    expecting = "tool: a mapping with xyz and optionally one of rpy, quat, rotvec, and free_spin, spin_range, spin_rate"
+    expecting = "tool: a mapping with xyz and optionally one of rpy, quat, rotvec, and free_spin, spin_range, spin_rate, geometry"
 )]
 pub struct ToolSpec {
     /// `xyz: [x, y, z]`: TCP position in the tip-link frame, length unit. Required when `tool:`
@@ -130,6 +135,11 @@ pub struct ToolSpec {
     /// Default unlimited. Only used with `free_spin: true`.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub spin_rate: Option<f64>,
+    /// `geometry: [...]`: the tool's bodies in the tip-link frame (torch neck, nozzle, gun
+    /// body), each `{name, box|cylinder|sphere|capsule|mesh, xyz, rpy}` in this file's units,
+    /// as the bodies of a cell file but without `frame`. Optional.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub geometry: Option<Vec<crate::cell::RawBody>>,
 }
 
 /// `work_frame:` keys: `xyz` (required when `work_frame:` is given, length unit) and at most
@@ -175,7 +185,7 @@ pub struct ConfigSpec {
 #[derive(Debug, Deserialize, Serialize)]
 #[serde(
     deny_unknown_fields,
-    expecting = "limits: a mapping with tool_angular_speed, joint_speed_scale, near_limit_margin"
+    expecting = "limits: a mapping with tool_angular_speed, joint_speed_scale, near_limit_margin, clearance"
 )]
 pub struct LimitsSpec {
     /// `tool_angular_speed: <number>`: largest tool angular speed, angle unit per second, > 0.
@@ -210,6 +220,10 @@ pub struct LimitsSpec {
     /// may lose before a `process_speed` warning, in [0, 1). Default 0.05.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub process_speed_tolerance: Option<f64>,
+    /// `clearance: <number>`: bodies closer than this (length unit, > 0) raise a `clearance`
+    /// warning when the check tests collisions. Default 10 mm.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub clearance: Option<f64>,
 }
 
 /// `near_limit_margin`: one number for both joint kinds, or separate values.

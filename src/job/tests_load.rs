@@ -304,6 +304,7 @@ fn overrides_win_and_use_their_own_units() {
         joint_speed_scale: Some(0.5),
         step: Some(0.004),
         angle_step: Some(2.0),
+        cell: None,
     };
     let text = format!(
             "robot: arm.urdf\ntip: flange\nspeed: 20\ntool: {{xyz: [0, 0, 100], free_spin: true}}\nstart_joints: [1, 2]\n{TWO}"

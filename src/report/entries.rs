@@ -31,11 +31,14 @@ pub struct FindingReport {
     pub t_s: Option<[f64; 2]>,
     /// Joint name, for joint findings.
     pub joint: Option<String>,
+    /// `collision` and `clearance` only: the two bodies.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub bodies: Option<[String; 2]>,
     /// Worst value over the run, in `unit`.
     pub value: Option<f64>,
     /// The limit `value` is compared with, in `unit`; null for `joint_jump`.
     pub limit: Option<f64>,
-    /// Unit of `value` and `limit`: `mm`, `deg`, `deg/s`, `mm/s` or `none`.
+    /// Unit of `value` and `limit`: `mm`, `deg`, `deg/s`, `mm/s`, `deg/s²`, `mm/s²` or `none`.
     pub unit: &'static str,
     /// `joint_jump` only: the change of each joint across the jump, by joint name (deg; mm
     /// for prismatic joints).
@@ -59,6 +62,7 @@ impl FindingReport {
             s_mm: f.s.map(|s| [s[0] * 1e3, s[1] * 1e3]),
             t_s: f.t,
             joint: f.joint.clone(),
+            bodies: f.bodies.clone(),
             value: f.value.map(|v| q.display(v)),
             limit: f.limit.map(|v| q.display(v)),
             unit: q.unit(),

@@ -22,6 +22,37 @@ pub struct RobotInfo {
     /// Whether the closed-form solver applies, with its parameters or the reason it does not
     /// (filled by the caller).
     pub closed_form: Option<ClosedForm>,
+    /// The robot's own collision geometry and the self-collision pairs it gives (filled by
+    /// the caller); absent when no link has a `<collision>` element.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub collision: Option<RobotCollision>,
+}
+
+/// The robot's collision geometry as the cell check uses it.
+#[derive(Debug, Clone, Serialize)]
+pub struct RobotCollision {
+    /// Links with collision geometry.
+    pub links: Vec<String>,
+    /// Link pairs tested for self-collision (neighbours and pairs that never meet left out).
+    pub self_pairs: Vec<[String; 2]>,
+    /// What is left out of the test, and why.
+    pub notes: Vec<String>,
+}
+
+impl RobotCollision {
+    /// The collision facts of a cell model built from the robot alone.
+    pub fn new(model: &crate::cell::CellModel) -> Self {
+        RobotCollision {
+            links: model.bodies().iter().map(|b| b.name.clone()).collect(),
+            self_pairs: (0..model.pairs().len())
+                .map(|p| {
+                    let (a, b) = model.pair_names(p);
+                    [a.to_string(), b.to_string()]
+                })
+                .collect(),
+            notes: model.notes().to_vec(),
+        }
+    }
 }
 
 /// The closed-form IK family of an arm, or why it has none.
@@ -46,6 +77,7 @@ impl RobotInfo {
                 .map(|c| [c[0] * 1e3, c[1] * 1e3, c[2] * 1e3]),
             wrist_note: w.reason,
             closed_form: None,
+            collision: None,
         };
         ensure_finite("robot reach (mm)", &[info.robot.reach_mm])?;
         ensure_finite(
@@ -105,6 +137,33 @@ impl RobotInfo {
                 let _ = writeln!(o, "  IK       numerical (no closed form: {})", v(r));
             }
             _ => {}
+        }
+        if let Some(c) = &self.collision {
+            let pairs: Vec<String> = c
+                .self_pairs
+                .iter()
+                .map(|[a, b]| format!("{} ⟷ {}", v(a), v(b)))
+                .collect();
+            let shapes = if c.links.is_empty() {
+                "no usable shapes".to_string()
+            } else {
+                format!(
+                    "shapes on {}",
+                    c.links.iter().map(|l| v(l)).collect::<Vec<_>>().join(", ")
+                )
+            };
+            let _ = writeln!(
+                o,
+                "  collide  {shapes}; self-collision pairs tested: {}",
+                if pairs.is_empty() {
+                    "none".to_string()
+                } else {
+                    pairs.join(", ")
+                }
+            );
+            for n in &c.notes {
+                let _ = writeln!(o, "           {}", v(n));
+            }
         }
         let _ = writeln!(o);
         let _ = writeln!(

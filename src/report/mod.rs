@@ -2,6 +2,7 @@
 //! as JSON, and the joint trajectory as CSV. Values here are in display units (mm, deg, s):
 //! the conversion from SI happens once, when the report is built.
 
+mod cell;
 mod entries;
 mod escape;
 pub mod html;
@@ -9,6 +10,7 @@ mod joints_csv;
 pub mod kinematics;
 mod text;
 
+pub use cell::{cautions_for, CellReport, CAUTIONS_WITH_CELL};
 use entries::advice_text;
 pub use entries::{ConfigurationReport, FindingReport, StopReport};
 pub use escape::{count, visible};
@@ -293,6 +295,10 @@ pub struct Report {
     /// For arms with a closed-form solver: each arm configuration, whether the whole path
     /// runs in it, and if not where it first stops. Null for other arms.
     pub configurations: Option<Vec<ConfigurationReport>>,
+    /// The collision and clearance check; absent when the job has no cell and no tool
+    /// geometry.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub cell: Option<CellReport>,
     /// The safety cautions ([`CAUTIONS`]), carried by every report.
     pub cautions: Vec<&'static str>,
 }
@@ -433,7 +439,12 @@ impl Report {
                     .map(|row| ConfigurationReport::new(row, &o.robot, &o.job))
                     .collect()
             }),
-            cautions: CAUTIONS.to_vec(),
+            cell: o.cell.as_ref().map(CellReport::new),
+            cautions: if o.cell.is_some() {
+                CAUTIONS_WITH_CELL.to_vec()
+            } else {
+                CAUTIONS.to_vec()
+            },
         }
     }
 

@@ -197,6 +197,20 @@ pub fn render_text(report: &Report, style: Style) -> String {
             (1.0 - m) * 100.0
         );
     }
+    if let Some(c) = &report.cell {
+        let nearest = match (c.nearest_mm, &c.nearest_bodies) {
+            (Some(d), Some([a, b])) => format!(", nearest {d:.2} mm ({} ⟷ {})", v(a), v(b)),
+            _ => String::new(),
+        };
+        let _ = writeln!(
+            o,
+            "  cell                  {} bodies, {} pairs tested{nearest} (clearance {:.1} mm)",
+            c.bodies, c.pairs_tested, c.clearance_mm
+        );
+        for n in &c.notes {
+            let _ = writeln!(o, "                        {}", v(n));
+        }
+    }
     let _ = writeln!(o);
     if report.findings.is_empty() {
         let _ = writeln!(o, "  no findings");
@@ -236,6 +250,10 @@ pub fn render_text(report: &Report, style: Style) -> String {
             f.joint
                 .as_ref()
                 .map(|j| format!(" · {}", v(j)))
+                .or_else(|| f
+                    .bodies
+                    .as_ref()
+                    .map(|[a, b]| format!(" · {} ⟷ {}", v(a), v(b))))
                 .unwrap_or_default()
         );
         if f.samples.is_some() {

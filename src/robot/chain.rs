@@ -51,7 +51,7 @@ pub struct ChainJoint {
 impl ChainJoint {
     /// Motion of the joint at position `q` (rad or m), in its own frame.
     #[inline]
-    fn motion(&self, q: f64) -> Isometry3<f64> {
+    pub fn motion(&self, q: f64) -> Isometry3<f64> {
         if self.kind.is_prismatic() {
             Isometry3::from_parts(
                 Translation3::from(self.axis.into_inner() * q),

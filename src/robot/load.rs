@@ -4,7 +4,7 @@
 use super::chain::{Chain, ChainJoint, JointKind, MAX_DOF};
 use super::ranges::{effort_problem, limit_problem, origin_problem, show, velocity_problem};
 use super::xml::{survey, JointSite, Sites};
-use super::{JointInfo, Robot};
+use super::{JointInfo, LinkMount, Robot};
 use crate::error::{Error, Result};
 use nalgebra::{Isometry3, Translation3, Unit, Vector3};
 use std::collections::{HashMap, HashSet};
@@ -368,6 +368,7 @@ fn build(urdf: &urdf_rs::Robot, path: &Path, tip: Option<&str>, sites: &Sites) -
     let mut joints = Vec::new();
     let mut infos = Vec::new();
     let mut pending = Isometry3::identity(); // fixed transforms since the last movable joint
+    let mut mounts = vec![mount(urdf, root, None, pending, sites)];
     for j in path_joints {
         let site = sites.joint(&j.name);
         let origin = origin_of(j, path, site)?;
@@ -377,6 +378,8 @@ fn build(urdf: &urdf_rs::Robot, path: &Path, tip: Option<&str>, sites: &Sites) -
         let kind = match j.joint_type {
             urdf_rs::JointType::Fixed => {
                 pending *= origin;
+                let frame = joints.len().checked_sub(1);
+                mounts.push(mount(urdf, &j.child.link, frame, pending, sites));
                 continue;
             }
             urdf_rs::JointType::Revolute => JointKind::Revolute,
@@ -468,6 +471,13 @@ fn build(urdf: &urdf_rs::Robot, path: &Path, tip: Option<&str>, sites: &Sites) -
             kind,
         });
         pending = Isometry3::identity();
+        mounts.push(mount(
+            urdf,
+            &j.child.link,
+            Some(joints.len() - 1),
+            pending,
+            sites,
+        ));
         infos.push(JointInfo {
             name: j.name.clone(),
             kind,
@@ -500,7 +510,31 @@ fn build(urdf: &urdf_rs::Robot, path: &Path, tip: Option<&str>, sites: &Sites) -
         tip_link.to_string(),
         infos,
         Chain::new(joints, pending),
+        mounts,
     ))
+}
+
+/// The mount of link `name` on joint frame `frame` at `frame_T_link`, with its collisions.
+fn mount(
+    urdf: &urdf_rs::Robot,
+    name: &str,
+    frame: Option<usize>,
+    frame_T_link: Isometry3<f64>,
+    sites: &Sites,
+) -> LinkMount {
+    let collisions = urdf
+        .links
+        .iter()
+        .find(|l| l.name == name)
+        .map(|l| l.collision.clone())
+        .unwrap_or_default();
+    LinkMount {
+        name: name.to_string(),
+        frame,
+        frame_T_link,
+        collisions,
+        line: sites.link(name),
+    }
 }
 
 #[cfg(test)]

@@ -3,6 +3,7 @@
 mod chain;
 mod fastmath;
 mod joints;
+mod links;
 mod load;
 mod ranges;
 mod singularity;
@@ -11,6 +12,7 @@ mod xml;
 
 pub use chain::{manipulability, scaled_jjt, Chain, ChainJoint, Jacobian, JointKind, MAX_DOF};
 pub use joints::Joints;
+pub use links::LinkMount;
 pub use load::{from_urdf_str, load_urdf};
 pub use ranges::{
     check_offset, check_pose, MAX_EFFORT, MAX_JOINT_SPEED, MAX_LENGTH_M, MAX_ORIGIN_ANGLE_RAD,
@@ -62,6 +64,7 @@ pub struct Robot {
     joints: Vec<JointInfo>,
     chain: Chain,
     reach: f64,
+    links: Vec<LinkMount>,
 }
 
 impl Robot {
@@ -72,6 +75,7 @@ impl Robot {
         tip_link: String,
         joints: Vec<JointInfo>,
         chain: Chain,
+        links: Vec<LinkMount>,
     ) -> Self {
         let mut robot = Robot {
             name,
@@ -81,6 +85,7 @@ impl Robot {
             joints,
             chain,
             reach: 0.0,
+            links,
         };
         robot.reach = robot.estimate_reach();
         robot
@@ -114,6 +119,11 @@ impl Robot {
     /// `base_T_tcp`).
     pub fn chain(&self) -> &Chain {
         &self.chain
+    }
+    /// The links from the root link to the tip link, each with the joint frame it rides on
+    /// and its collision elements (for the cell model).
+    pub fn links(&self) -> &[LinkMount] {
+        &self.links
     }
     /// Mount a tool: TCP pose in the tip-link frame.
     pub fn set_tool(&mut self, tip_T_tcp: Isometry3<f64>) {

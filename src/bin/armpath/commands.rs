@@ -166,6 +166,27 @@ pub fn run_robot(a: RobotArgs) -> Result<u8> {
             reason: Some(reason),
         },
     });
+    if robot.links().iter().any(|l| !l.collisions.is_empty()) {
+        let model = armpath::cell::CellModel::build(armpath::cell::CellInputs {
+            robot: &robot,
+            tool: &[],
+            cell: None,
+            base_T_work: Isometry3::identity(),
+            clearance: 0.0,
+        });
+        // The kinematic facts stand without the collision geometry: a shape armpath cannot
+        // read is reported here, and refused only by a check that needs it.
+        info.collision = Some(match model {
+            Ok(m) => armpath::report::kinematics::RobotCollision::new(&m),
+            Err(e) => armpath::report::kinematics::RobotCollision {
+                links: Vec::new(),
+                self_pairs: Vec::new(),
+                notes: vec![format!(
+                    "the collision geometry cannot be used, so a check with a cell or tool geometry will stop: {e}"
+                )],
+            },
+        });
+    }
     if !is_stdout(a.json.as_deref()) {
         output::print(&info.render_text())?;
     }

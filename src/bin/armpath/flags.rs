@@ -162,6 +162,10 @@ pub struct SettingFlags {
     /// Inverse kinematics along the path.
     #[arg(long, value_name = "MODE", default_value = "auto", value_enum)]
     pub ik: IkMode,
+    /// Cell file: the part's, fixtures' and cell's bodies and the allowed contacts (replaces
+    /// the path file's `cell:`); with it the check tests collisions and clearance.
+    #[arg(long, value_name = "FILE")]
+    pub cell: Option<PathBuf>,
     /// Refuse paths that would need more samples than N (default 100000000).
     #[arg(long, value_name = "N", allow_negative_numbers = true)]
     pub max_samples: Option<u64>,
@@ -187,6 +191,7 @@ impl SettingFlags {
             joint_speed_scale: self.joint_speed_scale,
             step: self.step,
             angle_step: self.angle_step,
+            cell: self.cell.clone(),
         };
         let mut options = CheckOptions::default();
         if let Some(t) = self.singularity_threshold {

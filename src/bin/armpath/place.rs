@@ -109,7 +109,7 @@ pub fn run_place(a: PlaceArgs) -> Result<u8> {
         seconds,
         threads: rayon::current_num_threads(),
         best: place::best(&placements, a.best.max(1)),
-        cautions: armpath::report::CAUTIONS.to_vec(),
+        cautions: armpath::report::cautions_for(&job),
     };
     if !is_stdout(a.json.as_deref()) {
         output::print(&place::render_text(&report))?;

@@ -24,6 +24,9 @@ const DEFAULT_STEP_MM: f64 = 1.0;
 /// 0.5°: resolves the fast wrist motion near a wrist singularity; at a 100 mm lever it moves
 /// the tool tip about as far as the 1 mm step.
 const DEFAULT_ANGLE_STEP_DEG: f64 = 0.5;
+/// 10 mm: room for the touch-up of taught points and for the difference between model and
+/// cell, and a common minimum gap kept between a moving tool and fixtures.
+const DEFAULT_CLEARANCE_MM: f64 = 10.0;
 /// ±180°: one full turn contains every spin angle exactly once, so a free-spin tool may take
 /// any spin without the search repeating itself.
 const DEFAULT_SPIN_RANGE_DEG: (f64, f64) = (-180.0, 180.0);
@@ -131,7 +134,22 @@ impl Ctx<'_> {
         }
         let (tcp_acceleration, tool_angular_acceleration, joint_acceleration_scale, tolerance) =
             super::super::motion_keys::limits(spec, &self.fu, self.path)?;
+        let clearance = match spec.and_then(|l| l.clearance) {
+            None => DEFAULT_CLEARANCE_MM * 1e-3,
+            Some(v) => {
+                let (si, unit) = Quantity::Length.unit(fu);
+                positive(
+                    v,
+                    At::File(self.path, "limits.clearance"),
+                    "the clearance",
+                    &unit,
+                    si,
+                    Quantity::Length.range(),
+                )? * si
+            }
+        };
         Ok(Limits {
+            clearance,
             tool_angular_speed,
             joint_speed_scale: over_scale
                 .or(file_scale)
@@ -182,6 +200,7 @@ impl Ctx<'_> {
                 DEFAULT_SPIN_RANGE_DEG.1.to_radians(),
             ),
             spin_rate: None,
+            geometry: Vec::new(),
         };
         if let Some(t) = spec {
             let o = (t.rpy, t.quat, t.rotvec);
@@ -223,6 +242,13 @@ impl Ctx<'_> {
                 })
                 .transpose()?
                 .map(|v| fu.angle(v));
+            if let Some(raw) = &t.geometry {
+                let scale = crate::cell::Scale {
+                    m_per_length: fu.length_to_m(),
+                    rad_per_angle: fu.angle_to_rad(),
+                };
+                tool.geometry = crate::cell::tool_bodies(raw, scale, self.path, "tool.geometry")?;
+            }
             if !tool.free_spin {
                 for (given, key) in [
                     (t.spin_range.is_some(), "spin_range"),
