@@ -54,11 +54,13 @@ for r in $(seq 1 "$runs"); do
   run place -- "$bin" place paths/bracket_fillet.yaml --x -95:95:10 --y -95:95:10
 done
 
-# stats FILE COLUMN: the runs, then median [min–max].
+# stats FILE COLUMN: the runs in order, then median [min–max] (plain awk and sort).
 stats() {
-  awk -v c="$2" '{ v[NR] = $c } END {
-    n = asort(v); s = ""; for (i = 1; i <= n; i++) s = s v[i] " "
-    printf "%s→ %s [%s–%s]", s, v[int((n + 1) / 2)], v[1], v[n] }' "$1"
+  local runs sorted
+  runs=$(awk -v c="$2" '{ printf "%s ", $c }' "$1")
+  sorted=$(awk -v c="$2" '{ print $c }' "$1" | sort -g)
+  awk -v runs="$runs" '{ v[NR] = $1 } END {
+    printf "%s→ %s [%s–%s]", runs, v[int((NR + 1) / 2)], v[1], v[NR] }' <<<"$sorted"
 }
 printf '%-52s %s\n' "figure" "runs → median [min–max]"
 printf '%-52s %s\n' "1,001,251-sample check: peak RSS (MB)" "$(stats "$tmp/long" 1)"
