@@ -360,7 +360,9 @@ impl CellProbe {
     /// surfaces read 0 (contact; its depth is not measured on a mesh). A body lying wholly
     /// inside a closed mesh reads minus its distance to the surface: contact, with a depth
     /// that is at least that. Every result is a lower bound on the distance, as the
-    /// between-samples rule needs.
+    /// between-samples rule needs. Parry's tree traversal allocates its queue on each call:
+    /// the one allocation of the per-sample loop, made only for pairs with a mesh that are
+    /// close enough to be measured.
     fn mesh_distance(&self, model: &CellModel, i: usize, j: usize) -> f64 {
         let (si, sj) = (&model.placed[i].solid, &model.placed[j].solid);
         let (wi, wj) = (&self.world[i], &self.world[j]);
