@@ -1,8 +1,10 @@
 //! The cell check's cost: the per-sample query of the demo arm with a two-body torch against
-//! a cell of 20 primitives, over the joints of a 31,700-sample seam; and the whole check of
-//! that seam with and without the cell, in the same run.
+//! a cell of 20 primitives, over the joints of a 31,700-sample seam; the same with the plate
+//! under the seam replaced by a 50,900-triangle STL part (a finely tessellated plate with
+//! ribs underneath); and the whole check of that seam with and without the cell, in the same
+//! run.
 //!
-//! Run: `cargo bench --bench cell`
+//! Run: `cargo bench --bench cell` (`-- mesh` for the STL part alone)
 #![allow(non_snake_case)]
 
 use armpath::cell::CellProbe;
@@ -63,6 +65,46 @@ allowed_contacts:
   - {between: [nozzle, wall_a], when: process}
 ";
 
+/// The plate of [`CELL`] as a closed STL part in mm: 300 × 400 mm, top face z = 0 split into
+/// 125 × 100 cells (two triangles each), a bottom at z = −10 with 6 mm ribs reaching z = −30
+/// every 50 mm along x (the same grid, facing down), and side walls: 50,900 triangles.
+fn ribbed_plate() -> Vec<[nalgebra::Point3<f64>; 3]> {
+    use nalgebra::Point3;
+    let (nx, ny) = (125usize, 100usize);
+    let x = |i: usize| 300.0 * i as f64 / nx as f64;
+    let y = |j: usize| 400.0 * j as f64 / ny as f64;
+    let bottom = |i: usize| if x(i) % 50.0 < 6.0 { -30.0 } else { -10.0 };
+    let top_at = |i: usize, j: usize| Point3::new(x(i), y(j), 0.0);
+    let bot_at = |i: usize, j: usize| Point3::new(x(i), y(j), bottom(i));
+    let mut t = Vec::with_capacity(4 * nx * ny + 4 * (nx + ny));
+    for i in 0..nx {
+        for j in 0..ny {
+            let (a, b, c, d) = ((i, j), (i + 1, j), (i + 1, j + 1), (i, j + 1));
+            t.push([top_at(a.0, a.1), top_at(b.0, b.1), top_at(c.0, c.1)]);
+            t.push([top_at(a.0, a.1), top_at(c.0, c.1), top_at(d.0, d.1)]);
+            t.push([bot_at(a.0, a.1), bot_at(c.0, c.1), bot_at(b.0, b.1)]);
+            t.push([bot_at(a.0, a.1), bot_at(d.0, d.1), bot_at(c.0, c.1)]);
+        }
+    }
+    // The top's border, counter-clockwise seen from above; each edge u → v gets a wall.
+    let mut border = Vec::new();
+    border.extend((0..nx).map(|i| ((i, 0), (i + 1, 0))));
+    border.extend((0..ny).map(|j| ((nx, j), (nx, j + 1))));
+    border.extend((0..nx).rev().map(|i| ((i + 1, ny), (i, ny))));
+    border.extend((0..ny).rev().map(|j| ((0, j + 1), (0, j))));
+    for (u, v) in border {
+        let (ut, vt, ub, vb) = (
+            top_at(u.0, u.1),
+            top_at(v.0, v.1),
+            bot_at(u.0, u.1),
+            bot_at(v.0, v.1),
+        );
+        t.push([vt, ut, ub]);
+        t.push([vt, ub, vb]);
+    }
+    t
+}
+
 /// Collects every sample's joints.
 struct Trajectory(Vec<armpath::Joints>);
 
@@ -77,6 +119,29 @@ fn bench(c: &mut Criterion) {
     let dir = std::env::temp_dir().join(format!("armpath-cell-bench-{}", std::process::id()));
     std::fs::create_dir_all(&dir).unwrap();
     std::fs::write(dir.join("cell.yaml"), CELL).unwrap();
+    let plate = ribbed_plate();
+    std::fs::write(
+        dir.join("ribbed_plate.stl"),
+        armpath::cell::stl::write_binary_stl(&plate),
+    )
+    .unwrap();
+    let plate_line = "  - {name: plate, frame: work, box: [300, 400, 10], xyz: [150, 150, -5]}";
+    assert!(CELL.contains(plate_line));
+    std::fs::write(
+        dir.join("cell_mesh.yaml"),
+        CELL.replace(
+            plate_line,
+            "  - {name: plate, frame: work, mesh: {file: ribbed_plate.stl}, xyz: [0, -50, 0]}",
+        ),
+    )
+    .unwrap();
+    let with_mesh = dir.join("seam_mesh.yaml");
+    std::fs::write(
+        &with_mesh,
+        PATH.replace("ROBOT", &format!("{root}/robots/arm6.urdf"))
+            .replace("CELL", "cell: cell_mesh.yaml"),
+    )
+    .unwrap();
     let robot_line = format!("{root}/robots/arm6.urdf");
     let with_cell = dir.join("seam_cell.yaml");
     std::fs::write(
@@ -106,6 +171,13 @@ fn bench(c: &mut Criterion) {
     robot.set_tool(job.tool.tip_T_tcp);
     let model = cell_model(&job, &robot).unwrap().unwrap();
     let process: Vec<bool> = vec![false; joints.0.len()];
+    let job_mesh = job::load(&with_mesh, &Overrides::default()).unwrap();
+    let model_mesh = cell_model(&job_mesh, &robot).unwrap().unwrap();
+    eprintln!(
+        "mesh part: {} triangles, model notes: {:?}",
+        plate.len(),
+        model_mesh.notes()
+    );
 
     let mut g = c.benchmark_group("cell");
     g.sample_size(10);
@@ -117,6 +189,15 @@ fn bench(c: &mut Criterion) {
             probe.restart();
             for (q, &p) in joints.0.iter().zip(&process) {
                 black_box(probe.sample(&model, q, p));
+            }
+        })
+    });
+    g.bench_function("probe_per_sample_mesh_part", |b| {
+        let mut probe = CellProbe::new(&model_mesh);
+        b.iter(|| {
+            probe.restart();
+            for (q, &p) in joints.0.iter().zip(&process) {
+                black_box(probe.sample(&model_mesh, q, p));
             }
         })
     });

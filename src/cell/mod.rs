@@ -7,8 +7,10 @@
 //! [`CellProbe`] measures a configuration and the motion between two (see `probe` for the
 //! between-samples rule).
 //!
-//! Every solid is convex (boxes, cylinders, spheres, capsules, convex hulls of STL meshes);
-//! distances come from GJK, penetration depths from EPA (parry3d-f64).
+//! Boxes, cylinders, spheres and capsules are convex: distances come from GJK, penetration
+//! depths from EPA (parry3d-f64). An STL mesh is its triangle surface (parry's `TriMesh` and
+//! its bounding-volume tree), so concave parts are followed as they are; a closed mesh has an
+//! inside (a body wholly in it is in contact), an open one is a thin sheet.
 
 pub mod file;
 mod model;
@@ -16,6 +18,7 @@ mod never_meet;
 mod probe;
 pub mod shape;
 pub mod stl;
+mod surface;
 
 pub use file::{
     load_cell, tool_bodies, AllowWhen, AllowedContact, Anchor, BodySpec, CellFile, RawBody, Scale,
@@ -59,3 +62,5 @@ pub(crate) fn read_capped(path: &std::path::Path, cap: u64) -> Result<Vec<u8>, R
 
 #[cfg(test)]
 mod tests;
+#[cfg(test)]
+mod tests_mesh;

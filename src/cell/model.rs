@@ -143,7 +143,7 @@ impl CellModel {
                         Error::robot(
                             robot.source(),
                             &at,
-                            format!("mesh encloses no volume: give a closed mesh{line}"),
+                            format!("mesh encloses no volume (its corners lie on one plane, or no triangle has three distinct corners): give a closed mesh, or a box for a thin plate{line}"),
                         )
                     })?;
                 solids.push(solid);
@@ -208,6 +208,14 @@ impl CellModel {
     ) {
         let start = self.placed.len();
         let mut reach: f64 = 0.0;
+        if solids
+            .iter()
+            .any(|s| s.surface().is_some_and(|m| !m.is_closed()))
+        {
+            self.notes.push(format!(
+                "the mesh of '{name}' is not closed: it counts as a thin sheet with no inside"
+            ));
+        }
         for s in solids {
             reach = reach.max(s.reach_from_origin());
             self.placed.push(Placed {
@@ -330,7 +338,8 @@ impl CellModel {
 fn body_solid(b: &BodySpec, frame_T_body: Isometry3<f64>, file: Option<&Path>) -> Result<Solid> {
     Solid::new(&b.primitive, frame_T_body).ok_or_else(|| {
         let message = format!(
-            "the mesh of '{}' encloses no volume: give a closed mesh",
+            "the mesh of '{}' encloses no volume (its corners lie on one plane, or no triangle has \
+             three distinct corners): give a closed mesh, or a box for a thin plate",
             b.name
         );
         match file {
@@ -401,7 +410,7 @@ fn urdf_primitive(
                 } => Error::robot(urdf, location, format!("{message}{line}")),
                 other => other,
             })?;
-            return Ok(Primitive::Hull(points));
+            return Ok(Primitive::Mesh(points));
         }
     };
     p.validate(urdf, at).map_err(|e| match e {

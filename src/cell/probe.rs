@@ -28,10 +28,11 @@
 //! per pair.
 
 use super::model::CellModel;
+use super::shape::Solid;
 use crate::robot::MAX_DOF;
 use nalgebra::{Isometry3, Point3, Unit, Vector3};
-use parry3d_f64::query::epa::EPA;
 use parry3d_f64::query::gjk::{self, CSOPoint, GJKResult, VoronoiSimplex};
+use parry3d_f64::query::{self, epa::EPA};
 
 /// Motion bound (m) below which an interval is not split further: 0.2 mm is below the
 /// repeatability of most industrial arms and far below any model's accuracy, so a contact
@@ -331,11 +332,13 @@ impl CellProbe {
     }
 
     /// Exact distance between two placed solids: GJK, and EPA for the penetration depth when
-    /// they overlap (negative result).
+    /// they overlap (negative result); see [`CellProbe::mesh_distance`] when one is a mesh.
     fn exact(&mut self, model: &CellModel, i: usize, j: usize) -> f64 {
+        let (si, sj) = (&model.placed[i].solid, &model.placed[j].solid);
+        let (Some(g1), Some(g2)) = (si.support(), sj.support()) else {
+            return self.mesh_distance(model, i, j);
+        };
         let pos12 = self.world[i].inv_mul(&self.world[j]);
-        let g1 = model.placed[i].solid.support();
-        let g2 = model.placed[j].solid.support();
         let dir = Unit::try_new(pos12.translation.vector, 1e-12).unwrap_or_else(Vector3::x_axis);
         self.simplex
             .reset(CSOPoint::from_shapes(&pos12, g1, g2, &dir));
@@ -349,6 +352,37 @@ impl CellProbe {
                 None => 0.0,
             },
             GJKResult::NoIntersection(_) | GJKResult::Proximity(_) => GJK_MAX_DIST,
+        }
+    }
+
+    /// Distance between two placed solids of which at least one is a mesh surface: parry's
+    /// distance through the mesh's bounding-volume tree, exact to the surface. Crossing
+    /// surfaces read 0 (contact; its depth is not measured on a mesh). A body lying wholly
+    /// inside a closed mesh reads minus its distance to the surface: contact, with a depth
+    /// that is at least that. Every result is a lower bound on the distance, as the
+    /// between-samples rule needs. Parry's tree traversal allocates its queue on each call:
+    /// the one allocation of the per-sample loop, made only for pairs with a mesh that are
+    /// close enough to be measured.
+    fn mesh_distance(&self, model: &CellModel, i: usize, j: usize) -> f64 {
+        let (si, sj) = (&model.placed[i].solid, &model.placed[j].solid);
+        let (wi, wj) = (&self.world[i], &self.world[j]);
+        // Every pairing of a mesh with a primitive or a mesh is supported; an unsupported one
+        // would be a parry change, and contact is the safe reading.
+        let d = query::distance(wi, si.shape(), wj, sj.shape()).unwrap_or(0.0);
+        if d <= 0.0 {
+            return 0.0;
+        }
+        // Apart from the surface, a body is wholly on one side of it: one point tells which.
+        let inside =
+            |mesh: &Solid, at: &Isometry3<f64>, other: &Solid, other_at: &Isometry3<f64>| {
+                mesh.surface().is_some_and(|s| {
+                    s.contains(&at.inverse_transform_point(&(other_at * other.inner_point())))
+                })
+            };
+        if inside(si, wi, sj, wj) || inside(sj, wj, si, wi) {
+            -d
+        } else {
+            d
         }
     }
 }

@@ -1,18 +1,16 @@
 //! Solid shapes of the cell model: the primitives a URDF `<collision>`, a tool body or a cell
-//! body may be, turned into parry support-map solids once, with the bounding sphere that the
-//! per-sample query uses to skip far pairs.
+//! body may be, turned into parry shapes once, with the bounding sphere that the per-sample
+//! query uses to skip far pairs.
 //!
-//! Every solid is convex: boxes, cylinders, spheres, capsules, and the convex hull of an STL
-//! mesh's vertices. A hull holds the mesh whatever its shape (conservative: a concave part is
-//! modelled as larger than it is; split it into several bodies to follow a concavity). The
-//! hull is never built: its support point in a direction is the vertex farthest along it,
-//! which is exact and cannot fail on degenerate or hostile meshes; the cost is linear in the
-//! vertex count, so a coarse collision mesh keeps the check fast.
-
+//! Boxes, cylinders, spheres and capsules are convex support maps (GJK distance, EPA depth).
+//! An STL mesh is its triangle surface (see `surface`): distances are to the real surface, so
+//! a concave part (ribs, pockets) is followed as it is. A closed mesh has an inside, and a
+//! body lying wholly in it is in contact; an open mesh is a thin sheet without inside.
 use super::stl::MeshPoints;
+use super::surface::Surface;
 use crate::error::{Error, Result};
 use nalgebra::{Isometry3, Point3, UnitQuaternion, Vector3};
-use parry3d_f64::shape::{Ball, Capsule, Cuboid, Cylinder, SupportMap};
+use parry3d_f64::shape::{Ball, Capsule, Cuboid, Cylinder, Shape, SupportMap};
 use std::path::Path;
 
 /// Smallest size (m) of any primitive dimension: below a micrometre a body is a typo (a size
@@ -51,8 +49,8 @@ pub enum Primitive {
         /// Distance between the hemisphere centres (m).
         length: f64,
     },
-    /// The convex hull of mesh vertices (already scaled, in m).
-    Hull(MeshPoints),
+    /// A triangle mesh (already scaled, in m), taken as its surface.
+    Mesh(MeshPoints),
 }
 
 impl Primitive {
@@ -72,7 +70,7 @@ impl Primitive {
             Primitive::Capsule { radius, length } => {
                 vec![("radius", *radius, false), ("length", *length, true)]
             }
-            Primitive::Hull(_) => Vec::new(),
+            Primitive::Mesh(_) => Vec::new(),
         }
     }
 
@@ -96,7 +94,7 @@ impl Primitive {
     }
 }
 
-/// A convex solid ready for distance queries, with its placement in the body's frame.
+/// A solid ready for distance queries, with its placement in the body's frame.
 #[derive(Debug, Clone)]
 pub struct Solid {
     kind: SolidKind,
@@ -115,28 +113,7 @@ enum SolidKind {
     Cuboid(Cuboid),
     Cylinder(Cylinder),
     Capsule(Capsule),
-    Hull(VertexHull),
-}
-
-/// The convex hull of a vertex cloud as a support map (see the module doc).
-#[derive(Debug, Clone)]
-struct VertexHull {
-    points: Vec<Point3<f64>>,
-}
-
-impl SupportMap for VertexHull {
-    fn local_support_point(&self, dir: &Vector3<f64>) -> Point3<f64> {
-        let mut best = self.points[0];
-        let mut reach = best.coords.dot(dir);
-        for p in &self.points[1..] {
-            let r = p.coords.dot(dir);
-            if r > reach {
-                reach = r;
-                best = *p;
-            }
-        }
-        best
-    }
+    Mesh(Box<Surface>),
 }
 
 /// A mesh whose vertices lie within this fraction of its size of one plane encloses no
@@ -175,7 +152,8 @@ fn spans_volume(points: &[Point3<f64>]) -> bool {
 impl Solid {
     /// Builds the solid for `primitive` placed at `body_T_primitive` (the `origin`/`pose` of
     /// the geometry). Sizes must have been validated. `None` for a mesh whose vertices span no
-    /// volume (all on one plane or line): the caller reports it.
+    /// volume (all on one plane or line: an export of a single face, not a part) or that has
+    /// no proper triangle: the caller reports it.
     pub fn new(primitive: &Primitive, body_T_primitive: Isometry3<f64>) -> Option<Solid> {
         let turn_y_to_z = Isometry3::from_parts(
             nalgebra::Translation3::identity(),
@@ -206,15 +184,18 @@ impl Solid {
                 0.5 * length + radius,
                 Vector3::zeros(),
             ),
-            Primitive::Hull(mesh) => {
+            Primitive::Mesh(mesh) => {
                 if !spans_volume(mesh.points()) {
                     return None;
                 }
-                let hull = VertexHull {
-                    points: mesh.points().to_vec(),
-                };
+                let surface = Surface::new(mesh)?;
                 let (centre, radius) = mesh.bounding_sphere();
-                (SolidKind::Hull(hull), Isometry3::identity(), radius, centre)
+                (
+                    SolidKind::Mesh(Box::new(surface)),
+                    Isometry3::identity(),
+                    radius,
+                    centre,
+                )
             }
         };
         let body_T_shape = body_T_primitive * local_T_shape;
@@ -228,15 +209,47 @@ impl Solid {
         })
     }
 
-    /// The parry support map of the solid, in the shape's own frame.
+    /// The parry support map of a convex solid, in the shape's own frame; `None` for a mesh.
     #[inline]
-    pub(crate) fn support(&self) -> &dyn SupportMap {
+    pub(crate) fn support(&self) -> Option<&dyn SupportMap> {
+        match &self.kind {
+            SolidKind::Ball(s) => Some(s),
+            SolidKind::Cuboid(s) => Some(s),
+            SolidKind::Cylinder(s) => Some(s),
+            SolidKind::Capsule(s) => Some(s),
+            SolidKind::Mesh(_) => None,
+        }
+    }
+
+    /// The parry shape of the solid, in the shape's own frame.
+    #[inline]
+    pub(crate) fn shape(&self) -> &dyn Shape {
         match &self.kind {
             SolidKind::Ball(s) => s,
             SolidKind::Cuboid(s) => s,
             SolidKind::Cylinder(s) => s,
             SolidKind::Capsule(s) => s,
-            SolidKind::Hull(s) => s,
+            SolidKind::Mesh(s) => s.mesh(),
+        }
+    }
+
+    /// The triangle surface of a mesh solid; `None` for a convex primitive.
+    #[inline]
+    pub(crate) fn surface(&self) -> Option<&Surface> {
+        match &self.kind {
+            SolidKind::Mesh(s) => Some(s),
+            _ => None,
+        }
+    }
+
+    /// A point of the solid in the shape's own frame: the centre of a primitive, a corner of
+    /// a mesh. A body that lies wholly inside or wholly outside a closed surface has this
+    /// point on the same side.
+    #[inline]
+    pub(crate) fn inner_point(&self) -> Point3<f64> {
+        match &self.kind {
+            SolidKind::Mesh(s) => s.mesh().vertices()[0],
+            _ => Point3::origin(),
         }
     }
 
@@ -268,9 +281,15 @@ mod tests {
             Isometry3::identity(),
         )
         .unwrap();
-        let top = s.support().support_point(&s.body_T_shape, &Vector3::z());
+        let top = s
+            .support()
+            .unwrap()
+            .support_point(&s.body_T_shape, &Vector3::z());
         assert!((top.z - 0.2).abs() < 1e-12, "{top}");
-        let side = s.support().support_point(&s.body_T_shape, &Vector3::x());
+        let side = s
+            .support()
+            .unwrap()
+            .support_point(&s.body_T_shape, &Vector3::x());
         assert!((side.x - 0.05).abs() < 1e-12, "{side}");
     }
 
@@ -291,36 +310,19 @@ mod tests {
     }
 
     #[test]
-    fn a_mesh_is_its_vertex_hull_and_a_flat_one_is_refused() {
-        // The support point of a box's corners toward (1, 1, 1) is the far corner; a square
-        // of two triangles spans no volume.
-        // source: common practice (support function of a convex polytope)
-        use super::super::stl::{box_triangles, MeshPoints};
-        let corners: Vec<Point3<f64>> =
-            box_triangles(Vector3::zeros(), Vector3::new(0.1, 0.2, 0.3))
-                .into_iter()
-                .flatten()
-                .collect();
-        let s = Solid::new(
-            &Primitive::Hull(MeshPoints::new(corners)),
-            Isometry3::identity(),
-        )
-        .unwrap();
-        let far = s
-            .support()
-            .local_support_point(&Vector3::new(1.0, 1.0, 1.0));
-        assert!(
-            (far.coords - Vector3::new(0.1, 0.2, 0.3)).norm() < 1e-15,
-            "{far}"
-        );
-        let flat = vec![
+    fn a_flat_mesh_is_refused() {
+        // A square of two triangles (doubled to pass the reader's count) spans no volume.
+        // source: common practice (four coplanar points span no volume)
+        use super::super::stl::MeshPoints;
+        let [a, b, c, d] = [
             Point3::new(0.0, 0.0, 0.0),
             Point3::new(1.0, 0.0, 0.0),
             Point3::new(1.0, 1.0, 0.0),
             Point3::new(0.0, 1.0, 0.0),
         ];
+        let flat = vec![[a, b, c], [a, c, d], [a, c, b], [a, d, c]];
         assert!(Solid::new(
-            &Primitive::Hull(MeshPoints::new(flat)),
+            &Primitive::Mesh(MeshPoints::from_triangles(flat)),
             Isometry3::identity()
         )
         .is_none());

@@ -1,5 +1,6 @@
 //! STL meshes (binary or ASCII) for collision bodies: read with a cap on file size and
-//! triangle count, scaled to metres, kept as the vertex cloud whose convex hull is the solid.
+//! triangle count, scaled to metres, kept as the triangle list that becomes the solid's
+//! surface and the vertex cloud that bounds it.
 
 use crate::error::{Error, Result};
 use nalgebra::{Point3, Vector3};
@@ -11,29 +12,48 @@ use std::path::Path;
 pub const MAX_STL_BYTES: u64 = 64 * 1024 * 1024;
 
 /// Largest triangle count of one mesh. A collision mesh is a coarse envelope (hundreds to a
-/// few thousand triangles); 200,000 admits a detailed CAD export while keeping the convex
-/// hull's construction well under a second.
+/// few thousand triangles); 200,000 admits a detailed CAD export while keeping the mesh's
+/// bounding-volume tree construction well under a second.
 pub const MAX_STL_TRIANGLES: usize = 200_000;
 
 /// Largest coordinate (in the file's own unit, before scaling) accepted in an STL file: 1e6
 /// is a kilometre in mm; beyond, the file is broken or not a part.
 const MAX_STL_COORDINATE: f64 = 1e6;
 
-/// The vertices of a mesh in m, in the mesh's own frame.
+/// A triangle mesh in m, in the mesh's own frame: its triangles as read (corner order kept)
+/// and its distinct vertices.
 #[derive(Debug, Clone)]
 pub struct MeshPoints {
     points: Vec<Point3<f64>>,
+    triangles: Vec<[Point3<f64>; 3]>,
 }
 
 impl MeshPoints {
-    /// Vertices from a list (m). Used by the STL reader and by tests.
-    pub fn new(points: Vec<Point3<f64>>) -> Self {
-        MeshPoints { points }
+    /// A mesh from its triangles (m); the distinct vertices are gathered from them. Used by
+    /// the STL reader and by tests.
+    pub fn from_triangles(triangles: Vec<[Point3<f64>; 3]>) -> Self {
+        let mut points: Vec<Point3<f64>> = triangles.iter().flatten().copied().collect();
+        // Shared vertices appear once per triangle; bounds and the flatness test need each once.
+        points.sort_by(|a, b| {
+            a.coords
+                .iter()
+                .zip(b.coords.iter())
+                .map(|(x, y)| x.total_cmp(y))
+                .find(|o| o.is_ne())
+                .unwrap_or(std::cmp::Ordering::Equal)
+        });
+        points.dedup();
+        MeshPoints { points, triangles }
     }
 
-    /// The vertices (m).
+    /// The distinct vertices (m).
     pub fn points(&self) -> &[Point3<f64>] {
         &self.points
+    }
+
+    /// The triangles (m), corners in the file's order.
+    pub fn triangles(&self) -> &[[Point3<f64>; 3]] {
+        &self.triangles
     }
 
     /// A sphere holding every vertex: the centre of their bounding box and the largest
@@ -93,7 +113,7 @@ pub fn parse_stl(bytes: &[u8], scale: Vector3<f64>) -> std::result::Result<MeshP
     let reader = stl_io::create_stl_reader(&mut cursor).map_err(|e| {
         format!("is not a readable STL file ({e}): export the mesh as binary or ASCII STL")
     })?;
-    let mut points = Vec::new();
+    let mut triangles = Vec::new();
     for (n, triangle) in reader.enumerate() {
         if n >= MAX_STL_TRIANGLES {
             return Err(format!(
@@ -106,7 +126,8 @@ pub fn parse_stl(bytes: &[u8], scale: Vector3<f64>) -> std::result::Result<MeshP
                 n + 1
             )
         })?;
-        for v in t.vertices {
+        let mut corners = [Point3::origin(); 3];
+        for (v, corner) in t.vertices.iter().zip(corners.iter_mut()) {
             let raw = Vector3::new(v.0[0] as f64, v.0[1] as f64, v.0[2] as f64);
             if !raw
                 .iter()
@@ -118,25 +139,16 @@ pub fn parse_stl(bytes: &[u8], scale: Vector3<f64>) -> std::result::Result<MeshP
                     n + 1
                 ));
             }
-            points.push(Point3::from(raw.component_mul(&scale)));
+            *corner = Point3::from(raw.component_mul(&scale));
         }
+        triangles.push(corners);
     }
-    if points.len() < 12 {
+    if triangles.len() < 4 {
         return Err(
             "has fewer than 4 triangles, so it encloses no volume: export a closed mesh".into(),
         );
     }
-    // Shared vertices appear once per triangle; the hull needs each once.
-    points.sort_by(|a, b| {
-        a.coords
-            .iter()
-            .zip(b.coords.iter())
-            .map(|(x, y)| x.total_cmp(y))
-            .find(|o| o.is_ne())
-            .unwrap_or(std::cmp::Ordering::Equal)
-    });
-    points.dedup();
-    Ok(MeshPoints { points })
+    Ok(MeshPoints::from_triangles(triangles))
 }
 
 /// Writes a closed triangle mesh as binary STL (the demo and test generator).

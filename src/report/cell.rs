@@ -10,7 +10,7 @@ pub const CAUTIONS_WITH_CELL: [&str; 5] = [
     super::CAUTIONS[0],
     super::CAUTIONS[1],
     super::CAUTIONS[2],
-    "Collisions are checked only against the modelled geometry (the robot's collision shapes, the tool bodies and the cell bodies, STL meshes as their convex hulls); anything not modelled is ignored, as are cables and hoses, payload, forces and torques, and jerk; its speed ramps and corner blends are armpath's own model with default accelerations (URDF has none), not the controller's interpolation.",
+    "Collisions are checked only against the modelled geometry (the robot's collision shapes, the tool bodies and the cell bodies, STL meshes as their triangle surfaces); anything not modelled is ignored, as are cables and hoses, payload, forces and torques, and jerk; its speed ramps and corner blends are armpath's own model with default accelerations (URDF has none), not the controller's interpolation.",
     "Results are only as good as the robot description, tool offset and geometry, work frame and cell file given to armpath: check them against the cell.",
 ];
 

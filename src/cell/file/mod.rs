@@ -310,7 +310,7 @@ impl RawBody {
             let mesh_path = folder.join(&mesh.file);
             let points = read_stl(&mesh_path, factor * m, file, &format!("{field}.mesh.file"))?;
             mesh_file = Some((mesh_path, factor));
-            Primitive::Hull(points)
+            Primitive::Mesh(points)
         } else {
             return Err(err(
                 "",

@@ -50,8 +50,8 @@ impl RawBody {
             (None, Primitive::Sphere { radius }) => {
                 raw.sphere = Some(RawSphere { radius: l(*radius) })
             }
-            // A hull always comes from a mesh file, written above.
-            (None, Primitive::Hull(_)) => {}
+            // A mesh always comes from a mesh file, written above.
+            (None, Primitive::Mesh(_)) => {}
         }
         let t = body.anchor_T_body.translation.vector;
         raw.xyz = Some([l(t.x), l(t.y), l(t.z)]);
