@@ -5,11 +5,12 @@
 
 use super::schema::LimitsSpec;
 use super::units::{self, Units};
-use super::Overrides;
+use super::{GivenAcceleration, Job, Overrides};
 use crate::error::Error;
 use crate::motion::{
     DEFAULT_PROCESS_SPEED_TOLERANCE, DEFAULT_TCP_ACCELERATION, DEFAULT_TOOL_ANGULAR_ACCELERATION,
 };
+use crate::robot::Robot;
 use std::path::Path;
 
 /// Accepted TCP accelerations (m/s²): 1 mm/s² (anything slower is a unit mistake: a 100 mm/s
@@ -186,4 +187,78 @@ pub(super) fn joint_share(
         ));
     }
     Ok(percent / 100.0)
+}
+
+/// `limits.joint_accelerations` read from the file (values in `fu`'s units/s²), each value
+/// finite and > 0; the range of its kind is checked when the robot is known.
+pub(super) fn joint_accelerations(
+    spec: Option<&LimitsSpec>,
+    fu: &Units,
+    path: &Path,
+) -> Result<Vec<GivenAcceleration>, Error> {
+    let Some(map) = spec.and_then(|s| s.joint_accelerations.as_ref()) else {
+        return Ok(Vec::new());
+    };
+    let mut given = Vec::with_capacity(map.len());
+    for (joint, &value) in map {
+        if !(value.is_finite() && value > 0.0) {
+            return Err(Error::input(
+                path,
+                format!("limits.joint_accelerations.{joint}"),
+                format!(
+                    "is {}: give the joint's largest acceleration, greater than 0, in {}/s² \
+                     (revolute) or {}/s² (prismatic)",
+                    units::fmt_exact(value),
+                    fu.angle.name(),
+                    fu.length.name()
+                ),
+            ));
+        }
+        given.push(GivenAcceleration {
+            joint: joint.clone(),
+            value,
+        });
+    }
+    Ok(given)
+}
+
+/// See [`Job::apply_joint_accelerations`]: the ranges are those of the tool angular
+/// acceleration (revolute) and the TCP acceleration (prismatic), the same bounds on the same
+/// physical quantity.
+pub(super) fn apply_joint_accelerations(job: &Job, robot: &mut Robot) -> Result<(), Error> {
+    for g in &job.joint_accelerations {
+        let at = |m: String| {
+            Error::input(
+                &job.source,
+                format!("limits.joint_accelerations.{}", g.joint),
+                m,
+            )
+        };
+        let Some(index) = robot.joints().iter().position(|j| j.name == g.joint) else {
+            let names: Vec<&str> = robot.joints().iter().map(|j| j.name.as_str()).collect();
+            return Err(at(format!(
+                "the robot has no movable joint '{}': name one of {}",
+                g.joint.escape_debug(),
+                names.join(", ")
+            )));
+        };
+        let u = &job.units;
+        let si = if robot.joints()[index].kind.is_prismatic() {
+            let what = "a prismatic joint's largest acceleration";
+            acceleration(
+                g.value,
+                u.length_to_m(),
+                u.length.name(),
+                what,
+                TCP_ACCELERATION_RANGE_M_S2,
+            )
+        } else {
+            let range = TOOL_ANGULAR_ACCELERATION_RANGE_RAD_S2;
+            let what = "a revolute joint's largest acceleration";
+            acceleration(g.value, u.angle_to_rad(), u.angle.name(), what, range)
+        }
+        .map_err(at)?;
+        robot.set_joint_acceleration(index, si);
+    }
+    Ok(())
 }
