@@ -90,7 +90,7 @@ const LIMIT: &str =
     "<axis xyz=\"0 0 1\"/><limit lower=\"-1\" upper=\"1\" effort=\"1\" velocity=\"1\"/>";
 
 /// Size of the catalogue when its last case was added; it may only grow.
-const FLOOR: usize = 142;
+const FLOOR: usize = 154;
 
 /// A valid path file head: robot and speed (2 lines), then whatever follows.
 const HEAD: &str = "robot: arm6.urdf\nspeed: 20\n";
@@ -374,6 +374,9 @@ fn cases() -> Vec<Case> {
         case("yaml: zero TCP acceleration", vec![yaml(&format!("{HEAD}limits: {{tcp_acceleration: 0}}\n{TWO}"))], &["check", "path.yaml"], &["path.yaml: limits.tcp_acceleration:", "greater than 0", "mm/s²"]),
         case("yaml: tool angular acceleration out of range", vec![yaml(&format!("{HEAD}limits: {{tool_angular_acceleration: 1e9}}\n{TWO}"))], &["check", "path.yaml"], &["path.yaml: limits.tool_angular_acceleration:", "outside the accepted range", "deg/s²"]),
         case("yaml: joint acceleration scale out of range", vec![yaml(&format!("{HEAD}limits: {{joint_acceleration_scale: 1e6}}\n{TWO}"))], &["check", "path.yaml"], &["path.yaml: limits.joint_acceleration_scale:", "from 0.001 to 1000"]),
+        case("yaml: joint acceleration for an unknown joint", vec![yaml(&format!("{HEAD}limits: {{joint_accelerations: {{elbow: 100}}}}\n{TWO}"))], &["check", "path.yaml"], &["path.yaml: limits.joint_accelerations.elbow:", "no movable joint 'elbow'", "name one of j1"]),
+        case("yaml: zero joint acceleration", vec![yaml(&format!("{HEAD}limits: {{joint_accelerations: {{j2: 0}}}}\n{TWO}"))], &["check", "path.yaml"], &["path.yaml: limits.joint_accelerations.j2:", "greater than 0", "deg/s²"]),
+        case("yaml: joint acceleration out of range", vec![yaml(&format!("{HEAD}limits: {{joint_accelerations: {{j2: 1e12}}}}\n{TWO}"))], &["check", "path.yaml"], &["path.yaml: limits.joint_accelerations.j2:", "outside the accepted range", "deg/s²"]),
         case("yaml: process speed tolerance of 1", vec![yaml(&format!("{HEAD}limits: {{process_speed_tolerance: 1}}\n{TWO}"))], &["check", "path.yaml"], &["path.yaml: limits.process_speed_tolerance:", "not including) 1"]),
         case("yaml: negative blend", vec![yaml(&format!("{HEAD}waypoints:\n  - {{xyz: [900, 0, 500], rpy: [180, 0, 0]}}\n  - {{xyz: [900, 100, 500], rpy: [180, 0, 0], blend: -5}}\n"))], &["check", "path.yaml"], &["path.yaml: waypoints[1].blend:", "corner radius of 0"]),
         case("yaml: joint share on a linear move", vec![yaml(&format!("{HEAD}waypoints:\n  - {{xyz: [900, 0, 500], rpy: [180, 0, 0]}}\n  - {{xyz: [900, 100, 500], rpy: [180, 0, 0], speed: 50%}}\n"))], &["check", "path.yaml"], &["path.yaml: waypoints[1].speed:", "only a joint move takes", "motion: joint"]),
@@ -407,6 +410,15 @@ fn cases() -> Vec<Case> {
         case("cli: --speed as text", vec![good()], &["check", "good.yaml", "--speed", "abc"], &["'--speed <V>'", "see `armpath check --help`"]),
         case("cli: negative --angle-step", vec![good()], &["check", "good.yaml", "--angle-step", "-1"], &["--angle-step:", "greater than 0"]),
         case("cli: zero --step", vec![good()], &["check", "good.yaml", "--step", "0"], &["--step:", "greater than 0"]),
+        case("cli: zero --tcp-acceleration", vec![good()], &["check", "good.yaml", "--tcp-acceleration", "0"], &["--tcp-acceleration:", "greater than 0", "mm/s²"]),
+        case("cli: --tcp-acceleration out of range", vec![good()], &["check", "good.yaml", "--tcp-acceleration", "1e9"], &["--tcp-acceleration:", "outside the accepted range", "mm/s²"]),
+        case("cli: negative --tool-angular-acceleration", vec![good()], &["check", "good.yaml", "--tool-angular-acceleration", "-5"], &["--tool-angular-acceleration:", "greater than 0", "deg/s²"]),
+        case("cli: --tool-angular-acceleration out of range", vec![good()], &["check", "good.yaml", "--tool-angular-acceleration", "1e9"], &["--tool-angular-acceleration:", "outside the accepted range", "deg/s²"]),
+        case("cli: --joint-acceleration-scale out of range", vec![good()], &["check", "good.yaml", "--joint-acceleration-scale", "0"], &["--joint-acceleration-scale:", "from 0.001 to 1000"]),
+        case("cli: --process-speed-tolerance of 1", vec![good()], &["check", "good.yaml", "--process-speed-tolerance", "1"], &["--process-speed-tolerance:", "not including) 1"]),
+        case("cli: negative --process-speed-tolerance", vec![good()], &["check", "good.yaml", "--process-speed-tolerance", "-0.1"], &["--process-speed-tolerance:", "from 0 up to"]),
+        case("cli: zero --clearance", vec![good()], &["check", "good.yaml", "--clearance", "0"], &["--clearance:", "greater than 0", "mm"]),
+        case("cli: csv with a bad --tcp-acceleration", vec![csv(&format!("{CSV_HEAD}{CSV_ROW}900,100,500,180,0,0\n"))], &[&CSV_ARGS[..], &["--tcp-acceleration", "-1"]].concat(), &["--tcp-acceleration:", "greater than 0"]),
         case("cli: --joint-speed-scale above 1", vec![good()], &["check", "good.yaml", "--joint-speed-scale", "1.5"], &["--joint-speed-scale:", "above 1", "(0, 1]"]),
         case(
             "cli: unknown unit in --units",

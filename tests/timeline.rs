@@ -168,6 +168,61 @@ fn a_fast_roll_start_is_a_joint_acceleration_error() {
 }
 
 #[test]
+fn a_given_joint_acceleration_replaces_the_default_rule_for_that_joint_only() {
+    // The roll above accelerates j6 alone at 1000 deg/s². Given j6: 500 deg/s², the limit is
+    // 500 whatever joint_acceleration_scale says (0.5 would make the default 420), so the
+    // finding reads 1000 against 500; given 1200 the roll passes although the scale-0.5
+    // default (420) would refuse it. Naming a joint the robot lacks is refused with the
+    // robot's joint names.
+    // source: robots/arm6.urdf (j6 velocity 420 deg/s, joints j1..j6); common practice
+    // (constant acceleration)
+    let head = |given: &str| {
+        format!(
+            "orientation_speed: 60\nlimits: {{tool_angular_acceleration: 1000, \
+             joint_acceleration_scale: 0.5, joint_accelerations: {{{given}}}}}\n"
+        )
+    };
+    let (_d, file) = path_file(&roll(&head("j6: 500"), ""));
+    let (code, report) = check_json(&file, &[]);
+    assert_eq!(code, 1, "{report:#}");
+    let f = findings(&report, "joint_acceleration");
+    assert!(!f.is_empty() && f.iter().all(|f| f["joint"] == "j6"));
+    assert!((f64_of(&f[0]["value"]) - 1000.0).abs() < 1e-6, "{:#}", f[0]);
+    assert!((f64_of(&f[0]["limit"]) - 500.0).abs() < 1e-9, "{:#}", f[0]);
+    let message = f[0]["message"].as_str().unwrap_or_default();
+    assert!(
+        message.contains("given in limits.joint_accelerations"),
+        "{message}"
+    );
+    assert_eq!(report["path"]["joint_accelerations_given"][0], "j6");
+    let text = armpath().arg("check").arg(&file).output().unwrap();
+    let text = String::from_utf8_lossy(&text.stdout);
+    assert!(
+        text.contains("given in the path file for j6; the default above for the others"),
+        "{text}"
+    );
+
+    let (_d2, file2) = path_file(&roll(&head("j6: 1200"), ""));
+    let (code2, report2) = check_json(&file2, &[]);
+    assert!(
+        findings(&report2, "joint_acceleration").is_empty(),
+        "{report2:#}"
+    );
+    assert_eq!(code2, 0);
+
+    let (_d3, file3) = path_file(&roll(&head("j7: 100"), ""));
+    let out = armpath().arg("check").arg(&file3).output().unwrap();
+    assert_eq!(out.status.code(), Some(2));
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert!(
+        err.contains("limits.joint_accelerations.j7")
+            && err.contains("no movable joint 'j7'")
+            && err.contains("j1, j2, j3, j4, j5, j6"),
+        "{err}"
+    );
+}
+
+#[test]
 fn the_html_report_plots_tcp_speed_and_joint_acceleration_over_time() {
     // The trapezoid line of the first test: its TCP speed plot runs against t up to 3.2 s
     // with the job speed drawn as a rule; the acceleration plot labels each joint with its

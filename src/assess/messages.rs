@@ -166,6 +166,20 @@ pub(super) fn finding(robot: &Robot, job: &Job, plan: &Plan, run: &Run) -> Findi
                 factor
             )
         }
+        Kind::JointAcceleration
+            if run
+                .joint
+                .is_some_and(|k| robot.joints()[k].acceleration.is_some()) =>
+        {
+            format!(
+                "{jn} would accelerate at {} ({:.2}× its allowed {}, given in \
+                 limits.joint_accelerations): blend the corner (blend: radius), lower \
+                 limits.tcp_acceleration, slow the segment, or avoid the pose that makes {jn} fast",
+                show(q, run.value),
+                run.value / run.limit.max(f64::MIN_POSITIVE),
+                show(q, run.limit)
+            )
+        }
         Kind::JointAcceleration => format!(
             "{jn} would accelerate at {} ({:.2}× its allowed {}; URDF has no accelerations: the limit is armpath's \
              default, {} × the URDF speed limit per second × limits.joint_acceleration_scale): blend the corner (blend: radius), lower \

@@ -11,7 +11,6 @@ mod messages;
 pub use finding::{Finding, Kind, Quantity, Severity};
 
 use crate::job::{Job, Motion};
-use crate::motion::joint_acceleration_limit;
 use crate::plan::Plan;
 pub use crate::robot::DEFAULT_SINGULARITY_THRESHOLD;
 
@@ -453,7 +452,7 @@ impl SampleSink for Assessor<'_> {
             if ratio > 1.0 + SPEED_TOLERANCE {
                 self.raise(rec, Flag::new(Kind::JointSpeed, Some(k), ratio, v, allowed));
             }
-            let allowed_acc = joint_acceleration_limit(j.velocity, limits.joint_acceleration_scale);
+            let allowed_acc = j.acceleration_limit(limits.joint_acceleration_scale);
             let acc = rec.joint_acceleration[k].abs();
             let acc_ratio = acc / allowed_acc;
             if acc_ratio > self.extremes.max_joint_acceleration_ratio {

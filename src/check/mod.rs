@@ -78,6 +78,7 @@ pub fn check(
     let unit_hint = metres_look_like_mm(job, robot);
     let mut robot = robot.clone();
     robot.set_tool(job.tool.tip_T_tcp);
+    job.apply_joint_accelerations(&mut robot)?;
     let start_si = match &job.start_joints {
         Some(sj) => Some(
             sj.to_si(&robot.prismatic_mask())

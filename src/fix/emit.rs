@@ -175,6 +175,13 @@ pub fn spec(job: &Job) -> Result<PathFileSpec, Error> {
         process_speed_tolerance: Some(lim.process_speed_tolerance),
         // The clearance matters only with a cell model.
         clearance: has_cell_model.then(|| length(lim.clearance)),
+        // Given joint accelerations are kept as written (the job's units are the file's).
+        joint_accelerations: (!job.joint_accelerations.is_empty()).then(|| {
+            job.joint_accelerations
+                .iter()
+                .map(|g| (g.joint.clone(), g.value))
+                .collect()
+        }),
     };
     let sampling = SamplingSpec {
         step: Some(length(job.sampling.step)),

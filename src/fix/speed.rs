@@ -33,7 +33,6 @@
 //! inside the limit. Below 1 mm/s three significant digits are kept instead.
 
 use crate::job::{Job, Motion};
-use crate::motion::joint_acceleration_limit;
 use crate::plan::Plan;
 use crate::robot::Robot;
 use crate::solve::{SampleRecord, SampleSink};
@@ -110,7 +109,7 @@ impl SampleSink for RatioSink {
         }
         if let Some(acc) = self.worst_acceleration.get_mut(rec.segment) {
             for (k, j) in robot.joints().iter().enumerate() {
-                let allowed = joint_acceleration_limit(j.velocity, self.joint_acceleration_scale);
+                let allowed = j.acceleration_limit(self.joint_acceleration_scale);
                 let a = rec.joint_acceleration[k].abs() / allowed;
                 if a.is_finite() && a > acc.0 {
                     *acc = (a, Some(k));

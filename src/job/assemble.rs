@@ -445,6 +445,8 @@ fn build(
         Quantity::AngularSpeed,
     )?;
     let limits = cx.limits(spec.limits.as_ref(), ov)?;
+    let joint_accelerations =
+        super::motion_keys::joint_accelerations(spec.limits.as_ref(), &fu, path)?;
     let sampling = cx.sampling(spec.sampling.as_ref(), ov)?;
     let tool = cx.tool(spec.tool.as_ref(), ov)?;
 
@@ -531,5 +533,6 @@ fn build(
         move_keys: std::sync::Arc::new(move_keys),
         warnings,
         cell: cell.map(std::sync::Arc::new),
+        joint_accelerations,
     })
 }

@@ -674,6 +674,11 @@ mod tests {
             units_length: Some("m".into()),
             units_angle: Some("rad".into()),
             speed: Some(0.5),
+            tcp_acceleration: Some(4.0),
+            tool_angular_acceleration: Some(6.0),
+            joint_acceleration_scale: Some(3.0),
+            process_speed_tolerance: Some(0.02),
+            clearance: Some(0.015),
             ..overrides()
         };
         let text = "x,y,z,rx,ry,rz,speed\n0,0,0,0,0,0,\n2,0,0,0,0,1.5707963267948966,0.25\n";
@@ -683,6 +688,13 @@ mod tests {
         assert_eq!(job.waypoints[1].work_T_tcp.translation.x, 2.0);
         assert_eq!(job.waypoints[1].speed, Some(0.25));
         assert_eq!(job.units.length.name(), "m");
+        // The timing limits come from the flags too, in the flags' units (m/s², rad/s²).
+        // source: SI definitions
+        assert_eq!(job.limits.tcp_acceleration, 4.0);
+        assert_eq!(job.limits.tool_angular_acceleration, 6.0);
+        assert_eq!(job.limits.joint_acceleration_scale, 3.0);
+        assert_eq!(job.limits.process_speed_tolerance, 0.02);
+        assert_eq!(job.limits.clearance, 0.015);
         // source: Rodrigues' formula (Lynch & Park 2017, eq. 3.51): [0, 0, π/2] is Rz(π/2)
         assert_relative_eq!(
             job.waypoints[1]

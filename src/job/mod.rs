@@ -146,6 +146,18 @@ pub struct Limits {
     pub clearance: f64,
 }
 
+/// An acceleration limit the path file gives one joint (`limits.joint_accelerations`). The
+/// joint's kind, and so the value's unit, is known only with the robot: the value stays in
+/// the job's [`Units`] until [`Job::apply_joint_accelerations`].
+#[derive(Debug, Clone, PartialEq)]
+pub struct GivenAcceleration {
+    /// The joint's name as written.
+    pub joint: String,
+    /// The value as written, > 0, in the job's angle unit/s² (revolute) or length unit/s²
+    /// (prismatic).
+    pub value: f64,
+}
+
 /// Sampling density along the path.
 #[derive(Debug, Clone, Copy)]
 pub struct Sampling {
@@ -313,11 +325,23 @@ pub struct Job {
     pub move_keys: Arc<Vec<crate::motion::MoveKey>>,
     /// Problems in the input that armpath worked around, in the order found.
     pub warnings: Vec<InputWarning>,
+    /// Acceleration limits the path file gives single joints (`limits.joint_accelerations`),
+    /// sorted by name; apply them with [`Job::apply_joint_accelerations`]. Empty: every joint
+    /// follows the default rule.
+    pub joint_accelerations: Vec<GivenAcceleration>,
     /// The cell file, when the path file names one (`cell:`) or `--cell` is given.
     pub cell: Option<std::sync::Arc<crate::cell::CellFile>>,
 }
 
 impl Job {
+    /// Give `robot`'s joints the accelerations of `limits.joint_accelerations`, each by its
+    /// kind (angle or length unit/s²). A name the robot lacks is an error at
+    /// `limits.joint_accelerations.<name>` listing the robot's joint names, and so is a value
+    /// outside the accepted range of its kind.
+    pub fn apply_joint_accelerations(&self, robot: &mut crate::robot::Robot) -> Result<(), Error> {
+        motion_keys::apply_joint_accelerations(self, robot)
+    }
+
     /// Name of waypoint `i` (given or `wp<i + 1>`), empty past the last.
     pub fn waypoint_name(&self, i: usize) -> String {
         self.names

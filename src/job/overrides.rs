@@ -45,6 +45,19 @@ pub struct Overrides {
     pub step: Option<f64>,
     /// Largest orientation step between samples, angle unit, > 0.
     pub angle_step: Option<f64>,
+    /// Largest TCP acceleration, length unit/s², replaces `limits.tcp_acceleration`.
+    pub tcp_acceleration: Option<f64>,
+    /// Largest tool angular acceleration, angle unit/s², replaces
+    /// `limits.tool_angular_acceleration`.
+    pub tool_angular_acceleration: Option<f64>,
+    /// Factor on the default joint accelerations, replaces `limits.joint_acceleration_scale`.
+    pub joint_acceleration_scale: Option<f64>,
+    /// Share of the programmed speed a process segment may lose, in [0, 1), replaces
+    /// `limits.process_speed_tolerance`.
+    pub process_speed_tolerance: Option<f64>,
+    /// Smallest gap kept between bodies of the cell model, length unit, replaces
+    /// `limits.clearance`.
+    pub clearance: Option<f64>,
     /// Cell file, used as given (relative to the working directory); replaces `cell:`.
     pub cell: Option<PathBuf>,
 }

@@ -185,7 +185,7 @@ pub struct ConfigSpec {
 #[derive(Debug, Deserialize, Serialize)]
 #[serde(
     deny_unknown_fields,
-    expecting = "limits: a mapping with tool_angular_speed, joint_speed_scale, near_limit_margin, clearance"
+    expecting = "limits: a mapping with tool_angular_speed, joint_speed_scale, near_limit_margin, clearance, joint_accelerations"
 )]
 pub struct LimitsSpec {
     /// `tool_angular_speed: <number>`: largest tool angular speed, angle unit per second, > 0.
@@ -224,6 +224,12 @@ pub struct LimitsSpec {
     /// warning when the check tests collisions. Default 10 mm.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub clearance: Option<f64>,
+    /// `joint_accelerations: {<joint name>: <number>, ...}`: acceleration limits of the named
+    /// joints, angle unit/s² for revolute joints and length unit/s² for prismatic ones, > 0.
+    /// Checked against the robot's joint names when the check starts; joints not named keep
+    /// the default rule (see `joint_acceleration_scale`, which does not touch given values).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub joint_accelerations: Option<std::collections::BTreeMap<String, f64>>,
 }
 
 /// `near_limit_margin`: one number for both joint kinds, or separate values.

@@ -304,6 +304,11 @@ fn overrides_win_and_use_their_own_units() {
         joint_speed_scale: Some(0.5),
         step: Some(0.004),
         angle_step: Some(2.0),
+        tcp_acceleration: Some(1.5),
+        tool_angular_acceleration: Some(180.0),
+        joint_acceleration_scale: Some(0.5),
+        process_speed_tolerance: Some(0.1),
+        clearance: Some(0.02),
         cell: None,
     };
     let text = format!(
@@ -334,9 +339,58 @@ fn overrides_win_and_use_their_own_units() {
     assert_eq!(job.limits.joint_speed_scale, 0.5);
     assert_eq!(job.sampling.step, 0.004);
     assert_relative_eq!(job.sampling.angle_step, PI / 90.0, epsilon = 1e-15);
+    // source: SI definitions; timing limits in the override units too (m/s², deg/s²)
+    assert_eq!(job.limits.tcp_acceleration, 1.5);
+    assert_relative_eq!(job.limits.tool_angular_acceleration, PI, epsilon = 1e-15);
+    assert_eq!(job.limits.joint_acceleration_scale, 0.5);
+    assert_eq!(job.limits.process_speed_tolerance, 0.1);
+    assert_eq!(job.limits.clearance, 0.02);
     // The file's own values keep the file's units (mm): --units never rescales the file.
     assert_eq!(job.units, Units::default());
     assert_relative_eq!(job.waypoints[1].work_T_tcp.translation.vector.x, 0.1);
+}
+
+#[test]
+fn timing_flags_win_over_the_file_which_is_still_checked() {
+    let file = "limits: {tcp_acceleration: 500, tool_angular_acceleration: 90, \
+                joint_acceleration_scale: 2, process_speed_tolerance: 0.2, clearance: 4}\n";
+    let ov = Overrides {
+        tcp_acceleration: Some(3000.0),
+        tool_angular_acceleration: Some(360.0),
+        joint_acceleration_scale: Some(0.25),
+        process_speed_tolerance: Some(0.0),
+        clearance: Some(7.0),
+        ..Default::default()
+    };
+    let job = load_with(&format!("{HEAD}{file}{TWO}"), &ov).unwrap();
+    // source: SI definitions (mm → m, deg → rad); override units default to mm and deg
+    assert_relative_eq!(job.limits.tcp_acceleration, 3.0, epsilon = 1e-15);
+    assert_relative_eq!(
+        job.limits.tool_angular_acceleration,
+        2.0 * PI,
+        epsilon = 1e-15
+    );
+    assert_eq!(job.limits.joint_acceleration_scale, 0.25);
+    assert_eq!(job.limits.process_speed_tolerance, 0.0);
+    assert_relative_eq!(job.limits.clearance, 0.007, epsilon = 1e-15);
+    // Without the flags the file's values hold.
+    let job = load_text(&format!("{HEAD}{file}{TWO}")).unwrap();
+    // source: SI definitions
+    assert_relative_eq!(job.limits.tcp_acceleration, 0.5, epsilon = 1e-15);
+    assert_relative_eq!(
+        job.limits.tool_angular_acceleration,
+        PI / 2.0,
+        epsilon = 1e-15
+    );
+    assert_eq!(job.limits.joint_acceleration_scale, 2.0);
+    assert_eq!(job.limits.process_speed_tolerance, 0.2);
+    assert_relative_eq!(job.limits.clearance, 0.004, epsilon = 1e-15);
+    // A bad file value is refused at its key even when a flag replaces it.
+    let bad = format!("{HEAD}limits: {{process_speed_tolerance: 1}}\n{TWO}");
+    let (location, message) = input_err(load_with(&bad, &ov));
+    // source: common practice (the file stays valid on its own)
+    assert_eq!(location, "limits.process_speed_tolerance");
+    assert!(message.contains("not including) 1"), "{message}");
 }
 
 #[test]

@@ -215,6 +215,9 @@ pub struct PathReport {
     /// Multiplies the default joint accelerations (URDF has none: each joint's default is
     /// [`crate::motion::JOINT_ACCELERATION_PER_SPEED`] times its speed limit per second).
     pub joint_acceleration_scale: f64,
+    /// Joints whose acceleration limit the path file gives (`limits.joint_accelerations`), in
+    /// name order; every other joint follows the default rule. Empty when none is given.
+    pub joint_accelerations_given: Vec<String>,
     /// Share of the programmed speed a process segment may lose before a warning.
     pub process_speed_tolerance: f64,
     /// Time each of the first [`SEGMENT_TABLE_ROWS`] segments takes as run (s), in path
@@ -392,6 +395,12 @@ impl Report {
                     .tool_angular_acceleration
                     .to_degrees(),
                 joint_acceleration_scale: o.job.limits.joint_acceleration_scale,
+                joint_accelerations_given: o
+                    .job
+                    .joint_accelerations
+                    .iter()
+                    .map(|g| g.joint.clone())
+                    .collect(),
                 process_speed_tolerance: o.job.limits.process_speed_tolerance,
                 segment_durations_s: o.segment_durations.clone(),
                 start: StartReport {

@@ -53,6 +53,15 @@ fn timing_lines(o: &mut String, report: &Report) {
         crate::motion::JOINT_ACCELERATION_PER_SPEED,
         p.joint_acceleration_scale
     );
+    if !p.joint_accelerations_given.is_empty() {
+        let names: Vec<_> = p.joint_accelerations_given.iter().map(|n| v(n)).collect();
+        let _ = writeln!(
+            o,
+            "  joint accelerations   given in the path file for {}; the default above for the \
+             others",
+            names.join(", ")
+        );
+    }
     let times: Vec<String> = p
         .segment_durations_s
         .iter()

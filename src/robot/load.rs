@@ -484,6 +484,7 @@ fn build(urdf: &urdf_rs::Robot, path: &Path, tip: Option<&str>, sites: &Sites) -
             lower,
             upper,
             velocity: lim.velocity,
+            acceleration: None,
         });
     }
     if joints.is_empty() {

@@ -37,6 +37,10 @@ pub struct JointInfo {
     pub upper: f64,
     /// Velocity limit (rad/s or m/s), > 0.
     pub velocity: f64,
+    /// Acceleration limit given for this joint by the path file (rad/s² or m/s², > 0); `None`
+    /// (URDF has none) keeps the default rule of [`crate::motion::joint_acceleration_limit`].
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub acceleration: Option<f64>,
 }
 
 impl JointInfo {
@@ -45,6 +49,15 @@ impl JointInfo {
     #[inline]
     pub fn contains(&self, q: f64) -> bool {
         q >= self.lower - 1e-12 && q <= self.upper + 1e-12
+    }
+
+    /// The acceleration limit the check applies (rad/s² or m/s²): the given one, else the
+    /// default rule from the velocity limit times `scale` (`limits.joint_acceleration_scale`,
+    /// which does not touch given values).
+    #[inline]
+    pub fn acceleration_limit(&self, scale: f64) -> f64 {
+        self.acceleration
+            .unwrap_or_else(|| crate::motion::joint_acceleration_limit(self.velocity, scale))
     }
 
     /// Distance from `q` to the nearer limit (negative outside the range, +∞ for continuous).
@@ -125,6 +138,14 @@ impl Robot {
     pub fn links(&self) -> &[LinkMount] {
         &self.links
     }
+    /// Give joint `index` its own acceleration limit (rad/s² or m/s²), replacing the default
+    /// rule; an index past the last joint changes nothing.
+    pub fn set_joint_acceleration(&mut self, index: usize, acceleration: f64) {
+        if let Some(j) = self.joints.get_mut(index) {
+            j.acceleration = Some(acceleration);
+        }
+    }
+
     /// Mount a tool: TCP pose in the tip-link frame.
     pub fn set_tool(&mut self, tip_T_tcp: Isometry3<f64>) {
         self.chain.set_tool(tip_T_tcp);

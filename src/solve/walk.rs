@@ -8,7 +8,7 @@ use super::{WalkTotals, RECOVER_EVERY};
 use crate::ik::analytic::{Config, OrthoParallel};
 use crate::ik::{IkOptions, NumericIk};
 use crate::job::{Job, Motion};
-use crate::motion::{joint_acceleration_limit, SyncedMove};
+use crate::motion::SyncedMove;
 use crate::plan::{Plan, Segment};
 use crate::robot::{Jacobian, Joints, Robot, SingularityModel};
 use crate::rotation;
@@ -245,7 +245,7 @@ impl<'a> Walker<'a> {
         for (i, j) in self.robot.joints().iter().enumerate() {
             delta[i] = q1[i] - q0[i];
             speed[i] = j.velocity * limits.joint_speed_scale;
-            accel[i] = joint_acceleration_limit(j.velocity, limits.joint_acceleration_scale);
+            accel[i] = j.acceleration_limit(limits.joint_acceleration_scale);
             let step = if j.kind.is_prismatic() {
                 self.job.sampling.step
             } else {

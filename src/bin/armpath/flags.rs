@@ -145,6 +145,25 @@ pub struct SettingFlags {
     /// Fraction of each joint's URDF velocity that may be used, in (0, 1].
     #[arg(long, value_name = "F", allow_negative_numbers = true)]
     pub joint_speed_scale: Option<f64>,
+    /// Largest TCP acceleration, length unit/s² (replaces `limits.tcp_acceleration`).
+    #[arg(long, value_name = "A", allow_negative_numbers = true)]
+    pub tcp_acceleration: Option<f64>,
+    /// Largest tool angular acceleration, angle unit/s² (replaces
+    /// `limits.tool_angular_acceleration`).
+    #[arg(long, value_name = "A", allow_negative_numbers = true)]
+    pub tool_angular_acceleration: Option<f64>,
+    /// Factor on the default joint accelerations, 0.001 to 1000 (replaces
+    /// `limits.joint_acceleration_scale`).
+    #[arg(long, value_name = "F", allow_negative_numbers = true)]
+    pub joint_acceleration_scale: Option<f64>,
+    /// Share of the programmed speed a process segment may lose, in [0, 1) (replaces
+    /// `limits.process_speed_tolerance`).
+    #[arg(long, value_name = "F", allow_negative_numbers = true)]
+    pub process_speed_tolerance: Option<f64>,
+    /// Smallest gap kept between bodies of the cell model, length unit (replaces
+    /// `limits.clearance`).
+    #[arg(long, value_name = "D", allow_negative_numbers = true)]
+    pub clearance: Option<f64>,
     /// Largest TCP step between samples, length unit.
     #[arg(long, value_name = "D", allow_negative_numbers = true)]
     pub step: Option<f64>,
@@ -191,6 +210,11 @@ impl SettingFlags {
             joint_speed_scale: self.joint_speed_scale,
             step: self.step,
             angle_step: self.angle_step,
+            tcp_acceleration: self.tcp_acceleration,
+            tool_angular_acceleration: self.tool_angular_acceleration,
+            joint_acceleration_scale: self.joint_acceleration_scale,
+            process_speed_tolerance: self.process_speed_tolerance,
+            clearance: self.clearance,
             cell: self.cell.clone(),
         };
         let mut options = CheckOptions::default();

@@ -17,7 +17,7 @@ start_joints_seed: true
 config: {shoulder: front, elbow: up, wrist: noflip}
 speed: 20.3
 orientation_speed: 30
-limits: {tool_angular_speed: 120, joint_speed_scale: 0.8, near_limit_margin: {angle: 3, length: 2.5}, tcp_acceleration: 1500.5, tool_angular_acceleration: 400, joint_acceleration_scale: 0.7, process_speed_tolerance: 0.1}
+limits: {tool_angular_speed: 120, joint_speed_scale: 0.8, near_limit_margin: {angle: 3, length: 2.5}, tcp_acceleration: 1500.5, tool_angular_acceleration: 400, joint_acceleration_scale: 0.7, process_speed_tolerance: 0.1, joint_accelerations: {j2: 250.5, j5: 900}}
 sampling: {step: 0.7, angle_step: 0.3}
 waypoints:
   - {name: approach, xyz: [0, 0, 60], rpy: [180, 0, 0]}
@@ -160,6 +160,11 @@ fn assert_same_job(a: &Job, b: &Job, rel: f64) {
         0.0,
         "process_speed_tolerance",
     );
+    // Given joint accelerations stay in the file's units, so they come back exactly.
+    assert_eq!(
+        a.joint_accelerations, b.joint_accelerations,
+        "joint_accelerations"
+    );
     assert_eq!(a.move_keys.len(), b.move_keys.len(), "move keys");
     for (i, (x, y)) in a.move_keys.iter().zip(b.move_keys.iter()).enumerate() {
         close(x.blend, y.blend, rel, &format!("waypoints[{i}].blend"));
@@ -240,6 +245,10 @@ fn every_key_round_trips_through_the_written_file() {
     for k in ["xyz", "quat", "free_spin", "spin_range", "spin_rate"] {
         assert!(tool.contains_key(k), "tool.{k}\n{written}");
     }
+    let given = &yaml["limits"]["joint_accelerations"];
+    // source: the EVERY_KEY_MM_DEG text above
+    assert_eq!(given["j2"].as_f64(), Some(250.5), "{written}");
+    assert_eq!(given["j5"].as_f64(), Some(900.0), "{written}");
     let waypoints = yaml["waypoints"].as_sequence().unwrap();
     for k in ["name", "xyz", "quat", "motion", "speed", "process"] {
         let given = waypoints

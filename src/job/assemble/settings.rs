@@ -133,21 +133,17 @@ impl Ctx<'_> {
             }
         }
         let (tcp_acceleration, tool_angular_acceleration, joint_acceleration_scale, tolerance) =
-            super::super::motion_keys::limits(spec, &self.fu, self.path)?;
-        let clearance = match spec.and_then(|l| l.clearance) {
-            None => DEFAULT_CLEARANCE_MM * 1e-3,
-            Some(v) => {
-                let (si, unit) = Quantity::Length.unit(fu);
-                positive(
-                    v,
-                    At::File(self.path, "limits.clearance"),
-                    "the clearance",
-                    &unit,
-                    si,
-                    Quantity::Length.range(),
-                )? * si
-            }
-        };
+            super::super::motion_keys::limits(spec, &self.fu, self.path, ov, &self.ou)?;
+        let clearance = self
+            .pick(
+                spec.and_then(|l| l.clearance),
+                "limits.clearance",
+                ov.clearance,
+                "--clearance",
+                "the clearance",
+                Quantity::Length,
+            )?
+            .unwrap_or(DEFAULT_CLEARANCE_MM * 1e-3);
         Ok(Limits {
             clearance,
             tool_angular_speed,

@@ -266,8 +266,7 @@ impl PlotData {
             .zip(robot.joints())
         {
             *a = j.velocity * self.joint_speed_scale;
-            *acc =
-                crate::motion::joint_acceleration_limit(j.velocity, self.joint_acceleration_scale);
+            *acc = j.acceleration_limit(self.joint_acceleration_scale);
         }
         self.allowed = allowed;
         self.allowed_acc = allowed_acc;

@@ -388,11 +388,20 @@ fn timing_plots(report: &Report, data: &PlotData, ax: &AxisData) -> [Result<Figu
     );
     acc.rules.push(Rule {
         y: 1.0,
-        label: format!(
-            "1.0 = allowed acceleration ({} × URDF velocity per s × {}, armpath's default)",
-            crate::motion::JOINT_ACCELERATION_PER_SPEED,
-            super::nice(report.path.joint_acceleration_scale)
-        ),
+        label: {
+            let given = &report.path.joint_accelerations_given;
+            let rest = if given.is_empty() {
+                String::new()
+            } else {
+                format!("; given in the path file for {}", given.join(", "))
+            };
+            format!(
+                "1.0 = allowed acceleration ({} × URDF velocity per s × {}, armpath's \
+                 default{rest})",
+                crate::motion::JOINT_ACCELERATION_PER_SPEED,
+                super::nice(report.path.joint_acceleration_scale)
+            )
+        },
     });
     [plots::s_plot(&tcp), plots::s_plot(&acc)]
 }
