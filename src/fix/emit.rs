@@ -23,7 +23,7 @@ use crate::job::schema::{
     SpeedSpec, SplitMargin, ToolSpec, UnitsSpec, WaypointSpec, WaypointsSpec,
 };
 use crate::job::{Job, Motion, Units};
-pub use crate::units::file_value;
+use crate::units::file_value;
 use nalgebra::Isometry3;
 use std::fmt::Write;
 

@@ -80,6 +80,15 @@ pub struct RobotReport {
 }
 
 impl RobotReport {
+    /// The wrist as the reports name it: `spherical` or `offset`.
+    pub fn wrist_kind(&self) -> &'static str {
+        if self.spherical_wrist {
+            "spherical"
+        } else {
+            "offset"
+        }
+    }
+
     /// The robot's description converted to display units.
     pub fn new(robot: &Robot) -> Self {
         RobotReport {

@@ -98,11 +98,7 @@ pub fn render_text(report: &Report, style: Style) -> String {
         v(&r.name),
         count(r.dof, "joint"),
         v(&r.tip_link),
-        if r.spherical_wrist {
-            "spherical"
-        } else {
-            "offset"
-        },
+        r.wrist_kind(),
         r.reach_mm
     );
     let joints: Vec<String> = r

@@ -28,11 +28,7 @@ pub(super) fn settings(o: &mut String, report: &Report, data: &PlotData) {
         escape(&r.root_link),
         escape(&r.tip_link),
         count(r.dof, "joint"),
-        if r.spherical_wrist {
-            "spherical"
-        } else {
-            "offset"
-        },
+        r.wrist_kind(),
         r.reach_mm
     );
     o.push_str(

@@ -121,11 +121,7 @@ pub fn render(report: &Report, data: &PlotData) -> String {
         escape(&p.file),
         escape(&r.name),
         count(r.dof, "joint"),
-        if r.spherical_wrist {
-            "spherical"
-        } else {
-            "offset"
-        },
+        r.wrist_kind(),
         report.armpath_version
     );
     verdict(&mut o, report);
