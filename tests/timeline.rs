@@ -158,6 +158,28 @@ fn a_fast_roll_start_is_a_joint_acceleration_error() {
     assert!((f64_of(&f[0]["value"]) - 1000.0).abs() < 1e-6, "{:#}", f[0]);
     assert!((f64_of(&f[0]["limit"]) - 420.0).abs() < 1e-9);
     assert_eq!(f[0]["unit"], "deg/s²");
+    // The message says what, how much and what to try; where the default limit comes from is
+    // said once, on the summary's acceleration line, not in every finding.
+    // source: common practice (one explanation per report, not per finding)
+    let message = f[0]["message"].as_str().unwrap_or_default();
+    assert!(
+        message.contains("1000 deg/s²")
+            && message.contains("2.38× its allowed 420 deg/s², the default rule")
+            && message.contains("blend the corner")
+            && !message.contains("URDF")
+            && !message.contains("joint_acceleration_scale"),
+        "{message}"
+    );
+    let text = armpath().arg("check").arg(&file).output().unwrap();
+    let text = String::from_utf8_lossy(&text.stdout);
+    assert!(
+        text.contains("joints 2 × speed limit per s × 0.5 (the default rule)")
+            && text.contains(
+                "URDF has none, so the default rule above applies: set \
+                 limits.joint_acceleration_scale or limits.joint_accelerations"
+            ),
+        "{text}"
+    );
     let (_d2, file2) = path_file(&roll(&head(1.25), ""));
     let (code2, report2) = check_json(&file2, &[]);
     assert!(

@@ -1,16 +1,15 @@
 //! Turning runs into findings with messages that say what happened and what to try.
 
-use super::{Finding, Kind, Quantity, Run};
+use super::{Finding, Flag, Kind, Quantity, Run};
 use crate::job::{Job, Motion};
 use crate::plan::Plan;
 use crate::robot::{JointKind, Robot, SingularityClass};
 
-fn quantity_of(run: &Run, robot: &Robot) -> Quantity {
-    let prismatic = run
-        .joint
+fn quantity_of(kind: Kind, joint: Option<usize>, robot: &Robot) -> Quantity {
+    let prismatic = joint
         .map(|j| robot.joints()[j].kind == JointKind::Prismatic)
         .unwrap_or(false);
-    match run.kind {
+    match kind {
         Kind::Unreachable => Quantity::Length,
         Kind::JointLimit | Kind::NearJointLimit if prismatic => Quantity::Length,
         Kind::JointLimit | Kind::NearJointLimit => Quantity::Angle,
@@ -56,47 +55,53 @@ fn wp_name(job: &Job, i: usize) -> String {
 }
 
 /// Build the finding for a closed run.
-pub(super) fn finding(robot: &Robot, job: &Job, plan: &Plan, run: &Run) -> Finding {
-    let q = quantity_of(run, robot);
-    let seg = plan.segment(run.segment);
+pub(super) fn finding(
+    robot: &Robot,
+    job: &Job,
+    plan: &Plan,
+    run: &Run<(Kind, Option<usize>), Flag>,
+) -> Finding {
+    let ((kind, joint), w, span) = (run.key, &run.worst, &run.span);
+    let q = quantity_of(kind, joint, robot);
+    let seg = plan.segment(span.segment);
     let seg = seg.as_ref();
-    let from = wp_name(job, run.segment);
-    let to = wp_name(job, run.segment + 1);
-    let joint_name = run.joint.map(|k| robot.joints()[k].name.clone());
+    let from = wp_name(job, span.segment);
+    let to = wp_name(job, span.segment + 1);
+    let joint_name = joint.map(|k| robot.joints()[k].name.clone());
     let jn = joint_name.clone().unwrap_or_default();
     let where_ = if plan.segment_count() == 0 {
         format!("at {from}")
     } else {
         format!("between {from} and {to}")
     };
-    let message = match run.kind {
+    let message = match kind {
         Kind::Unreachable => format!(
             "the arm cannot reach the path {where_} within its joint limits (the nearest pose it reaches is up to {} and {:.2}° away): \
              move the work frame or the part closer to the robot, or check this waypoint and the tool offset",
-            show(Quantity::Length, run.value),
-            run.orientation_error.to_degrees()
+            show(Quantity::Length, w.value),
+            w.orientation_error.to_degrees()
         ),
         Kind::JointLimit => format!(
             "following the path continuously, {jn} would need {} but its range is {}: \
              start in another arm configuration or winding (start_joints), or turn the tool about its axis if the process allows",
-            show(q, run.value),
-            range_text(robot, run.joint.unwrap_or(0))
+            show(q, w.value),
+            range_text(robot, joint.unwrap_or(0))
         ),
         Kind::NearJointLimit => {
-            let margin = (run.value - run.limit).abs();
+            let margin = (w.value - w.limit).abs();
             format!(
                 "{jn} comes within {} of its limit {} ({}): little room to touch up points on the cell; \
                  consider another configuration or moving the part",
                 show(q, margin),
-                show(q, run.limit),
-                show(q, run.value)
+                show(q, w.limit),
+                show(q, w.value)
             )
         }
         Kind::JointJump => {
             let deltas: Vec<String> = robot
                 .joints()
                 .iter()
-                .zip(run.delta.iter())
+                .zip(w.delta.iter())
                 .filter(|(_, d)| d.abs() > 1e-3)
                 .map(|(j, d)| {
                     let qq = if j.kind == JointKind::Prismatic {
@@ -107,7 +112,7 @@ pub(super) fn finding(robot: &Robot, job: &Job, plan: &Plan, run: &Run) -> Findi
                     format!("{} {:+.1}{}", j.name, qq.display(*d), if qq == Quantity::Angle { "°" } else { " mm" })
                 })
                 .collect();
-            match run.config_change {
+            match w.config_change {
                 Some((from_c, to_c)) => format!(
                     "the {from_c} configuration cannot reach the path {where_} ({}): the arm would have to change to {to_c} mid-path, \
                      which a linear move cannot do; start in a configuration that runs the whole path, \
@@ -123,7 +128,7 @@ pub(super) fn finding(robot: &Robot, job: &Job, plan: &Plan, run: &Run) -> Findi
             }
         }
         Kind::Singularity => {
-            let class = match run.class {
+            let class = match w.class {
                 Some(SingularityClass::Wrist) => {
                     "a wrist singularity (axes 4 and 6 nearly aligned): tilt the tool a few degrees so the wrist stays bent, or shift the path sideways"
                 }
@@ -137,66 +142,59 @@ pub(super) fn finding(robot: &Robot, job: &Job, plan: &Plan, run: &Run) -> Findi
             };
             format!(
                 "the arm passes near {class}; measure {} below the threshold {} — joint speeds rise sharply here",
-                show(Quantity::Number, run.value),
-                show(Quantity::Number, run.limit)
+                show(Quantity::Number, w.value),
+                show(Quantity::Number, w.limit)
             )
         }
         Kind::ToolAngularSpeed => {
-            let factor = run.limit / run.value;
+            let factor = w.limit / w.value;
             let speed = seg.map(|s| s.speed).unwrap_or(job.speed);
             format!(
                 "the tool turns at {} (limit {}): run this segment at {} or slower ({:.0} % of the programmed speed), \
                  or spread the reorientation over a longer stretch",
-                show(q, run.value),
-                show(q, run.limit),
+                show(q, w.value),
+                show(q, w.limit),
                 show(Quantity::Speed, speed * factor),
                 factor * 100.0
             )
         }
         Kind::JointSpeed => {
-            let factor = 1.0 / run.value.max(f64::MIN_POSITIVE) * run.limit;
+            let factor = 1.0 / w.value.max(f64::MIN_POSITIVE) * w.limit;
             let speed = seg.map(|s| s.speed).unwrap_or(job.speed);
             format!(
                 "{jn} would move at {} ({:.2}× its allowed {}): slow this segment to {} or less (speed factor {:.2}), \
                  or avoid the pose that makes {jn} fast (often a nearby singularity)",
-                show(q, run.value),
-                run.value / run.limit,
-                show(q, run.limit),
+                show(q, w.value),
+                w.value / w.limit,
+                show(q, w.limit),
                 show(Quantity::Speed, speed * factor),
                 factor
             )
         }
-        Kind::JointAcceleration
-            if run
-                .joint
-                .is_some_and(|k| robot.joints()[k].acceleration.is_some()) =>
-        {
+        Kind::JointAcceleration => {
+            // Where the limit comes from (the path file, or the default rule) is stated once,
+            // in the report's summary; the message names only which kind of limit it is.
+            let given = joint.is_some_and(|k| robot.joints()[k].acceleration.is_some());
             format!(
-                "{jn} would accelerate at {} ({:.2}× its allowed {}, given in \
-                 limits.joint_accelerations): blend the corner (blend: radius), lower \
-                 limits.tcp_acceleration, slow the segment, or avoid the pose that makes {jn} fast",
-                show(q, run.value),
-                run.value / run.limit.max(f64::MIN_POSITIVE),
-                show(q, run.limit)
+                "{jn} would accelerate at {} ({:.2}× its allowed {}{}): blend the corner (blend: radius), \
+                 lower limits.tcp_acceleration, slow the segment or avoid the pose that makes {jn} fast",
+                show(q, w.value),
+                w.value / w.limit.max(f64::MIN_POSITIVE),
+                show(q, w.limit),
+                if given {
+                    ", given in limits.joint_accelerations"
+                } else {
+                    ", the default rule"
+                }
             )
         }
-        Kind::JointAcceleration => format!(
-            "{jn} would accelerate at {} ({:.2}× its allowed {}; URDF has no accelerations: the limit is armpath's \
-             default, {} × the URDF speed limit per second × limits.joint_acceleration_scale): blend the corner (blend: radius), lower \
-             limits.tcp_acceleration, slow the segment, or avoid the pose that makes {jn} fast; set \
-             limits.joint_acceleration_scale from the controller's data",
-            show(q, run.value),
-            run.value / run.limit.max(f64::MIN_POSITIVE),
-            show(q, run.limit),
-            crate::motion::JOINT_ACCELERATION_PER_SPEED
-        ),
         Kind::ProcessSpeed => {
             let programmed = seg.map(|s| s.speed).unwrap_or(job.speed);
             format!(
                 "on this process segment the TCP slows to {} of the programmed {} (more than {:.0} % below it): \
                  a stop or a sharp corner makes the TCP brake and start again; blend the corner (blend: radius), \
                  start the process after a run-in, or raise limits.tcp_acceleration if the controller allows it",
-                show(q, run.value),
+                show(q, w.value),
                 show(Quantity::Speed, programmed),
                 job.limits.process_speed_tolerance * 100.0
             )
@@ -205,22 +203,12 @@ pub(super) fn finding(robot: &Robot, job: &Job, plan: &Plan, run: &Run) -> Findi
         Kind::Input | Kind::Collision | Kind::Clearance => String::new(),
     };
     Finding {
-        kind: run.kind,
-        segment: Some(run.segment),
-        from: Some(from),
-        to: Some(to),
-        samples: Some([run.first, run.last]),
-        s: Some(run.s),
-        t: Some(run.t),
         joint: joint_name,
-        bodies: None,
-        value: Some(run.value),
+        value: Some(w.value),
         // A jump has no limit: any discontinuity is one.
-        limit: (run.kind != Kind::JointJump).then_some(run.limit),
-        quantity: q,
-        deltas: (run.kind == Kind::JointJump).then_some(run.delta),
-        worst_sample: Some(run.worst_sample),
-        message,
+        limit: (kind != Kind::JointJump).then_some(w.limit),
+        deltas: (kind == Kind::JointJump).then_some(w.delta),
+        ..span.finding(job, kind, q, message)
     }
 }
 

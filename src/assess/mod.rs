@@ -7,8 +7,10 @@
 
 mod finding;
 mod messages;
+mod runs;
 
 pub use finding::{Finding, Kind, Quantity, Severity};
+pub use runs::{Run, RunBook, Span, Worst};
 
 use crate::job::{Job, Motion};
 use crate::plan::Plan;
@@ -110,31 +112,8 @@ impl Default for Extremes {
     }
 }
 
-/// An open run of flagged samples.
+/// One flag raised by a sample: the values a run keeps from its worst sample.
 #[derive(Debug, Clone, Copy)]
-pub(crate) struct Run {
-    pub kind: Kind,
-    pub joint: Option<usize>,
-    pub segment: usize,
-    pub first: usize,
-    pub last: usize,
-    pub s: [f64; 2],
-    pub t: [f64; 2],
-    /// Worst value for ordering (larger = worse) and the value/limit to report.
-    pub badness: f64,
-    pub value: f64,
-    pub limit: f64,
-    pub worst_sample: usize,
-    /// Extra facts for the message.
-    pub class: Option<SingularityClass>,
-    pub delta: Joints,
-    pub orientation_error: f64,
-    /// Configuration change at a jump (closed-form solver).
-    pub config_change: Option<(crate::ik::analytic::Config, crate::ik::analytic::Config)>,
-    pub seen: bool,
-}
-
-/// One flag raised by a sample.
 struct Flag {
     kind: Kind,
     joint: Option<usize>,
@@ -146,6 +125,25 @@ struct Flag {
     orientation_error: f64,
     config_change: Option<(crate::ik::analytic::Config, crate::ik::analytic::Config)>,
 }
+
+impl Worst for Flag {
+    fn badness(&self) -> f64 {
+        self.badness
+    }
+
+    /// A singularity class or configuration change seen earlier in the run stays known when
+    /// the worse sample has none.
+    fn replace_with(&mut self, worse: Self) {
+        *self = Flag {
+            class: worse.class.or(self.class),
+            config_change: worse.config_change.or(self.config_change),
+            ..worse
+        };
+    }
+}
+
+/// The runs of the assessor: keyed by finding kind and joint.
+type Runs = RunBook<(Kind, Option<usize>), Flag>;
 
 impl Flag {
     fn new(kind: Kind, joint: Option<usize>, badness: f64, value: f64, limit: f64) -> Self {
@@ -168,10 +166,9 @@ pub struct Assessor<'a> {
     job: &'a Job,
     plan: &'a Plan,
     thresholds: Thresholds,
-    open: Vec<Run>,
+    runs: Runs,
     findings: Vec<Finding>,
     extremes: Extremes,
-    segment: usize,
     /// The job's and the plan's input findings, made once in `new`.
     inputs: Vec<Finding>,
     /// The current segment's programmed speed (m/s) and process flag, read from the plan
@@ -195,10 +192,9 @@ impl<'a> Assessor<'a> {
             job,
             plan,
             thresholds,
-            open: Vec::with_capacity(4 * MAX_DOF),
+            runs: RunBook::with_capacity(4 * MAX_DOF),
             findings: Vec::new(),
             extremes: Extremes::default(),
-            segment: 0,
             segment_speed: 0.0,
             segment_process: false,
             next_process: false,
@@ -224,45 +220,7 @@ impl<'a> Assessor<'a> {
     }
 
     fn raise(&mut self, rec: &SampleRecord, f: Flag) {
-        if let Some(run) = self
-            .open
-            .iter_mut()
-            .find(|r| r.kind == f.kind && r.joint == f.joint)
-        {
-            run.last = rec.index;
-            run.s[1] = rec.s;
-            run.t[1] = rec.t;
-            run.seen = true;
-            if f.badness > run.badness {
-                run.badness = f.badness;
-                run.value = f.value;
-                run.limit = f.limit;
-                run.worst_sample = rec.index;
-                run.class = f.class.or(run.class);
-                run.delta = f.delta;
-                run.orientation_error = f.orientation_error;
-                run.config_change = f.config_change.or(run.config_change);
-            }
-            return;
-        }
-        self.open.push(Run {
-            kind: f.kind,
-            joint: f.joint,
-            segment: rec.segment,
-            first: rec.index,
-            last: rec.index,
-            s: [rec.s, rec.s],
-            t: [rec.t, rec.t],
-            badness: f.badness,
-            value: f.value,
-            limit: f.limit,
-            worst_sample: rec.index,
-            class: f.class,
-            delta: f.delta,
-            orientation_error: f.orientation_error,
-            config_change: f.config_change,
-            seen: true,
-        });
+        self.runs.raise(rec, (f.kind, f.joint), f);
     }
 
     /// Read segment `k`'s programmed speed and process flag from the plan.
@@ -278,21 +236,9 @@ impl<'a> Assessor<'a> {
     }
 
     fn close_unseen(&mut self, robot: &Robot) {
-        let mut i = 0;
-        while i < self.open.len() {
-            if self.open[i].seen {
-                self.open[i].seen = false;
-                i += 1;
-            } else {
-                let run = self.open.swap_remove(i);
-                self.close(robot, run);
-            }
-        }
-    }
-
-    fn close(&mut self, robot: &Robot, run: Run) {
-        let finding = messages::finding(robot, self.job, self.plan, &run);
-        self.findings.push(finding);
+        let (job, plan, findings) = (self.job, self.plan, &mut self.findings);
+        self.runs
+            .close_unseen(|run| findings.push(messages::finding(robot, job, plan, &run)));
     }
 
     /// Adds findings made elsewhere (the cell watch's `collision` and `clearance`), to be
@@ -305,9 +251,9 @@ impl<'a> Assessor<'a> {
     /// input finding on a segment sits at the segment's start, one on the file as a whole at
     /// the path's start), then segment, then kind (input first), then joint; with the extremes.
     pub fn finish(mut self, robot: &Robot) -> (Vec<Finding>, Extremes) {
-        for run in std::mem::take(&mut self.open) {
-            self.close(robot, run);
-        }
+        let (job, plan, closed) = (self.job, self.plan, &mut self.findings);
+        self.runs
+            .close_all(|run| closed.push(messages::finding(robot, job, plan, &run)));
         let mut findings = std::mem::take(&mut self.inputs);
         findings.append(&mut self.findings);
         let starts = &self.waypoint_sample;
@@ -336,16 +282,10 @@ impl SampleSink for Assessor<'_> {
                 self.waypoint_sample[i].1.get_or_insert(rec.index);
             }
         }
-        if rec.segment != self.segment {
-            // Runs never cross a segment boundary: each finding names one segment. The run
-            // list keeps its capacity, so segment changes allocate nothing.
-            let mut runs = std::mem::take(&mut self.open);
-            for run in runs.drain(..) {
-                self.close(robot, run);
-            }
-            self.open = runs;
-            self.segment = rec.segment;
-        }
+        let (job, plan, findings) = (self.job, self.plan, &mut self.findings);
+        self.runs.enter(rec.segment, |run| {
+            findings.push(messages::finding(robot, job, plan, &run))
+        });
         if self.loaded != Some(rec.segment) {
             self.load_segment(rec.segment);
         }

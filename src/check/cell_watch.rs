@@ -3,30 +3,29 @@
 //! and `clearance` findings. Like the assessor, flagged samples of one body pair and kind
 //! within one segment merge into one run; the run keeps its worst distance.
 
-use crate::assess::{Finding, Kind, Quantity};
+use crate::assess::{Finding, Kind, Quantity, Run, RunBook, Worst};
 use crate::cell::{CellModel, CellProbe};
 use crate::job::Job;
 use crate::plan::Plan;
 use crate::robot::Robot;
 use crate::solve::{Reach, SampleRecord, SampleSink};
 
-/// An open run of one pair and kind.
+/// The worst approach of a run: the smallest distance (m), and whether it was found between
+/// two samples.
 #[derive(Debug, Clone, Copy)]
-struct Run {
-    kind: Kind,
-    pair: usize,
-    segment: usize,
-    first: usize,
-    last: usize,
-    s: [f64; 2],
-    t: [f64; 2],
-    /// Smallest distance (m) over the run, and where.
+struct Approach {
     distance: f64,
-    worst_sample: usize,
-    /// The worst value was found between two samples.
     between: bool,
-    seen: bool,
 }
+
+impl Worst for Approach {
+    fn badness(&self) -> f64 {
+        -self.distance
+    }
+}
+
+/// The runs of the cell watch: keyed by kind and body pair.
+type Runs = RunBook<(Kind, usize), Approach>;
 
 /// What the cell check covered, for the report. SI.
 #[derive(Debug, Clone)]
@@ -63,9 +62,8 @@ pub struct CellWatch<'a> {
     job: &'a Job,
     plan: &'a Plan,
     probe: CellProbe,
-    open: Vec<Run>,
+    runs: Runs,
     findings: Vec<Finding>,
-    segment: Option<usize>,
     process: bool,
     /// Smallest distance (m) of any tested pair over the path, its pair and sample.
     nearest: Option<(f64, usize, usize)>,
@@ -79,9 +77,8 @@ impl<'a> CellWatch<'a> {
             job,
             plan,
             probe: CellProbe::new(model),
-            open: Vec::with_capacity(2 * model.pairs().len() + 2),
+            runs: RunBook::with_capacity(2 * model.pairs().len() + 2),
             findings: Vec::new(),
-            segment: None,
             process: false,
             nearest: None,
         }
@@ -93,103 +90,21 @@ impl<'a> CellWatch<'a> {
         } else {
             Kind::Clearance
         };
-        if let Some(run) = self
-            .open
-            .iter_mut()
-            .find(|r| r.kind == kind && r.pair == pair)
-        {
-            run.last = rec.index;
-            run.s[1] = rec.s;
-            run.t[1] = rec.t;
-            run.seen = true;
-            if distance < run.distance {
-                run.distance = distance;
-                run.worst_sample = rec.index;
-                run.between = between;
-            }
-            return;
-        }
-        self.open.push(Run {
-            kind,
-            pair,
-            segment: rec.segment,
-            first: rec.index,
-            last: rec.index,
-            s: [rec.s, rec.s],
-            t: [rec.t, rec.t],
-            distance,
-            worst_sample: rec.index,
-            between,
-            seen: true,
-        });
+        let approach = Approach { distance, between };
+        self.runs.raise(rec, (kind, pair), approach);
     }
 
     fn close_unseen(&mut self) {
-        let mut i = 0;
-        while i < self.open.len() {
-            if self.open[i].seen {
-                self.open[i].seen = false;
-                i += 1;
-            } else {
-                let run = self.open.swap_remove(i);
-                self.close(run);
-            }
-        }
-    }
-
-    fn close(&mut self, run: Run) {
-        let (a, b) = self.model.pair_names(run.pair);
-        let from = self.job.waypoint_name(run.segment);
-        let to = self.job.waypoint_name(run.segment + 1);
-        let mm = |v: f64| format!("{:.2} mm", v * 1e3);
-        let found = if run.between {
-            " (found between two samples by the motion bound)"
-        } else {
-            ""
-        };
-        let message = match run.kind {
-            Kind::Collision => format!(
-                "{a} and {b} collide between {from} and {to}, up to {} deep{found}: move the part or \
-                 fixture, change the tool orientation or the approach, or list the pair under \
-                 allowed_contacts in the cell file if the contact is intended",
-                mm(-run.distance)
-            ),
-            _ => format!(
-                "{a} comes within {} of {b} between {from} and {to} (clearance {}){found}: \
-                 make room, or lower limits.clearance if this is intended",
-                mm(run.distance),
-                mm(self.model.clearance())
-            ),
-        };
-        self.findings.push(Finding {
-            kind: run.kind,
-            segment: Some(run.segment),
-            from: Some(from),
-            to: Some(to),
-            samples: Some([run.first, run.last]),
-            s: Some(run.s),
-            t: Some(run.t),
-            joint: None,
-            bodies: Some([a.to_string(), b.to_string()]),
-            value: Some(run.distance),
-            limit: Some(if run.kind == Kind::Collision {
-                0.0
-            } else {
-                self.model.clearance()
-            }),
-            quantity: Quantity::Length,
-            deltas: None,
-            worst_sample: Some(run.worst_sample),
-            message,
-        });
+        let (model, job, findings) = (self.model, self.job, &mut self.findings);
+        self.runs
+            .close_unseen(|run| findings.push(finding(model, job, &run)));
     }
 
     /// Closes the open runs and returns the findings (unsorted) and the summary.
     pub fn finish(mut self) -> (Vec<Finding>, CellSummary) {
-        for run in std::mem::take(&mut self.open) {
-            self.close(run);
-        }
-        let model = self.model;
+        let (model, job, findings) = (self.model, self.job, &mut self.findings);
+        self.runs
+            .close_all(|run| findings.push(finding(model, job, &run)));
         let summary = CellSummary {
             bodies: model.bodies().len(),
             pairs: model.pairs().len(),
@@ -211,13 +126,11 @@ impl<'a> CellWatch<'a> {
 
 impl SampleSink for CellWatch<'_> {
     fn sample(&mut self, _robot: &Robot, rec: &SampleRecord) {
-        if self.segment != Some(rec.segment) {
-            let mut runs = std::mem::take(&mut self.open);
-            for run in runs.drain(..) {
-                self.close(run);
-            }
-            self.open = runs;
-            self.segment = Some(rec.segment);
+        let (model, job, findings) = (self.model, self.job, &mut self.findings);
+        if self
+            .runs
+            .enter(rec.segment, |run| findings.push(finding(model, job, &run)))
+        {
             self.process = self.plan.segment(rec.segment).is_some_and(|s| s.process);
         }
         if rec.reach == Reach::Unreachable {
@@ -249,5 +162,43 @@ impl SampleSink for CellWatch<'_> {
             self.raise(rec, w.pair, w.distance, true);
         }
         self.close_unseen();
+    }
+}
+
+/// The finding of a closed run of `model`'s pair, with its message.
+fn finding(model: &CellModel, job: &Job, run: &Run<(Kind, usize), Approach>) -> Finding {
+    let ((kind, pair), near) = (run.key, run.worst);
+    let (a, b) = model.pair_names(pair);
+    let from = job.waypoint_name(run.span.segment);
+    let to = job.waypoint_name(run.span.segment + 1);
+    let mm = |v: f64| format!("{:.2} mm", v * 1e3);
+    let found = if near.between {
+        " (found between two samples by the motion bound)"
+    } else {
+        ""
+    };
+    let message = match kind {
+        Kind::Collision => format!(
+            "{a} and {b} collide between {from} and {to}, up to {} deep{found}: move the part or \
+             fixture, change the tool orientation or the approach, or list the pair under \
+             allowed_contacts in the cell file if the contact is intended",
+            mm(-near.distance)
+        ),
+        _ => format!(
+            "{a} comes within {} of {b} between {from} and {to} (clearance {}){found}: \
+             make room, or lower limits.clearance if this is intended",
+            mm(near.distance),
+            mm(model.clearance())
+        ),
+    };
+    Finding {
+        bodies: Some([a.to_string(), b.to_string()]),
+        value: Some(near.distance),
+        limit: Some(if kind == Kind::Collision {
+            0.0
+        } else {
+            model.clearance()
+        }),
+        ..run.span.finding(job, kind, Quantity::Length, message)
     }
 }

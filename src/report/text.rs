@@ -46,14 +46,21 @@ fn timing_lines(o: &mut String, report: &Report) {
     let _ = writeln!(
         o,
         "  cycle time            {:.2} s · accelerations: TCP {:.0} mm/s², tool {:.0} deg/s², \
-         joints {} × speed limit per s × {} (URDF has none: armpath's default)",
+         joints {} × speed limit per s × {} (the default rule)",
         s.duration_s,
         p.tcp_acceleration_mm_s2,
         p.tool_angular_acceleration_deg_s2,
         crate::motion::JOINT_ACCELERATION_PER_SPEED,
         p.joint_acceleration_scale
     );
-    if !p.joint_accelerations_given.is_empty() {
+    if p.joint_accelerations_given.is_empty() {
+        // The findings' messages name "the default rule" and leave its explanation to here.
+        let _ = writeln!(
+            o,
+            "  joint accelerations   URDF has none, so the default rule above applies: set \
+             limits.joint_acceleration_scale or limits.joint_accelerations from the controller's data"
+        );
+    } else {
         let names: Vec<_> = p.joint_accelerations_given.iter().map(|n| v(n)).collect();
         let _ = writeln!(
             o,
