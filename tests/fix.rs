@@ -20,6 +20,27 @@ fn read_json(p: &Path) -> serde_json::Value {
     serde_json::from_str(&std::fs::read_to_string(p).unwrap()).unwrap()
 }
 
+/// `armpath fix FILE --out DIR/STEM.yaml --json DIR/STEM.json`, which must exit 0; returns
+/// the amended file's path (written or not), the JSON report and the terminal text.
+fn fix_into(
+    file: &Path,
+    dir: &Path,
+    stem: &str,
+) -> (std::path::PathBuf, serde_json::Value, String) {
+    let out = dir.join(format!("{stem}.yaml"));
+    let json = dir.join(format!("{stem}.json"));
+    let (code, stdout, stderr) = run(&[
+        "fix",
+        file.to_str().unwrap(),
+        "--out",
+        out.to_str().unwrap(),
+        "--json",
+        json.to_str().unwrap(),
+    ]);
+    assert_eq!(code, 0, "{stdout}{stderr}");
+    (out, read_json(&json), stdout)
+}
+
 /// The start pose of the roll tests: arm in its vertical plane (j1 = j4 = 0), wrist bent
 /// 45°, j6 near zero.
 const Q0: [f64; 6] = [0.0, 30.0, -20.0, 0.0, 45.0, 0.2];
@@ -64,22 +85,11 @@ fn roll_too_fast_for_j6_passes_at_the_speed_from_j6s_limit() {
     let (dir, file) = path_file(&roll_line(false, false));
     let (code0, before) = check_json(&file, &[]);
     assert_eq!(code0, 1, "{before:#}");
-    let out = dir.path().join("fixed.yaml");
-    let json = dir.path().join("fix.json");
-    let (code, stdout, stderr) = run(&[
-        "fix",
-        file.to_str().unwrap(),
-        "--out",
-        out.to_str().unwrap(),
-        "--json",
-        json.to_str().unwrap(),
-    ]);
-    assert_eq!(code, 0, "{stdout}{stderr}");
+    let (out, r, stdout) = fix_into(&file, dir.path(), "fixed");
     assert!(
         stdout.contains("before") && stdout.contains("after"),
         "{stdout}"
     );
-    let r = read_json(&json);
     let s = &r["speeds"][0];
     assert_eq!(s["limited_by"], "j6", "{r:#}");
     assert!((f64_of(&s["ratio"]) - 900.0 / 420.0).abs() < 1e-3, "{s:#}");
@@ -106,18 +116,7 @@ fn a_process_run_keeps_one_speed() {
     // segments, so the run keeps one speed: the smallest allowed, 46.6 mm/s, on both.
     // source: robots/arm6.urdf; common practice (constant travel speed on a process seam)
     let (dir, file) = path_file(&roll_line(true, true));
-    let out = dir.path().join("fixed.yaml");
-    let json = dir.path().join("fix.json");
-    let (code, stdout, stderr) = run(&[
-        "fix",
-        file.to_str().unwrap(),
-        "--out",
-        out.to_str().unwrap(),
-        "--json",
-        json.to_str().unwrap(),
-    ]);
-    assert_eq!(code, 0, "{stdout}{stderr}");
-    let r = read_json(&json);
+    let (out, r, _) = fix_into(&file, dir.path(), "fixed");
     assert!(f64_of(&r["speeds"][1]["ratio"]) < 1.0, "{r:#}");
     for k in 0..2 {
         assert!(
@@ -242,18 +241,7 @@ fn a_line_through_a_wrist_singularity_passes_after_a_modest_tool_spin() {
     let (code0, before) = check_json(&file, &[]);
     assert_eq!(code0, 1, "{before:#}");
     assert!(f64_of(&before["summary"]["min_singularity"]) < 1e-3);
-    let out = dir.path().join("fixed.yaml");
-    let json = dir.path().join("fix.json");
-    let (code, stdout, stderr) = run(&[
-        "fix",
-        file.to_str().unwrap(),
-        "--out",
-        out.to_str().unwrap(),
-        "--json",
-        json.to_str().unwrap(),
-    ]);
-    assert_eq!(code, 0, "{stdout}{stderr}");
-    let r = read_json(&json);
+    let (out, r, _) = fix_into(&file, dir.path(), "fixed");
     let spin = &r["spin"];
     assert_eq!(spin["applied"], true, "{r:#}");
     for k in ["min_spin", "max_spin"] {
@@ -291,18 +279,7 @@ fn without_free_spin_fix_asks_for_a_configuration_that_runs_the_path() {
     let (dir, file) = path_file(&text);
     let (code0, before) = check_json(&file, &[]);
     assert_eq!(code0, 1, "{before:#}");
-    let out = dir.path().join("fixed.yaml");
-    let json = dir.path().join("fix.json");
-    let (code, stdout, stderr) = run(&[
-        "fix",
-        file.to_str().unwrap(),
-        "--out",
-        out.to_str().unwrap(),
-        "--json",
-        json.to_str().unwrap(),
-    ]);
-    assert_eq!(code, 0, "{stdout}{stderr}");
-    let r = read_json(&json);
+    let (out, r, _) = fix_into(&file, dir.path(), "fixed");
     let chosen = r["configuration"]["chosen"].as_str().unwrap().to_string();
     let running: Vec<&str> = before["configurations"]
         .as_array()
@@ -319,4 +296,149 @@ fn without_free_spin_fix_asks_for_a_configuration_that_runs_the_path() {
     let (code2, after) = check_json(&out, &[]);
     assert_eq!(code2, 0, "{after:#}");
     assert_eq!(after["path"]["start"]["config"], chosen.as_str());
+}
+
+/// A bead drawn as a polyline in front of the demo arm, nozzle down: from `home` a straight
+/// travel move to `above`, a joint move down to the bead start `p0`, then twelve process
+/// segments along a 100 mm arc (7.5° apart, chords of 13.08 mm) and a 4 mm tail `p13` that
+/// turns 7.5° further, at 20 mm/s; then straight up 50 mm to `leave` and across to `last`.
+/// TCP acceleration 500 mm/s². Returns the YAML and the waypoints' (name, x, y, z) in mm.
+fn polyline_bead() -> (String, Vec<(String, [f64; 3])>) {
+    let mut pts: Vec<(String, [f64; 3])> = vec![
+        ("home".into(), [-100.0, -200.0, 100.0]),
+        ("above".into(), [0.0, -100.0, 50.0]),
+    ];
+    let arc = |i: usize| {
+        let phi = (-45.0 + 7.5 * i as f64).to_radians();
+        [100.0 * phi.cos() - 100.0, 100.0 * phi.sin(), 0.0]
+    };
+    for i in 0..=12 {
+        pts.push((format!("p{i}"), arc(i)));
+    }
+    // The tail continues along the next chord of the arc, 4 mm long.
+    let (a, b) = (arc(12), arc(13));
+    let chord = ((b[0] - a[0]).powi(2) + (b[1] - a[1]).powi(2)).sqrt();
+    let tail = [
+        a[0] + 4.0 * (b[0] - a[0]) / chord,
+        a[1] + 4.0 * (b[1] - a[1]) / chord,
+        0.0,
+    ];
+    pts.push(("p13".into(), tail));
+    pts.push(("leave".into(), [tail[0], tail[1], 50.0]));
+    pts.push(("last".into(), [0.0, 150.0, 100.0]));
+    pts[1].1 = [arc(0)[0], arc(0)[1], 50.0];
+    let mut y = format!(
+        "robot: {}\ntool: {{xyz: [0, 0, 180], rpy: [0, 0, 0]}}\nwork_frame: {{xyz: [900, 0, 250], rpy: [0, 0, 0]}}\n\
+         speed: 100\nlimits: {{tcp_acceleration: 500}}\nwaypoints:\n",
+        arm6()
+    );
+    for (name, p) in &pts {
+        let keys = match name.as_str() {
+            "p0" => ", motion: joint",
+            n if n.starts_with('p') => ", process: true, speed: 20",
+            _ => "",
+        };
+        y += &format!(
+            "  - {{name: {name}, xyz: [{}, {}, {}], rpy: [180, 0, 0]{keys}}}\n",
+            p[0], p[1], p[2]
+        );
+    }
+    (y, pts)
+}
+
+#[test]
+fn fix_blends_a_polyline_bead_and_keeps_the_stops_it_needs() {
+    // The bead turns 7.5° at p1 … p12: blended, its speed in the middle of each corner is
+    // 20·cos(3.75°) = 19.96 mm/s, within 5 % of 20, so every inner bead waypoint gets a blend:
+    // 5 mm (the process cap; half a 13.08 mm chord is 6.54 mm) at p1 … p11, 2 mm at p12 (half
+    // the 4 mm tail). `leave` (travel, up 50 mm then across) gets the 20 mm travel cap. No
+    // blend at home and last (the path's ends), above and p0 (a joint move's start and end),
+    // p13 (the process ends there).
+    // Cycle: a stop between two segments cruising at v costs v/a over blending them (each
+    // trapezoid adds v/(2a) per ramp, a blend keeps the cruise rate): 12 bead stops at 20 mm/s
+    // and one at leave at 100 mm/s with a = 500 mm/s²: 12 × 0.04 + 0.2 = 0.68 s saved.
+    // source: the speed of a blend whose velocity changes linearly in time (v·cos(θ/2), see
+    // src/fix/blend.rs); trapezoidal profile T = L/v + v/a (Biagiotti & Melchiorri 2008,
+    // §3.2.2; from memory); common practice (the 5 mm and 20 mm caps, the 5 % tolerance)
+    let (yaml, pts) = polyline_bead();
+    let (dir, file) = path_file(&yaml);
+    let (code0, before) = check_json(&file, &[]);
+    assert_eq!(code0, 0, "{before:#}");
+    let dips_before = findings(&before, "process_speed").len();
+    assert!(dips_before >= 12, "{before:#}");
+    let (out, r, stdout) = fix_into(&file, dir.path(), "fixed");
+    assert!(stdout.contains("Corner blends proposed (mm):"), "{stdout}");
+    let blends = r["blends"].as_array().unwrap();
+    let got: Vec<(String, f64)> = blends
+        .iter()
+        .map(|b| {
+            (
+                b["waypoint"].as_str().unwrap().to_string(),
+                f64_of(&b["radius"]),
+            )
+        })
+        .collect();
+    let mut want: Vec<(String, f64)> = (1..=11).map(|i| (format!("p{i}"), 5.0)).collect();
+    want.push(("p12".into(), 2.0));
+    want.push(("leave".into(), 20.0));
+    assert_eq!(got, want, "{:#}", r["blends"]);
+    // Never wider than half a neighbouring segment or the cap.
+    let at = |name: &str| pts.iter().position(|(n, _)| n == name).unwrap();
+    let dist = |i: usize, j: usize| {
+        let (p, q) = (pts[i].1, pts[j].1);
+        ((p[0] - q[0]).powi(2) + (p[1] - q[1]).powi(2) + (p[2] - q[2]).powi(2)).sqrt()
+    };
+    for b in blends {
+        let k = at(b["waypoint"].as_str().unwrap());
+        let radius = f64_of(&b["radius"]);
+        let cap = if b["process"] == true { 5.0 } else { 20.0 };
+        assert!(radius <= cap + 1e-12, "{b:#}");
+        assert!(radius <= 0.5 * dist(k - 1, k) + 1e-12, "{b:#}");
+        assert!(radius <= 0.5 * dist(k, k + 1) + 1e-12, "{b:#}");
+        assert!(
+            b["why"].as_str().unwrap().contains("radius set by"),
+            "{b:#}"
+        );
+    }
+    let p1 = &blends[0];
+    assert!((f64_of(&p1["turn"]) - 7.5).abs() < 1e-6, "{p1:#}");
+    assert!(
+        (f64_of(&p1["lowest_speed_percent"]) - 100.0 * 3.75f64.to_radians().cos()).abs() < 1e-6,
+        "{p1:#}"
+    );
+    // The amended file carries them, and only them.
+    let text = std::fs::read_to_string(&out).unwrap();
+    let amended: serde_yaml::Value = serde_yaml::from_str(&text).unwrap();
+    for w in amended["waypoints"].as_sequence().unwrap() {
+        let name = w["name"].as_str().unwrap();
+        let wanted = want.iter().find(|(n, _)| n == name).map(|(_, r)| *r);
+        assert_eq!(w["blend"].as_f64(), wanted, "{name}: {text}");
+    }
+    let (code1, after) = check_json(&out, &[]);
+    assert_eq!(code1, 0, "{after:#}");
+    let dips_after = findings(&after, "process_speed").len();
+    assert!(dips_after < dips_before && dips_after <= 1, "{after:#}");
+    let (t0, t1) = (
+        f64_of(&before["summary"]["duration_s"]),
+        f64_of(&after["summary"]["duration_s"]),
+    );
+    assert!((t0 - t1 - 0.68).abs() < 1e-6, "{t0} → {t1}");
+    assert!(findings(&after, "input").is_empty(), "{after:#}");
+}
+
+#[test]
+fn fixing_the_blended_bead_again_proposes_nothing_more() {
+    // Every waypoint the rule allows carries a blend in the amended file, and the rest must
+    // stop: a second fix of it has no blend to propose and nothing to amend (the bead still
+    // starts from rest after the joint move, which no blend changes).
+    // source: common practice (a fix applied twice changes nothing the second time)
+    let (yaml, _) = polyline_bead();
+    let (dir, file) = path_file(&yaml);
+    let (out, first, _) = fix_into(&file, dir.path(), "fixed");
+    assert!(!first["blends"].as_array().unwrap().is_empty(), "{first:#}");
+    let (out2, r, _) = fix_into(&out, dir.path(), "fixed2");
+    assert!(r["blends"].as_array().unwrap().is_empty(), "{r:#}");
+    assert!(r["blend_note"].is_null(), "{r:#}");
+    assert!(r["amended_file"].is_null(), "{r:#}");
+    assert!(!out2.exists());
 }

@@ -95,6 +95,59 @@ fn a_blended_right_angle_saves_the_stop_and_slows_the_bead_to_v_over_root_two() 
         .any(|f| f64_of(&f["value"]) == 0.0));
 }
 
+#[test]
+fn a_blended_right_angle_bottoms_out_at_v_cos_45_in_the_joint_csv() {
+    // a → b → c: 200 mm along x, 200 mm along y at v = 100 mm/s, blend 10 mm at b, window
+    // 2h = 2r/v = 0.2 s. Derivation: inside the window the velocity is
+    // v(σ) = v_in + (v_out − v_in)·σ/(2h), σ ∈ [0, 2h], with v_in = v·x̂ and v_out = v·ŷ, so
+    // |v(σ)|² = v²·((1 − λ)² + λ²), λ = σ/(2h): smallest at λ = ½, where it is v²/2, i.e. the
+    // speed is v·cos 45° = 70.711 mm/s (generally v·cos(θ/2) for a turn θ); at the window's
+    // edges it is v. The sample at b is the window's middle. Outside the window (and away
+    // from the rests at a and c) the TCP cruises at v.
+    // source: the velocity of a parabolic blend (a velocity changing linearly in time,
+    // derived here); trapezoidal profile (Biagiotti & Melchiorri 2008, §3.2.2; from memory)
+    let yaml = line_path(
+        "tcp_acceleration: 500",
+        "  - {name: a, xyz: [-150, -100, 0], rpy: [180, 0, 0]}\n  - {name: b, xyz: [50, -100, 0], rpy: [180, 0, 0], blend: 10}\n  \
+         - {name: c, xyz: [50, 100, 0], rpy: [180, 0, 0]}\n",
+    );
+    let (dir, file) = path_file(&yaml);
+    let csv = dir.path().join("joints.csv");
+    let (code, report) = check_json(&file, &["--joints", csv.to_str().unwrap()]);
+    assert_eq!(code, 0, "{report:#}");
+    let rows = std::fs::read_to_string(&csv).unwrap();
+    let header: Vec<&str> = rows.lines().next().unwrap().split(',').collect();
+    let col = |name: &str| header.iter().position(|h| *h == name).unwrap();
+    let (tcp, s_col) = (col("tcp_mm_s"), col("s_mm"));
+    let samples: Vec<(f64, f64)> = rows
+        .lines()
+        .skip(1)
+        .map(|l| {
+            let f: Vec<&str> = l.split(',').collect();
+            (f[s_col].parse().unwrap(), f[tcp].parse().unwrap())
+        })
+        .collect();
+    // Path distance runs along the straight segments: the window spans 190 … 210 mm.
+    let in_window: Vec<f64> = samples
+        .iter()
+        .filter(|(s, _)| (190.0..=210.0).contains(s))
+        .map(|&(_, v)| v)
+        .collect();
+    assert!(in_window.len() >= 5, "{samples:?}");
+    let lowest = in_window.iter().cloned().fold(f64::INFINITY, f64::min);
+    // The CSV writes speeds with four decimals: half a unit of the last one is the tolerance.
+    assert!(
+        (lowest - 100.0 * 45f64.to_radians().cos()).abs() <= 5e-5,
+        "{lowest}"
+    );
+    assert!(in_window.iter().all(|&v| v <= 100.0 + 1e-9));
+    let cruising = samples
+        .iter()
+        .filter(|(s, _)| (50.0..=180.0).contains(s) || (220.0..=350.0).contains(s));
+    assert!(cruising.clone().count() > 100);
+    assert!(cruising.into_iter().all(|&(_, v)| (v - 100.0).abs() < 1e-9));
+}
+
 /// The roll tests' start: arm in its vertical plane, wrist bent 45°, j6 near zero; the tool
 /// sits on the flange axis, so rolling it about its own axis turns j6 alone, one to one.
 const Q0: [f64; 6] = [0.0, 30.0, -20.0, 0.0, 45.0, 0.2];

@@ -10,11 +10,14 @@
 //!   and another does, the amended file asks for it (`config:`).
 //! - [`spin`]: with `tool.free_spin`, a spin angle about the tool z axis per sample, chosen
 //!   together with the arm configuration by dynamic programming for the largest margins.
+//! - [`blend`]: corner blends at waypoints where the TCP stops between two straight-line
+//!   moves for nothing, kept when the re-check is better.
 //! - [`place`]: the work frame moved over a grid of placements, each checked.
 //!
 //! `fix` re-checks the amended path in-process and reports before and after side by side.
 //! The amended file is re-emitted from the job ([`emit`] explains the choices).
 
+pub mod blend;
 pub mod emit;
 mod heatmap;
 pub mod place;
@@ -25,7 +28,7 @@ mod text;
 pub use heatmap::svg as placement_map;
 pub use text::render_fix_text;
 
-use crate::check::{check, CheckOptions, CheckOutcome};
+use crate::check::{check, CheckOptions, CheckOutcome, Verdict};
 use crate::error::{Error, Result};
 use crate::job::{self, Job, Overrides};
 use crate::report::{Report, Summary};
@@ -64,6 +67,25 @@ pub struct SpeedRow {
     pub note: Option<String>,
 }
 
+/// One proposed corner blend in display units.
+#[derive(Debug, Clone, Serialize)]
+pub struct BlendRow {
+    /// Name of the waypoint the blend rounds.
+    pub waypoint: String,
+    /// Radius, in the file's length unit (`length_unit`).
+    pub radius: f64,
+    /// What set the radius: a cap or half of a neighbouring segment.
+    pub bound: blend::RadiusBound,
+    /// Turn between the two segments, in the file's angle unit.
+    pub turn: f64,
+    /// Lowest TCP speed in the blend as a share of the programmed speed, in %.
+    pub lowest_speed_percent: f64,
+    /// The corner lies inside a process (both neighbours are process segments).
+    pub process: bool,
+    /// Why this blend, in words.
+    pub why: String,
+}
+
 /// What the configuration search found.
 #[derive(Debug, Clone, Serialize)]
 pub struct ConfigOutcome {
@@ -88,6 +110,12 @@ pub struct FixReport {
     pub speeds: Vec<SpeedRow>,
     /// What the configuration search found.
     pub configuration: ConfigOutcome,
+    /// Length unit of the blend radii (`mm` or `m`).
+    pub length_unit: String,
+    /// Corner blends proposed and kept in the amended file.
+    pub blends: Vec<BlendRow>,
+    /// Why blends that were tried were not kept.
+    pub blend_note: Option<String>,
     /// What the tool-spin search found (free-spin tools).
     pub spin: Option<spin::SpinOutcome>,
     /// Why a free-spin tool got no spin profile.
@@ -249,6 +277,12 @@ pub fn fix(job: &Job, out: &Path, options: &CheckOptions) -> Result<FixReport> {
         scale_accelerations(&mut amended, f2, &mut changes);
     }
 
+    // Blends last: they reshape the timing around corners only, and the speeds above stand
+    // (a blend runs at the cruise rate, which the speed proposals bound).
+    let amended_so_far = !changes.is_empty();
+    let (blends, blend_note) =
+        try_blends(&mut amended, &before, amended_so_far, options, &mut changes)?;
+
     let (amended_file, after) = if changes.is_empty() {
         (None, None)
     } else {
@@ -295,6 +329,9 @@ pub fn fix(job: &Job, out: &Path, options: &CheckOptions) -> Result<FixReport> {
             running: running.iter().map(|c| c.to_string()).collect(),
             chosen: chosen.map(|c| c.to_string()),
         },
+        length_unit: job.units.length.name().to_string(),
+        blends: blends.iter().map(|b| blend_row(&amended, b)).collect(),
+        blend_note,
         spin: spin_outcome,
         spin_note,
         changes,
@@ -302,6 +339,114 @@ pub fn fix(job: &Job, out: &Path, options: &CheckOptions) -> Result<FixReport> {
         after,
         cautions: crate::report::cautions_for(&job),
     })
+}
+
+/// Propose corner blends on `amended` (see [`blend`]) and keep them when the re-check is
+/// better. The measure: no more `collision` findings, and fewer errors, or as many errors and
+/// fewer warnings, than the path without them (the check `before` of the programmed path
+/// when nothing else was amended, else a check of `amended`). Nothing is tried when that
+/// path passes. Returns the blends kept and, when some were tried but not kept, why.
+fn try_blends(
+    amended: &mut Job,
+    before: &CheckOutcome,
+    amended_so_far: bool,
+    options: &CheckOptions,
+    changes: &mut Vec<String>,
+) -> Result<(Vec<blend::BlendProposal>, Option<String>)> {
+    if !amended_so_far && before.verdict() == Verdict::Pass {
+        return Ok((Vec::new(), None));
+    }
+    let proposed = blend::proposals(amended, &crate::plan::plan(amended, options.max_samples)?);
+    if proposed.is_empty() {
+        return Ok((Vec::new(), None));
+    }
+    let checked;
+    let reference = if amended_so_far {
+        checked = run_check(amended, options, &mut [])?;
+        &checked
+    } else {
+        before
+    };
+    if reference.verdict() == Verdict::Pass {
+        return Ok((Vec::new(), None));
+    }
+    let mut trial_job = amended.clone();
+    blend::apply(&mut trial_job, &proposed);
+    let trial = run_check(&trial_job, options, &mut [])?;
+    let counts = |o: &CheckOutcome| (o.errors(), o.warnings());
+    let better = trial.collisions() <= reference.collisions() && counts(&trial) < counts(reference);
+    if !better {
+        return Ok((
+            Vec::new(),
+            Some(format!(
+                "blends at {} corners tried and not kept: with them the path has {} errors and {} \
+                 warnings, without them {} and {}",
+                proposed.len(),
+                trial.errors(),
+                trial.warnings(),
+                reference.errors(),
+                reference.warnings()
+            )),
+        ));
+    }
+    *amended = trial_job;
+    let l = amended.units.length_to_m();
+    let (small, large) = proposed.iter().fold((f64::INFINITY, 0.0f64), |(a, b), p| {
+        (a.min(p.radius), b.max(p.radius))
+    });
+    changes.push(format!(
+        "corner blends at {} waypoints, {} … {} {}: the TCP no longer stops there",
+        proposed.len(),
+        emit::num(small / l, 4),
+        emit::num(large / l, 4),
+        amended.units.length.name()
+    ));
+    Ok((proposed, None))
+}
+
+/// The report row of blend `b` proposed on `job`, with its reason.
+fn blend_row(job: &Job, b: &blend::BlendProposal) -> BlendRow {
+    let (l, a) = (job.units.length_to_m(), job.units.angle_to_rad());
+    let (unit, angle_unit) = (job.units.length.name(), job.units.angle.name());
+    let turn = format!("turning {} {angle_unit}", emit::num(b.turn / a, 1));
+    let share = b.lowest_speed_share * 100.0;
+    let speed = if b.process {
+        format!(
+            "process corner {turn}: the TCP keeps {share:.1} % of the programmed speed \
+             (within the {} % tolerance) instead of stopping",
+            emit::num(job.limits.process_speed_tolerance * 100.0, 2)
+        )
+    } else {
+        format!("travel corner {turn}: the TCP keeps moving instead of stopping")
+    };
+    let segment = |k: usize| {
+        format!(
+            "half of segment {} → {}",
+            job.waypoint_name(k),
+            job.waypoint_name(k + 1)
+        )
+    };
+    let bound = match b.bound {
+        blend::RadiusBound::ProcessCap => format!(
+            "the process cap of {} {unit}",
+            emit::num(blend::PROCESS_BLEND_CAP / l, 4)
+        ),
+        blend::RadiusBound::TravelCap => format!(
+            "the travel cap of {} {unit}",
+            emit::num(blend::TRAVEL_BLEND_CAP / l, 4)
+        ),
+        blend::RadiusBound::HalfBefore => segment(b.waypoint - 1),
+        blend::RadiusBound::HalfAfter => segment(b.waypoint),
+    };
+    BlendRow {
+        waypoint: job.waypoint_name(b.waypoint),
+        radius: b.radius / l,
+        bound: b.bound,
+        turn: b.turn / a,
+        lowest_speed_percent: share,
+        process: b.process,
+        why: format!("{speed}; radius set by {bound}"),
+    }
 }
 
 /// Scale the TCP and tool angular accelerations of `job` by `f2` (rounded down to three

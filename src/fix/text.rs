@@ -79,6 +79,22 @@ pub fn render_fix_text(r: &FixReport) -> String {
             let _ = writeln!(out, "       note: {}", v(n));
         }
     }
+    if !r.blends.is_empty() {
+        let _ = writeln!(out);
+        let _ = writeln!(out, "Corner blends proposed ({}):", r.length_unit);
+        for b in &r.blends {
+            let _ = writeln!(
+                out,
+                "  {:<16} {:>8}  {}",
+                v(&b.waypoint),
+                num(b.radius, 4),
+                v(&b.why)
+            );
+        }
+    }
+    if let Some(n) = &r.blend_note {
+        let _ = writeln!(out, "Corner blends: {}", v(n));
+    }
     let _ = writeln!(out);
     let c = &r.configuration;
     if let Some(used) = &c.used {
