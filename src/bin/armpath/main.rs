@@ -35,8 +35,8 @@ enum Command {
     Fk(FkArgs),
     /// Inverse kinematics: joints for a TCP pose.
     Ik(IkArgs),
-    /// Search speeds, arm configuration and tool spin that make a path pass; write the
-    /// amended path file and compare the check before and after.
+    /// Search speeds, corner blends, arm configuration and tool spin that make a path pass;
+    /// write the amended path file and compare the check before and after.
     Fix(fix::FixArgs),
     /// Check the path with the work frame moved over a grid of placements.
     Place(place::PlaceArgs),
