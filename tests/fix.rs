@@ -302,8 +302,10 @@ fn without_free_spin_fix_asks_for_a_configuration_that_runs_the_path() {
 /// travel move to `above`, a joint move down to the bead start `p0`, then twelve process
 /// segments along a 100 mm arc (7.5° apart, chords of 13.08 mm) and a 4 mm tail `p13` that
 /// turns 7.5° further, at 20 mm/s; then straight up 50 mm to `leave` and across to `last`.
-/// TCP acceleration 500 mm/s². Returns the YAML and the waypoints' (name, x, y, z) in mm.
-fn polyline_bead() -> (String, Vec<(String, [f64; 3])>) {
+/// TCP acceleration 500 mm/s². With `kink`, a 4 mm travel step along +x at 1000 mm/s comes
+/// between `leave` and `last` (also at 1000 mm/s). Returns the YAML and the waypoints'
+/// (name, x, y, z) in mm.
+fn polyline_bead(kink: bool) -> (String, Vec<(String, [f64; 3])>) {
     let mut pts: Vec<(String, [f64; 3])> = vec![
         ("home".into(), [-100.0, -200.0, 100.0]),
         ("above".into(), [0.0, -100.0, 50.0]),
@@ -325,6 +327,9 @@ fn polyline_bead() -> (String, Vec<(String, [f64; 3])>) {
     ];
     pts.push(("p13".into(), tail));
     pts.push(("leave".into(), [tail[0], tail[1], 50.0]));
+    if kink {
+        pts.push(("kink".into(), [tail[0] + 4.0, tail[1], 50.0]));
+    }
     pts.push(("last".into(), [0.0, 150.0, 100.0]));
     pts[1].1 = [arc(0)[0], arc(0)[1], 50.0];
     let mut y = format!(
@@ -336,6 +341,7 @@ fn polyline_bead() -> (String, Vec<(String, [f64; 3])>) {
         let keys = match name.as_str() {
             "p0" => ", motion: joint",
             n if n.starts_with('p') => ", process: true, speed: 20",
+            "kink" | "last" if kink => ", speed: 1000",
             _ => "",
         };
         y += &format!(
@@ -344,6 +350,43 @@ fn polyline_bead() -> (String, Vec<(String, [f64; 3])>) {
         );
     }
     (y, pts)
+}
+
+/// Check the bead of [`polyline_bead`] (which passes with warnings) and fix it: the
+/// temporary folder, the waypoints, the check before, the amended file, the fix report and
+/// its text.
+#[allow(clippy::type_complexity)]
+fn fix_bead(
+    kink: bool,
+) -> (
+    tempfile::TempDir,
+    Vec<(String, [f64; 3])>,
+    serde_json::Value,
+    std::path::PathBuf,
+    serde_json::Value,
+    String,
+) {
+    let (yaml, pts) = polyline_bead(kink);
+    let (dir, file) = path_file(&yaml);
+    let (code0, before) = check_json(&file, &[]);
+    assert_eq!(code0, 0, "{before:#}");
+    let (out, r, stdout) = fix_into(&file, dir.path(), "fixed");
+    (dir, pts, before, out, r, stdout)
+}
+
+/// The blends of a fix report: (waypoint, radius in the file's unit).
+fn blends_of(r: &serde_json::Value) -> Vec<(String, f64)> {
+    r["blends"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|b| {
+            (
+                b["waypoint"].as_str().unwrap().to_string(),
+                f64_of(&b["radius"]),
+            )
+        })
+        .collect()
 }
 
 #[test]
@@ -360,24 +403,12 @@ fn fix_blends_a_polyline_bead_and_keeps_the_stops_it_needs() {
     // source: the speed of a blend whose velocity changes linearly in time (v·cos(θ/2), see
     // src/fix/blend.rs); trapezoidal profile T = L/v + v/a (Biagiotti & Melchiorri 2008,
     // §3.2.2; from memory); common practice (the 5 mm and 20 mm caps, the 5 % tolerance)
-    let (yaml, pts) = polyline_bead();
-    let (dir, file) = path_file(&yaml);
-    let (code0, before) = check_json(&file, &[]);
-    assert_eq!(code0, 0, "{before:#}");
+    let (_dir, pts, before, out, r, stdout) = fix_bead(false);
     let dips_before = findings(&before, "process_speed").len();
     assert!(dips_before >= 12, "{before:#}");
-    let (out, r, stdout) = fix_into(&file, dir.path(), "fixed");
     assert!(stdout.contains("Corner blends proposed (mm):"), "{stdout}");
     let blends = r["blends"].as_array().unwrap();
-    let got: Vec<(String, f64)> = blends
-        .iter()
-        .map(|b| {
-            (
-                b["waypoint"].as_str().unwrap().to_string(),
-                f64_of(&b["radius"]),
-            )
-        })
-        .collect();
+    let got = blends_of(&r);
     let mut want: Vec<(String, f64)> = (1..=11).map(|i| (format!("p{i}"), 5.0)).collect();
     want.push(("p12".into(), 2.0));
     want.push(("leave".into(), 20.0));
@@ -432,7 +463,7 @@ fn fixing_the_blended_bead_again_proposes_nothing_more() {
     // stop: a second fix of it has no blend to propose and nothing to amend (the bead still
     // starts from rest after the joint move, which no blend changes).
     // source: common practice (a fix applied twice changes nothing the second time)
-    let (yaml, _) = polyline_bead();
+    let (yaml, _) = polyline_bead(false);
     let (dir, file) = path_file(&yaml);
     let (out, first, _) = fix_into(&file, dir.path(), "fixed");
     assert!(!first["blends"].as_array().unwrap().is_empty(), "{first:#}");
@@ -441,4 +472,34 @@ fn fixing_the_blended_bead_again_proposes_nothing_more() {
     assert!(r["blend_note"].is_null(), "{r:#}");
     assert!(r["amended_file"].is_null(), "{r:#}");
     assert!(!out2.exists());
+}
+
+#[test]
+fn fix_leaves_out_the_blends_that_make_their_segments_worse() {
+    // The bead above with a 4 mm travel step at 1000 mm/s after `leave`. Blending `leave` and
+    // `kink` (2 mm each, half the step) turns the TCP's velocity by about 1.2 m/s within a
+    // window of 2h = 2·2 mm / 1000 mm/s = 4 ms, an acceleration near 300 m/s² where the
+    // stops ramp at 500 mm/s²: the joints there accelerate far beyond their limits, so the
+    // whole set fails the re-check. The second try leaves out the blends next to the
+    // segments that got worse (leave and kink) and keeps the bead's twelve, which pass.
+    // source: the blend's acceleration (v_out − v_in)/(2h) (src/motion/corner.rs, derived
+    // there); common practice (keep what helps, drop what harms)
+    let (_dir, _, before, out, r, _) = fix_bead(true);
+    let want: Vec<(String, f64)> = (1..=12)
+        .map(|i| (format!("p{i}"), if i < 12 { 5.0 } else { 2.0 }))
+        .collect();
+    assert_eq!(blends_of(&r), want, "{r:#}");
+    assert!(
+        r["blend_note"]
+            .as_str()
+            .is_some_and(|n| n.contains("left out at leave, kink")),
+        "{r:#}"
+    );
+    let (code1, after) = check_json(&out, &[]);
+    assert_eq!(code1, 0, "{after:#}");
+    assert_eq!(after["summary"]["errors"], 0, "{after:#}");
+    assert!(
+        findings(&after, "process_speed").len() < findings(&before, "process_speed").len(),
+        "{after:#}"
+    );
 }

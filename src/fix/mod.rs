@@ -341,11 +341,18 @@ pub fn fix(job: &Job, out: &Path, options: &CheckOptions) -> Result<FixReport> {
     })
 }
 
+/// Checks a set of corner blends may take: the whole set, then the set without the blends
+/// next to segments that it made worse. Each is a full check; a third narrowing would mostly
+/// chase the same corners again.
+const BLEND_TRIALS: usize = 2;
+
 /// Propose corner blends on `amended` (see [`blend`]) and keep them when the re-check is
 /// better. The measure: no more `collision` findings, and fewer errors, or as many errors and
 /// fewer warnings, than the path without them (the check `before` of the programmed path
 /// when nothing else was amended, else a check of `amended`). Nothing is tried when that
-/// path passes. Returns the blends kept and, when some were tried but not kept, why.
+/// path passes. When the whole set is not better, the blends next to a segment where it has
+/// more findings (errors first, then warnings) are left out and the rest tried once more.
+/// Returns the blends kept and a note on those tried and not kept.
 fn try_blends(
     amended: &mut Job,
     before: &CheckOutcome,
@@ -356,8 +363,9 @@ fn try_blends(
     if !amended_so_far && before.verdict() == Verdict::Pass {
         return Ok((Vec::new(), None));
     }
-    let proposed = blend::proposals(amended, &crate::plan::plan(amended, options.max_samples)?);
-    if proposed.is_empty() {
+    let mut candidates =
+        blend::proposals(amended, &crate::plan::plan(amended, options.max_samples)?);
+    if candidates.is_empty() {
         return Ok((Vec::new(), None));
     }
     let checked;
@@ -370,38 +378,87 @@ fn try_blends(
     if reference.verdict() == Verdict::Pass {
         return Ok((Vec::new(), None));
     }
-    let mut trial_job = amended.clone();
-    blend::apply(&mut trial_job, &proposed);
-    let trial = run_check(&trial_job, options, &mut [])?;
     let counts = |o: &CheckOutcome| (o.errors(), o.warnings());
-    let better = trial.collisions() <= reference.collisions() && counts(&trial) < counts(reference);
-    if !better {
-        return Ok((
-            Vec::new(),
-            Some(format!(
-                "blends at {} corners tried and not kept: with them the path has {} errors and {} \
-                 warnings, without them {} and {}",
-                proposed.len(),
-                trial.errors(),
-                trial.warnings(),
-                reference.errors(),
-                reference.warnings()
-            )),
-        ));
+    let mut left_out = Vec::new();
+    let mut last_trial = (0, 0);
+    for _ in 0..BLEND_TRIALS {
+        let mut trial_job = amended.clone();
+        blend::apply(&mut trial_job, &candidates);
+        let trial = run_check(&trial_job, options, &mut [])?;
+        if trial.collisions() <= reference.collisions() && counts(&trial) < counts(reference) {
+            *amended = trial_job;
+            changes.push(blend_change(amended, &candidates));
+            let note = (!left_out.is_empty()).then(|| {
+                format!(
+                    "left out at {}: with blends there the path has more findings next to them",
+                    left_out.join(", ")
+                )
+            });
+            return Ok((candidates, note));
+        }
+        last_trial = counts(&trial);
+        let worse = worse_segments(&trial, reference);
+        let (keep, drop): (Vec<blend::BlendProposal>, Vec<_>) = candidates
+            .iter()
+            .partition(|b| !worse.contains(&(b.waypoint - 1)) && !worse.contains(&b.waypoint));
+        if keep.is_empty() || drop.is_empty() {
+            break;
+        }
+        left_out.extend(drop.iter().map(|b| amended.waypoint_name(b.waypoint)));
+        candidates = keep;
     }
-    *amended = trial_job;
-    let l = amended.units.length_to_m();
-    let (small, large) = proposed.iter().fold((f64::INFINITY, 0.0f64), |(a, b), p| {
+    Ok((
+        Vec::new(),
+        Some(format!(
+            "blends at {} corners tried and not kept: with them the path has {} errors and {} \
+             warnings, without them {} and {}",
+            candidates.len() + left_out.len(),
+            last_trial.0,
+            last_trial.1,
+            reference.errors(),
+            reference.warnings()
+        )),
+    ))
+}
+
+/// Segments (sorted) on which `trial` has more errors than `reference`, or as many and more
+/// warnings.
+fn worse_segments(trial: &CheckOutcome, reference: &CheckOutcome) -> Vec<usize> {
+    use std::collections::BTreeMap;
+    let tally = |o: &CheckOutcome| {
+        let mut per: BTreeMap<usize, (usize, usize)> = BTreeMap::new();
+        for f in &o.findings {
+            if let Some(k) = f.segment {
+                let e = per.entry(k).or_default();
+                match f.severity() {
+                    crate::assess::Severity::Error => e.0 += 1,
+                    crate::assess::Severity::Warning => e.1 += 1,
+                }
+            }
+        }
+        per
+    };
+    let old = tally(reference);
+    tally(trial)
+        .into_iter()
+        .filter(|(k, n)| *n > old.get(k).copied().unwrap_or_default())
+        .map(|(k, _)| k)
+        .collect()
+}
+
+/// The change line for the blends kept.
+fn blend_change(job: &Job, blends: &[blend::BlendProposal]) -> String {
+    let l = job.units.length_to_m();
+    let (small, large) = blends.iter().fold((f64::INFINITY, 0.0f64), |(a, b), p| {
         (a.min(p.radius), b.max(p.radius))
     });
-    changes.push(format!(
+    format!(
         "corner blends at {} waypoints, {} … {} {}: the TCP no longer stops there",
-        proposed.len(),
+        blends.len(),
         emit::num(small / l, 4),
         emit::num(large / l, 4),
-        amended.units.length.name()
-    ));
-    Ok((proposed, None))
+        job.units.length.name()
+    )
 }
 
 /// The report row of blend `b` proposed on `job`, with its reason.
