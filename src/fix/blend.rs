@@ -21,7 +21,7 @@
 //!   both ends of a segment never overlap (then the window is never cut either);
 //! - rounded down to 0.1 mm ([`MIN_BLEND`]), and none where that leaves less;
 //! - at a process corner only where the blend's lowest speed stays within the process speed
-//!   tolerance of the faster process neighbour's programmed speed: `cos(θ/2) ≥ 1 − tolerance`
+//!   tolerance of the faster of the two programmed speeds: `cos(θ/2) ≥ 1 − tolerance`
 //!   for equal speeds, about 36° for the default 5 %. Off process any turn qualifies.
 //!
 //! `fix` keeps the proposed blends only when the re-check is better (see [`super::fix`]).
@@ -31,9 +31,9 @@ use crate::plan::{Plan, Segment};
 use nalgebra::Vector3;
 use std::sync::Arc;
 
-/// Largest blend `fix` proposes where a process segment meets the corner (m): 5 mm. A bead or
-/// cut whose corner is rounded wider than that departs visibly from the drawn seam (common
-/// practice).
+/// Largest blend `fix` proposes inside a process (both neighbours process segments) (m):
+/// 5 mm. A bead or cut whose corner is rounded wider than that departs visibly from the drawn
+/// seam (common practice).
 pub const PROCESS_BLEND_CAP: f64 = 0.005;
 
 /// Largest blend `fix` proposes between travel segments (m): 20 mm. Approach and departure

@@ -114,7 +114,8 @@ pub struct FixReport {
     pub length_unit: String,
     /// Corner blends proposed and kept in the amended file.
     pub blends: Vec<BlendRow>,
-    /// Why blends that were tried were not kept.
+    /// Blends tried and not kept, and why: the waypoints left out when the rest was kept,
+    /// or the re-check's counts when none was.
     pub blend_note: Option<String>,
     /// What the tool-spin search found (free-spin tools).
     pub spin: Option<spin::SpinOutcome>,
