@@ -503,3 +503,59 @@ fn fix_leaves_out_the_blends_that_make_their_segments_worse() {
         "{after:#}"
     );
 }
+
+#[test]
+fn fix_does_not_apply_a_tool_spin_that_drives_the_tool_into_the_cell() {
+    // The line of tests/fix.rs's spin test (arm6 straight through a wrist singularity, tool
+    // 120 mm out and tilted 20° about its y axis, free to spin), with a camera on the tool: a
+    // 20 mm ball 150 mm to the side of the TCP along its y axis. fix's spin search (which
+    // ignores the cell) turns the tool by φ between −90° and −65° about its z axis. The TCP
+    // frame at rpy (180, 70, 180) deg has x = (−cos 70°, 0, −sin 70°), y = (0, 1, 0),
+    // z = (sin 70°, 0, −cos 70°) in the base frame (R = Rz(180°)·Ry(70°)·Rx(180°)), so the
+    // camera centre sits at the TCP plus 150·(−sin φ·x + cos φ·y):
+    //   φ = 0 (as programmed):  (0, +150, 0) mm from the TCP, at z = 930 mm;
+    //   φ = −65° … −90°:         (−46.5 … −51.3, +63.4 … 0, −127.7 … −141.0) mm.
+    // A 50 × 480 × 50 mm post centred at (1000, 30, 795) mm (x 975…1025, y −210…270,
+    // z 770…820) holds every spun camera centre (TCP x 1050, y −200…200, z 930) but stays
+    // 113 mm − 20 mm = 93 mm from the programmed camera (x 1050 − 1025 = 25, z 930 − 820 =
+    // 110). So the spin that clears the singularity drives the camera into the post: fix
+    // must keep the programmed orientations and say why.
+    // source: rotation matrices from rpy (common practice); robots/arm6.urdf geometry
+    let yaml = format!(
+        "robot: {}\ncell: post.yaml\ntool:\n  xyz: [0, 0, 120]\n  rpy: [0, 20, 0]\n  free_spin: true\n  \
+         geometry:\n    - {{name: camera, sphere: {{radius: 20}}, xyz: [0, 150, 120]}}\nspeed: 25\n\
+         waypoints:\n  - {{name: left, xyz: [1050, -200, 930], rpy: [180, 70, 180]}}\n  - {{name: right, xyz: [1050, 200, 930], rpy: [180, 70, 180]}}\n",
+        arm6()
+    );
+    let (dir, file) = path_file(&yaml);
+    std::fs::write(
+        dir.path().join("post.yaml"),
+        "units: {length: mm, angle: deg}\nbodies:\n  - {name: post, frame: base, box: [50, 480, 50], xyz: [1000, 30, 795]}\n",
+    )
+    .unwrap();
+    let (code0, before) = check_json(&file, &[]);
+    assert_eq!(code0, 1, "{before:#}");
+    assert!(findings(&before, "collision").is_empty(), "{before:#}");
+    let out = dir.path().join("fixed.yaml");
+    let json = dir.path().join("fix.json");
+    let (_code, stdout, stderr) = run(&[
+        "fix",
+        file.to_str().unwrap(),
+        "--out",
+        out.to_str().unwrap(),
+        "--json",
+        json.to_str().unwrap(),
+    ]);
+    let r: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(&json).unwrap()).unwrap();
+    let spin = &r["spin"];
+    // The search did find the spin (so the test exercises the collision rule) ...
+    assert!(f64_of(&spin["min_spin"]) <= -60.0, "{r:#}");
+    // ... and fix refused it because of the collision.
+    assert_eq!(spin["applied"], false, "{r:#}");
+    assert_eq!(spin["collides"][0], "camera ⟷ post", "{r:#}");
+    assert!(
+        stdout.contains("not applied: the spun tool collides (camera ⟷ post)"),
+        "{stdout}{stderr}"
+    );
+}

@@ -28,6 +28,7 @@ mod text;
 pub use heatmap::svg as placement_map;
 pub use text::render_fix_text;
 
+use crate::assess::Kind;
 use crate::check::{check, CheckOptions, CheckOutcome, Verdict};
 use crate::error::{Error, Result};
 use crate::job::{self, Job, Overrides};
@@ -200,6 +201,9 @@ pub fn fix(job: &Job, out: &Path, options: &CheckOptions) -> Result<FixReport> {
                 // A spin that makes the tool or arm hit something is no fix, whatever else
                 // it improves.
                 let no_new_contact = trial.collisions() <= before.collisions();
+                if !no_new_contact {
+                    s.outcome.collides = collision_pairs(&trial);
+                }
                 if no_new_contact && (t < b || (t == b && trial.margin() > before.margin() + 0.01))
                 {
                     amended = s.job.clone();
@@ -529,6 +533,24 @@ fn scale_accelerations(job: &mut Job, f2: f64, changes: &mut Vec<String>) {
         job.units.angle.name(),
         1.0 / f2.sqrt()
     ));
+}
+
+/// The body pairs of `outcome`'s collision findings, `"a ⟷ b"`, each once, in path order.
+fn collision_pairs(outcome: &CheckOutcome) -> Vec<String> {
+    let mut pairs: Vec<String> = Vec::new();
+    for f in outcome
+        .findings
+        .iter()
+        .filter(|f| f.kind == Kind::Collision)
+    {
+        if let Some([a, b]) = &f.bodies {
+            let pair = format!("{a} ⟷ {b}");
+            if !pairs.contains(&pair) {
+                pairs.push(pair);
+            }
+        }
+    }
+    pairs
 }
 
 /// The first of the `running` configurations (which run the whole path) whose check has no

@@ -78,6 +78,10 @@ pub struct SpinOutcome {
     pub added_waypoints: usize,
     /// The spun path was kept (its check beat the programmed path's).
     pub applied: bool,
+    /// When the spun path was refused because its check has more collisions than the
+    /// programmed path's: the body pairs that collide in it (`"a ⟷ b"`, each once, in path
+    /// order). Empty otherwise.
+    pub collides: Vec<String>,
 }
 
 /// A spin search result: the amended job and the outcome.
@@ -368,6 +372,7 @@ pub fn search(job: &Job, robot: &Robot, options: &CheckOptions) -> Result<Option
             min_limit_margin: path.iter().map(|s| s.limit).fold(f64::INFINITY, f64::min),
             added_waypoints: added,
             applied: false,
+            collides: Vec::new(),
         },
     }))
 }

@@ -121,11 +121,16 @@ pub fn render_fix_text(r: &FixReport) -> String {
             s.min_singularity,
             s.min_limit_margin,
             if s.applied {
-                ""
+                String::new()
             } else if s.min_spin == 0.0 && s.max_spin == 0.0 {
-                " — no spin needed"
+                " — no spin needed".to_string()
+            } else if !s.collides.is_empty() {
+                format!(
+                    " — not applied: the spun tool collides ({}); the spin search does not see the cell",
+                    v(&s.collides.join(", "))
+                )
             } else {
-                " — not applied: the programmed orientations check as well or better"
+                " — not applied: the programmed orientations check as well or better".to_string()
             }
         );
     }
