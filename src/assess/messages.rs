@@ -220,6 +220,7 @@ pub(super) fn finding(robot: &Robot, job: &Job, plan: &Plan, run: &Run) -> Findi
         quantity: q,
         deltas: (run.kind == Kind::JointJump).then_some(run.delta),
         worst_sample: Some(run.worst_sample),
+        worst_joints: Some(run.worst_joints),
         message,
     }
 }

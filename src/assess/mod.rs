@@ -125,6 +125,8 @@ pub(crate) struct Run {
     pub value: f64,
     pub limit: f64,
     pub worst_sample: usize,
+    /// Joints at `worst_sample` (the drawn pose of the finding).
+    pub worst_joints: Joints,
     /// Extra facts for the message.
     pub class: Option<SingularityClass>,
     pub delta: Joints,
@@ -238,6 +240,7 @@ impl<'a> Assessor<'a> {
                 run.value = f.value;
                 run.limit = f.limit;
                 run.worst_sample = rec.index;
+                run.worst_joints = rec.joints;
                 run.class = f.class.or(run.class);
                 run.delta = f.delta;
                 run.orientation_error = f.orientation_error;
@@ -257,6 +260,7 @@ impl<'a> Assessor<'a> {
             value: f.value,
             limit: f.limit,
             worst_sample: rec.index,
+            worst_joints: rec.joints,
             class: f.class,
             delta: f.delta,
             orientation_error: f.orientation_error,

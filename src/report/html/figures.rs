@@ -4,6 +4,7 @@
 use super::data::{position_at, PlotData, TracePoint};
 use super::envelope::Envelope;
 use super::plots::{self, Axis, Figure, Line, Mark, Rule, SPlot};
+use super::scene::{Scene, SceneView};
 use super::views::{self, View, ViewMark};
 use crate::assess::Severity;
 use crate::report::{FindingReport, Report};
@@ -18,17 +19,28 @@ pub const MAX_MARKED: usize = 300;
 const MAX_WAYPOINT_LINES: usize = 400;
 
 /// Width of the page's content (px): full-width plots, three joint plots or views per row.
-const FULL: u32 = 1160;
+pub(super) const FULL: u32 = 1160;
 const JOINT: (u32, u32) = (380, 210);
 const VIEW: (u32, u32) = (380, 400);
 
 /// Where a finding is shown first.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum Place {
+    /// That joint's position plot (against s).
     Joint(usize),
+    /// Joint speeds against s.
     Speed,
+    /// The singularity measure against s.
     Singularity,
+    /// Tool angular speed against s.
     Tool,
+    /// Joint accelerations over time.
+    Acceleration,
+    /// Commanded TCP speed over time.
+    TcpSpeed,
+    /// The nearest distance to the cell against s.
+    Clearance,
+    /// The path views with the arm (top view first).
     Views,
     /// Not located on the path (input findings).
     Nowhere,
@@ -48,6 +60,11 @@ pub fn place(f: &FindingReport, joint_names: &[String]) -> Place {
         "joint_speed" => Place::Speed,
         "singularity" => Place::Singularity,
         "tool_angular_speed" => Place::Tool,
+        "joint_acceleration" => Place::Acceleration,
+        "process_speed" => Place::TcpSpeed,
+        "clearance" => Place::Clearance,
+        // A contact is seen best on the arm drawn at its worst sample.
+        "collision" => Place::Views,
         "joint_jump" => {
             // The joint that jumps furthest shows the step best.
             let biggest = f.joint_deltas.as_ref().and_then(|d| {
@@ -78,13 +95,17 @@ pub struct Figures {
     pub joints: Vec<Result<Figure, String>>,
     /// Top (x–y), side (x–z) and end (y–z) views.
     pub views: [Result<Figure, String>; 3],
+    /// Nearest distance to the cell against s and against t; `None` without a cell check.
+    pub clearance: Option<[Result<Figure, String>; 2]>,
+    /// What the views draw of the arm: ghost poses, the slider's poses.
+    pub scene: Scene,
     /// Which findings (1-based numbers) got a marker, and where first.
     pub places: Vec<(usize, Place)>,
 }
 
 /// A finding's marker; against time it carries no element id (the table links to the
-/// marker against s).
-fn mark(number: usize, f: &FindingReport, axis: Axis) -> Mark {
+/// marker against s, or to the timing plots for the findings placed there).
+pub(super) fn mark_on(number: usize, f: &FindingReport, axis: Axis) -> Mark {
     let (x, id) = match axis {
         Axis::Distance => (f.s_mm, Some(pin_id(number))),
         Axis::Time => (f.t_s, None),
@@ -130,8 +151,8 @@ fn scaled(runs: Vec<Vec<(f64, f64)>>, k: f64) -> Vec<Vec<(f64, f64)>> {
 
 /// One x axis of the page: its extent, waypoint lines and unreachable stretches in its unit,
 /// and the series against it.
-struct AxisData<'a> {
-    axis: Axis,
+pub(super) struct AxisData<'a> {
+    pub(super) axis: Axis,
     x_max: f64,
     /// Factor from the envelope's SI coordinate to the axis unit.
     k: f64,
@@ -192,7 +213,13 @@ impl<'a> AxisData<'a> {
             .unwrap_or_default()
     }
 
-    fn plot(&self, size: (u32, u32), y_desc: String, y: [f64; 2], lines: Vec<Line>) -> SPlot<'_> {
+    pub(super) fn plot(
+        &self,
+        size: (u32, u32),
+        y_desc: String,
+        y: [f64; 2],
+        lines: Vec<Line>,
+    ) -> SPlot<'_> {
         SPlot {
             size,
             axis: self.axis,
@@ -228,11 +255,15 @@ fn marks(report: &Report, places: &[(usize, Place)], joints: usize, axis: Axis) 
             continue;
         };
         match p {
-            Place::Joint(k) => m.joints[k].push(mark(n, f, axis)),
-            Place::Speed => m.main[0].push(mark(n, f, axis)),
-            Place::Singularity => m.main[1].push(mark(n, f, axis)),
-            Place::Tool => m.main[2].push(mark(n, f, axis)),
-            Place::Views | Place::Nowhere => {}
+            Place::Joint(k) => m.joints[k].push(mark_on(n, f, axis)),
+            Place::Speed => m.main[0].push(mark_on(n, f, axis)),
+            Place::Singularity => m.main[1].push(mark_on(n, f, axis)),
+            Place::Tool => m.main[2].push(mark_on(n, f, axis)),
+            Place::Acceleration
+            | Place::TcpSpeed
+            | Place::Clearance
+            | Place::Views
+            | Place::Nowhere => {}
         }
     }
     m
@@ -358,8 +389,25 @@ fn main_plots(
 }
 
 /// The TCP speed on straight-line segments against the job's speed, and each joint's
-/// acceleration against its allowed acceleration, over time.
-fn timing_plots(report: &Report, data: &PlotData, ax: &AxisData) -> [Result<Figure, String>; 2] {
+/// acceleration against its allowed acceleration, over time; `process_speed` and
+/// `joint_acceleration` findings are marked there, and the findings table links to them.
+fn timing_plots(
+    report: &Report,
+    data: &PlotData,
+    ax: &AxisData,
+    places: &[(usize, Place)],
+) -> [Result<Figure, String>; 2] {
+    let marks_at = |want: Place| -> Vec<Mark> {
+        places
+            .iter()
+            .filter(|&&(_, p)| p == want)
+            .filter_map(|&(n, _)| {
+                let mut m = mark_on(n, report.findings.get(n - 1)?, Axis::Time);
+                m.id = Some(pin_id(n));
+                Some(m)
+            })
+            .collect()
+    };
     let job_speed = report.path.speed_mm_s;
     let tcp_runs = ax.runs(data.tcp_speed_series());
     let tcp_peak = bounds(&tcp_runs).map_or(0.0, |b| b[1]);
@@ -374,6 +422,7 @@ fn timing_plots(report: &Report, data: &PlotData, ax: &AxisData) -> [Result<Figu
             label: None,
         }],
     );
+    tcp.marks = marks_at(Place::TcpSpeed);
     tcp.rules.push(Rule {
         y: job_speed,
         label: format!("job speed {} mm/s", super::nice(job_speed)),
@@ -386,6 +435,7 @@ fn timing_plots(report: &Report, data: &PlotData, ax: &AxisData) -> [Result<Figu
         [0.0, (peak * 1.1).max(1.2)],
         lines,
     );
+    acc.marks = marks_at(Place::Acceleration);
     acc.rules.push(Rule {
         y: 1.0,
         label: {
@@ -493,12 +543,15 @@ pub fn build(report: &Report, data: &PlotData) -> Figures {
         .collect();
 
     let trace = data.trace().points();
-    let views = views(report, data, &trace, &places);
+    let scene = Scene::new(report, data);
+    let views = views(report, data, &trace, &places, &scene);
     Figures {
         speed,
         singularity,
         tool,
-        timing: timing_plots(report, data, &by_t),
+        timing: timing_plots(report, data, &by_t, &places),
+        clearance: super::clearance::plots(report, &by_s, &by_t, &places),
+        scene,
         over_time,
         joints,
         views,
@@ -513,8 +566,10 @@ fn views(
     data: &PlotData,
     trace: &[TracePoint],
     places: &[(usize, Place)],
+    scene: &Scene,
 ) -> [Result<Figure, String>; 3] {
     let project = |axes: [usize; 2], tag: &str, x_desc: &str, y_desc: &str| {
+        let SceneView { cell, arms, slider } = scene.on(axes);
         let path: Vec<(f64, f64)> = trace.iter().map(|t| (t.p[axes[0]], t.p[axes[1]])).collect();
         let waypoints = data
             .waypoints()
@@ -555,14 +610,20 @@ fn views(
                 })
             })
             .collect();
-        views::view(&View {
-            size: VIEW,
-            x_desc,
-            y_desc,
-            path,
-            waypoints,
-            marks,
-        })
+        views::view(
+            &View {
+                size: VIEW,
+                x_desc,
+                y_desc,
+                path,
+                waypoints,
+                marks,
+                cell,
+                arms,
+                slider,
+            },
+            tag,
+        )
     };
     [
         project([0, 1], "top", "x (mm)", "y (mm)"),
