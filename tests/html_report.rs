@@ -454,6 +454,14 @@ fn findings_link_to_the_plot_of_their_kind() {
     for path in ["paths/panel_raster.yaml", "paths/rib_weld_collides.yaml"] {
         let dir = tempfile::tempdir().unwrap();
         let (_, html) = demo_page(dir.path(), path);
+        // source: robots/arm6.urdf (the robot of both paths)
+        assert!(
+            html.contains("robot armpath_arm6 · 6 joints · spherical wrist · armpath "),
+            "{path}: header"
+        );
+        let cell = path.contains("rib_weld");
+        assert_eq!(html.contains("<a href=\"#clearance\">Clearance</a>"), cell);
+        assert_eq!(html.contains("<figure id=\"plot-clearance\">"), cell);
         let mut n = 1;
         while let Some(row_at) = html.find(&format!("<tr id=\"finding-{n}\">")) {
             let row = &html[row_at..row_at + html[row_at..].find("</tr>").unwrap()];

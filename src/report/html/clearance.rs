@@ -2,7 +2,8 @@
 //! (mm) against path distance and against time, the clearance limit and contact as lines,
 //! and the `collision` and `clearance` findings marked.
 
-use super::figures::{mark_on, AxisData, Place};
+use super::axes::{AxisData, FULL};
+use super::places::{mark_on, pin_id, Place};
 use super::plots::{self, Axis, Figure, Line, Rule};
 use crate::report::Report;
 
@@ -40,7 +41,7 @@ pub fn plots(
             .map(|r| r.iter().map(|&(x, d)| (x, d.min(hi + pad))).collect())
             .collect();
         let mut plot = ax.plot(
-            (super::figures::FULL, 250),
+            (FULL, 250),
             "nearest distance (mm)".into(),
             [lo - pad, hi + pad],
             vec![Line {
@@ -69,8 +70,7 @@ pub fn plots(
                 }
                 let mut m = mark_on(n, f, ax.axis);
                 // The findings table links here for clearance findings met against s.
-                m.id = (p == Place::Clearance && ax.axis == Axis::Distance)
-                    .then(|| super::figures::pin_id(n));
+                m.id = (p == Place::Clearance && ax.axis == Axis::Distance).then(|| pin_id(n));
                 Some(m)
             })
             .collect();

@@ -9,6 +9,7 @@
 //! an output file for the command line.
 
 mod arm;
+mod axes;
 mod clearance;
 mod data;
 mod envelope;
@@ -16,6 +17,7 @@ mod figures;
 mod inputs;
 mod markup;
 mod page;
+mod places;
 mod plots;
 mod poses;
 mod scene;

@@ -124,15 +124,15 @@ pub fn render(report: &Report, data: &PlotData) -> String {
          <a href=\"#views\">Arm and path views</a>{}<a href=\"#settings\">Settings</a>\
          <a href=\"#cautions\">Cautions</a></nav></header>",
         escape(&p.file),
+        escape(&r.name),
+        count(r.dof, "joint"),
+        r.wrist_kind(),
+        report.armpath_version,
         if figs.clearance.is_some() {
             "<a href=\"#clearance\">Clearance</a>"
         } else {
             ""
         },
-        escape(&r.name),
-        count(r.dof, "joint"),
-        r.wrist_kind(),
-        report.armpath_version
     );
     verdict(&mut o, report);
     findings(&mut o, report, &figs, &names);
@@ -444,7 +444,8 @@ fn views(o: &mut String, figs: &Figures) {
          and the arm in the robot base frame, equal scales on both axes of each view (■ first \
          waypoint, ● waypoints). The arm is drawn as the outlines of its collision shapes \
          (meshes by their bounding boxes) over thick lines through its joints to the TCP: \
-         blue at the start, green at the end; cell bodies in grey.{ghosts} Finding stretches \
+         blue at the start, green at the end; bodies fixed in the base frame (the arm's base, the cell) \
+         in grey.{ghosts} Finding stretches \
          are drawn wide under the path; a leader line points from each marker to where its \
          finding starts.</p>"
     );

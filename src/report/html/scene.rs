@@ -61,6 +61,8 @@ impl Scene {
             .findings
             .iter()
             .enumerate()
+            // An unreachable run has no pose of its own (its joints are the last reached).
+            .filter(|(_, f)| f.kind != "unreachable")
             .filter_map(|(i, f)| {
                 let q = f.worst_joints.filter(fits)?;
                 f.s_mm?;
