@@ -134,8 +134,11 @@ impl Scene {
 
 /// A scene projected on one view.
 pub struct SceneView {
+    /// Outlines of the bodies fixed in the base frame (mm).
     pub cell: Vec<Vec<(f64, f64)>>,
+    /// The drawn poses: ghosts, then start and end.
     pub arms: Vec<ArmLayer>,
+    /// Each slider pose's joint origins (mm).
     pub slider: Vec<Vec<(f64, f64)>>,
 }
 
