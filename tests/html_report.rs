@@ -10,7 +10,7 @@
 mod common;
 use armpath::check::{check, CheckOptions};
 use armpath::job::{self, Motion, Overrides};
-use armpath::report::html::{render_html, PlotData, BUCKETS, TRACE_POINTS};
+use armpath::report::html::{render_html, PlotData, BUCKETS, SLIDER_POSES, TRACE_POINTS};
 use armpath::report::Report;
 use armpath::robot::{load_urdf, MAX_DOF};
 use armpath::solve::{Reach, SampleRecord, SampleSink};
@@ -66,6 +66,11 @@ fn chromium_or_skip() -> Option<PathBuf> {
 /// Run headless chromium on `page` with `extra` arguments; kill it after the timeout. Its
 /// output goes to files beside the profile (a full pipe would stall the browser).
 fn browse(browser: &Path, page: &Path, profile: &Path, extra: &[&str]) -> Output {
+    browse_at(browser, page, "", profile, extra)
+}
+
+/// As [`browse`], the page opened at the URL fragment `hash` (`#…` or empty).
+fn browse_at(browser: &Path, page: &Path, hash: &str, profile: &Path, extra: &[&str]) -> Output {
     std::fs::create_dir_all(profile).unwrap();
     let out_path = profile.with_extension("stdout");
     let err_path = profile.with_extension("stderr");
@@ -82,7 +87,7 @@ fn browse(browser: &Path, page: &Path, profile: &Path, extra: &[&str]) -> Output
         ])
         .arg(format!("--user-data-dir={}", profile.display()))
         .args(extra)
-        .arg(format!("file://{}", page.display()))
+        .arg(format!("file://{}{hash}", page.display()))
         .stdin(Stdio::null())
         .stdout(std::fs::File::create(&out_path).unwrap())
         .stderr(std::fs::File::create(&err_path).unwrap())
@@ -113,7 +118,8 @@ fn browse(browser: &Path, page: &Path, profile: &Path, extra: &[&str]) -> Output
 }
 
 /// Console messages of the page (chromium logs them as `...:CONSOLE...` lines with
-/// `--enable-logging=stderr`): a page without scripts or outside resources has none.
+/// `--enable-logging=stderr`): a page whose script runs cleanly and that loads nothing from
+/// outside has none.
 fn console_lines(stderr: &[u8]) -> Vec<String> {
     String::from_utf8_lossy(stderr)
         .lines()
@@ -166,13 +172,18 @@ fn the_demo_report_loads_in_a_browser_and_is_not_blank() {
     );
     let html = std::fs::read_to_string(&page).unwrap();
     assert!(html.starts_with("<!DOCTYPE html>"));
-    // Self-contained: no scripts, no outside stylesheets, images or fonts.
+    // Self-contained: no outside scripts, stylesheets, images or fonts; the one script (the
+    // pose slider) and its data are inline.
     // source: common practice (the only URL allowed is the SVG namespace name)
-    for banned in [
-        "<script", "<link", "<img", "<iframe", "@import", "url(", "src=",
-    ] {
+    for banned in ["<link", "<img", "<iframe", "@import", "url(", "src="] {
         assert!(!html.contains(banned), "the page contains {banned}");
     }
+    assert_eq!(
+        html.matches("<script").count(),
+        2,
+        "one data block, one script"
+    );
+    assert!(html.contains("<script type=\"application/json\" id=\"pose-data\">"));
     let urls = html.matches("http").count();
     let namespaces = html.matches("http://www.w3.org/2000/svg").count();
     assert_eq!(
@@ -377,6 +388,7 @@ fn a_million_samples_make_a_light_page() {
     let env = data.envelope().unwrap();
     assert!(env.used() <= BUCKETS && env.used() >= BUCKETS / 2);
     assert!(data.trace().points().len() <= TRACE_POINTS + 1);
+    assert!(data.poses().slider().len() <= SLIDER_POSES + 1);
     // The one-sample spike on j1 (1.5 rad = 85.94°) survives decimation.
     // source: 1.5 rad × 180/π = 85.9437° (arithmetic)
     let peak = env
@@ -394,4 +406,147 @@ fn a_million_samples_make_a_light_page() {
     // "Under a few MB".
     // source: common practice (a page that opens at once in a browser and mails easily)
     assert!(page.len() < 3_000_000, "{} bytes", page.len());
+}
+
+/// The page of a demo path (relative to the repository), written into `dir`.
+fn demo_page(dir: &Path, path: &str) -> (PathBuf, String) {
+    let page = dir.join("report.html");
+    let out = Command::cargo_bin("armpath")
+        .unwrap()
+        .arg("check")
+        .arg(repo(path))
+        .arg("--html")
+        .arg(&page)
+        .arg("-q")
+        .output()
+        .unwrap();
+    assert!(
+        matches!(out.status.code(), Some(0 | 1)),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let html = std::fs::read_to_string(&page).unwrap();
+    (page, html)
+}
+
+/// The id of the figure an element id stands in (the last `<figure id="…">` before it).
+fn figure_of(html: &str, id: &str) -> Option<String> {
+    let at = html.find(&format!("id=\"{id}\""))?;
+    let start = html[..at].rfind("<figure id=\"")? + "<figure id=\"".len();
+    let end = start + html[start..].find('"')?;
+    Some(html[start..end].to_string())
+}
+
+#[test]
+fn findings_link_to_the_plot_of_their_kind() {
+    // source: the page's layout (figures.rs `Place`): timing findings on the plots over time,
+    // clearance on the clearance plot, contacts on the arm views; paths/panel_raster.yaml
+    // and paths/rib_weld_collides.yaml headers for the kinds they raise
+    let expected = |kind: &str| match kind {
+        "process_speed" => Some("time-tcp"),
+        "joint_acceleration" => Some("time-acc"),
+        "clearance" => Some("plot-clearance"),
+        "collision" => Some("view-top"),
+        "singularity" => Some("plot-singularity"),
+        _ => None,
+    };
+    let mut seen = std::collections::BTreeSet::new();
+    for path in ["paths/panel_raster.yaml", "paths/rib_weld_collides.yaml"] {
+        let dir = tempfile::tempdir().unwrap();
+        let (_, html) = demo_page(dir.path(), path);
+        // source: robots/arm6.urdf (the robot of both paths)
+        assert!(
+            html.contains("robot armpath_arm6 · 6 joints · spherical wrist · armpath "),
+            "{path}: header"
+        );
+        let cell = path.contains("rib_weld");
+        assert_eq!(html.contains("<a href=\"#clearance\">Clearance</a>"), cell);
+        assert_eq!(html.contains("<figure id=\"plot-clearance\">"), cell);
+        let mut n = 1;
+        while let Some(row_at) = html.find(&format!("<tr id=\"finding-{n}\">")) {
+            let row = &html[row_at..row_at + html[row_at..].find("</tr>").unwrap()];
+            let kind = row.split("<b>").nth(1).and_then(|r| r.split("</b>").next());
+            let kind = kind.unwrap_or_default().to_string();
+            assert!(
+                row.contains(&format!("href=\"#pin-{n}\"")),
+                "{path}: row {n} unlinked"
+            );
+            let fig = figure_of(&html, &format!("pin-{n}"));
+            if let Some(want) = expected(&kind) {
+                assert_eq!(fig.as_deref(), Some(want), "{path}: finding {n} ({kind})");
+                seen.insert(kind);
+            }
+            n += 1;
+        }
+    }
+    assert_eq!(
+        seen.into_iter().collect::<Vec<_>>(),
+        [
+            "clearance",
+            "collision",
+            "joint_acceleration",
+            "process_speed",
+            "singularity"
+        ]
+    );
+}
+
+/// The `points` attribute of the slider arm on the top view in a DOM dump.
+fn slider_points(dom: &str) -> String {
+    let Some(at) = dom.find("id=\"slide-top\"") else {
+        return String::new();
+    };
+    let tag = &dom[dom[..at].rfind('<').unwrap_or(0)..];
+    let tag = &tag[..tag.find('>').unwrap_or(tag.len())];
+    tag.split("points=\"")
+        .nth(1)
+        .and_then(|p| p.split('"').next())
+        .unwrap_or_default()
+        .to_string()
+}
+
+#[test]
+fn the_pose_slider_moves_the_arm() {
+    // source: common practice (a control must change what it controls). The page's script
+    // reads `#pose=N` and sets the slider there before drawing, the same path as an input
+    // event; the DOM is dumped after the script has run.
+    let dir = tempfile::tempdir().unwrap();
+    let (page, html) = demo_page(dir.path(), "paths/rib_weld.yaml");
+    // Scripts off: the arm's static poses are there, the slider's arm is empty.
+    assert!(html.contains("id=\"pose-ctl\" hidden"));
+    assert_eq!(slider_points(&html), "");
+    assert!(html.contains(">\nstart\n</text>") && html.contains(">\nend\n</text>"));
+    let Some(browser) = chromium_or_skip() else {
+        return;
+    };
+    let dump = |hash: &str, name: &str| {
+        let run = browse_at(
+            &browser,
+            &page,
+            hash,
+            &dir.path().join(name),
+            &["--enable-logging=stderr", "--v=0", "--dump-dom"],
+        );
+        let console = console_lines(&run.stderr);
+        assert!(console.is_empty(), "console:\n{}", console.join("\n"));
+        String::from_utf8_lossy(&run.stdout).into_owned()
+    };
+    let first = dump("", "p0");
+    let later = dump("#pose=120", "p1");
+    let (a, b) = (slider_points(&first), slider_points(&later));
+    assert!(
+        a.split(' ').count() >= 4,
+        "no arm drawn at the first pose: {a:?}"
+    );
+    assert!(b.split(' ').count() >= 4, "no arm drawn at pose 120: {b:?}");
+    assert_ne!(a, b, "the arm did not move");
+    assert!(later.contains("pose 121 of "), "the pose is not named");
+    assert!(
+        !later.contains("id=\"pose-ctl\" hidden"),
+        "the control stayed hidden"
+    );
+    // Past the end the slider stops at the last pose.
+    let end = dump("#pose=99999", "p2");
+    let last = slider_points(&end);
+    assert!(!last.is_empty() && last != a);
 }

@@ -160,6 +160,9 @@ pub struct Finding {
     pub deltas: Option<Joints>,
     /// Sample index where the worst value occurs.
     pub worst_sample: Option<usize>,
+    /// Joints (rad or m) at `worst_sample`, the pose a report draws for the finding; `None`
+    /// like `worst_sample`. On an unreachable run these are the last reached joints.
+    pub worst_joints: Option<Joints>,
     /// What happened and what to try.
     pub message: String,
 }
@@ -187,6 +190,7 @@ impl Finding {
             quantity: Quantity::Number,
             deltas: None,
             worst_sample: None,
+            worst_joints: None,
             message,
         }
     }

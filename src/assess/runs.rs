@@ -7,6 +7,7 @@
 
 use super::{Finding, Kind, Quantity};
 use crate::job::Job;
+use crate::robot::Joints;
 use crate::solve::SampleRecord;
 
 /// Where a run lies on the path: its segment, first and last sample, path distance (m) and
@@ -23,6 +24,8 @@ pub struct Span {
     pub t: [f64; 2],
     /// Sample index of the worst value.
     pub worst_sample: usize,
+    /// Joints (rad or m) at the worst sample: the pose a report draws for the finding.
+    pub worst_joints: Joints,
 }
 
 impl Span {
@@ -34,6 +37,7 @@ impl Span {
             s: [rec.s, rec.s],
             t: [rec.t, rec.t],
             worst_sample: rec.index,
+            worst_joints: rec.joints,
         }
     }
 
@@ -63,6 +67,7 @@ impl Span {
             quantity,
             deltas: None,
             worst_sample: Some(self.worst_sample),
+            worst_joints: Some(self.worst_joints),
             message,
         }
     }
@@ -130,6 +135,7 @@ impl<K: PartialEq + Copy, W: Worst> RunBook<K, W> {
             if worst.badness() > run.worst.badness() {
                 run.worst.replace_with(worst);
                 run.span.worst_sample = rec.index;
+                run.span.worst_joints = rec.joints;
             }
             return;
         }
@@ -198,7 +204,8 @@ mod tests {
             reach: crate::solve::Reach::Reached,
             position_error: 0.0,
             orientation_error: 0.0,
-            joints: Default::default(),
+            // One joint holding the sample index: tells which sample's joints a run kept.
+            joints: Joints::from_slice(&[index as f64]).unwrap(),
             joint_speed: Default::default(),
             joint_acceleration: Default::default(),
             tcp_speed: 0.0,
@@ -246,6 +253,7 @@ mod tests {
         assert_eq!(r.key, 1);
         assert_eq!(r.span.samples, [1, 3]);
         assert_eq!(r.span.worst_sample, 2);
+        assert_eq!(r.span.worst_joints.as_slice(), &[2.0]);
         assert_eq!(r.worst.d, 0.2);
         assert_eq!(r.span.s, [0.01, 0.03]);
         assert_eq!(r.span.t, [0.1, 0.30000000000000004]);
@@ -342,6 +350,7 @@ mod tests {
             s: [0.1, 0.2],
             t: [1.0, 2.0],
             worst_sample: 6,
+            worst_joints: Joints::from_slice(&[0.1, 0.2, 0.3]).unwrap(),
         };
         let f = span.finding(&job, Kind::Clearance, Quantity::Length, "m".into());
         assert_eq!(f.segment, Some(1));
@@ -349,6 +358,7 @@ mod tests {
         assert_eq!(f.samples, Some([4, 9]));
         assert_eq!((f.s, f.t), (Some([0.1, 0.2]), Some([1.0, 2.0])));
         assert_eq!(f.worst_sample, Some(6));
+        assert_eq!(f.worst_joints, Some(span.worst_joints));
         assert_eq!(f.quantity, Quantity::Length);
     }
 }

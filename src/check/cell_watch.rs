@@ -42,6 +42,101 @@ pub struct CellSummary {
     pub configurations: u64,
     /// What the model leaves out (links without geometry, pairs dropped as never meeting).
     pub notes: Vec<String>,
+    /// The nearest distance of any tested pair at each sample, against path distance and
+    /// against time, in bounded memory.
+    pub profile: ClearanceProfile,
+}
+
+/// Slices of each [`ClearanceProfile`] series. The page's plots are about 1,100 px wide;
+/// after a merge between half and all of these are in use, one slice per one to two pixels.
+pub const PROFILE_SLICES: usize = 1000;
+
+/// The smallest value per slice of x (path distance or time), the slices widening as x
+/// grows: when x passes the last slice, neighbouring slices merge and the width doubles.
+/// Memory is fixed at construction; [`MinSeries::add`] never allocates.
+#[derive(Debug, Clone)]
+pub struct MinSeries {
+    width: f64,
+    /// Per slice: the x of the smallest value and that value.
+    slots: Vec<Option<(f64, f64)>>,
+}
+
+impl MinSeries {
+    /// `slices` slices (at least 2) of first width `width` (replaced by 1 when not a positive
+    /// number).
+    pub fn new(slices: usize, width: f64) -> Self {
+        MinSeries {
+            width: if width.is_finite() && width > 0.0 {
+                width
+            } else {
+                1.0
+            },
+            slots: vec![None; slices.max(2)],
+        }
+    }
+
+    /// Adds value `v` at `x` (x ≥ 0 in path order; non-finite inputs are ignored).
+    pub fn add(&mut self, x: f64, v: f64) {
+        if !x.is_finite() || !v.is_finite() || x < 0.0 {
+            return;
+        }
+        let n = self.slots.len();
+        while x / self.width >= n as f64 {
+            for i in 0..n / 2 {
+                self.slots[i] = smaller(self.slots[2 * i], self.slots[2 * i + 1]);
+            }
+            if n % 2 == 1 {
+                self.slots[n / 2] = self.slots[n - 1];
+            }
+            for slot in &mut self.slots[n.div_ceil(2)..] {
+                *slot = None;
+            }
+            self.width *= 2.0;
+        }
+        let i = ((x / self.width) as usize).min(n - 1);
+        self.slots[i] = smaller(self.slots[i], Some((x, v)));
+    }
+
+    /// Runs of consecutive filled slices as (x, smallest value) points; an empty slice (no
+    /// sample measured there, as in an unreachable stretch) breaks the line.
+    pub fn runs(&self) -> Vec<Vec<(f64, f64)>> {
+        let mut runs: Vec<Vec<(f64, f64)>> = Vec::new();
+        let mut open = false;
+        for slot in &self.slots {
+            match slot {
+                Some(p) if open => runs.last_mut().into_iter().for_each(|r| r.push(*p)),
+                Some(p) => {
+                    runs.push(vec![*p]);
+                    open = true;
+                }
+                None => open = false,
+            }
+        }
+        runs
+    }
+
+    /// Current slice width (x unit).
+    pub fn width(&self) -> f64 {
+        self.width
+    }
+}
+
+fn smaller(a: Option<(f64, f64)>, b: Option<(f64, f64)>) -> Option<(f64, f64)> {
+    match (a, b) {
+        (Some(a), Some(b)) => Some(if b.1 < a.1 { b } else { a }),
+        (a, None) => a,
+        (None, b) => b,
+    }
+}
+
+/// The nearest distance (m) of any tested pair at each measured sample: against path
+/// distance (m) and against time (s).
+#[derive(Debug, Clone)]
+pub struct ClearanceProfile {
+    /// Against path distance s (m).
+    pub by_s: MinSeries,
+    /// Against time t (s).
+    pub by_t: MinSeries,
 }
 
 /// The nearest approach of two bodies over the path.
@@ -67,6 +162,7 @@ pub struct CellWatch<'a> {
     process: bool,
     /// Smallest distance (m) of any tested pair over the path, its pair and sample.
     nearest: Option<(f64, usize, usize)>,
+    profile: ClearanceProfile,
 }
 
 impl<'a> CellWatch<'a> {
@@ -81,6 +177,10 @@ impl<'a> CellWatch<'a> {
             findings: Vec::new(),
             process: false,
             nearest: None,
+            profile: ClearanceProfile {
+                by_s: MinSeries::new(PROFILE_SLICES, job.sampling.step),
+                by_t: MinSeries::new(PROFILE_SLICES, job.sampling.step / job.speed),
+            },
         }
     }
 
@@ -119,6 +219,7 @@ impl<'a> CellWatch<'a> {
             }),
             configurations: self.probe.evaluations(),
             notes: model.notes().to_vec(),
+            profile: self.profile,
         };
         (self.findings, summary)
     }
@@ -148,8 +249,10 @@ impl SampleSink for CellWatch<'_> {
         let worst = self
             .probe
             .sample(self.model, &rec.joints[..dof], self.process);
+        let mut sample_nearest = f64::INFINITY;
         for p in 0..self.model.pairs().len() {
             let d = self.probe.distance(p);
+            sample_nearest = sample_nearest.min(d);
             if self.nearest.is_none_or(|(n, _, _)| d < n) {
                 self.nearest = Some((d, p, rec.index));
             }
@@ -158,6 +261,8 @@ impl SampleSink for CellWatch<'_> {
                 self.raise(rec, p, d, false);
             }
         }
+        self.profile.by_s.add(rec.s, sample_nearest);
+        self.profile.by_t.add(rec.t, sample_nearest);
         if let Some(w) = worst.filter(|w| w.between) {
             self.raise(rec, w.pair, w.distance, true);
         }
@@ -200,5 +305,34 @@ fn finding(model: &CellModel, job: &Job, run: &Run<(Kind, usize), Approach>) -> 
             model.clearance()
         }),
         ..run.span.finding(job, kind, Quantity::Length, message)
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::MinSeries;
+
+    #[test]
+    fn min_series_keeps_each_slice_minimum_in_fixed_memory() {
+        // source: common practice (min-per-bucket decimation); values chosen by hand
+        let mut m = MinSeries::new(4, 1.0);
+        for (x, v) in [(0.5, 3.0), (0.7, 2.0), (1.5, 5.0), (3.2, 1.0)] {
+            m.add(x, v);
+        }
+        assert_eq!(
+            m.runs(),
+            vec![vec![(0.7, 2.0), (1.5, 5.0)], vec![(3.2, 1.0)]]
+        );
+        // x = 6 is past 4 slices of 1: slices merge pairwise into width 2.
+        m.add(6.0, 4.0);
+        assert_eq!(m.width(), 2.0);
+        assert_eq!(
+            m.runs(),
+            vec![vec![(0.7, 2.0), (3.2, 1.0)], vec![(6.0, 4.0)]]
+        );
+        // Far beyond: widths double until x fits; the overall minimum survives.
+        m.add(1000.0, 7.0);
+        assert_eq!(m.width(), 256.0);
+        assert_eq!(m.runs(), vec![vec![(3.2, 1.0)], vec![(1000.0, 7.0)]]);
     }
 }

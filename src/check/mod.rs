@@ -4,7 +4,9 @@
 mod outcome;
 
 mod cell_watch;
-pub use cell_watch::{CellSummary, CellWatch, Nearest};
+pub use cell_watch::{
+    CellSummary, CellWatch, ClearanceProfile, MinSeries, Nearest, PROFILE_SLICES,
+};
 pub use outcome::{
     Advice, CheckOutcome, Feasibility, FirstStop, NonFinite, Verdict, SEGMENT_TABLE_ROWS,
 };

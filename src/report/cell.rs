@@ -44,6 +44,14 @@ pub struct CellReport {
     pub configurations_measured: u64,
     /// What the model leaves out.
     pub notes: Vec<String>,
+    /// The HTML page's clearance plot: nearest distance of any tested pair (mm) per slice
+    /// of path distance (x in mm), as runs broken where no sample was measured; smallest
+    /// value per slice. Not in the JSON report.
+    #[serde(skip)]
+    pub profile_s: Vec<Vec<(f64, f64)>>,
+    /// The same against time (x in s).
+    #[serde(skip)]
+    pub profile_t: Vec<Vec<(f64, f64)>>,
 }
 
 impl CellReport {
@@ -58,6 +66,15 @@ impl CellReport {
             nearest_sample: c.nearest.as_ref().map(|n| n.sample),
             configurations_measured: c.configurations,
             notes: c.notes.clone(),
+            profile_s: scaled(c.profile.by_s.runs(), 1e3),
+            profile_t: scaled(c.profile.by_t.runs(), 1.0),
         }
     }
+}
+
+/// Runs with x multiplied by `kx` and the distance from m to mm.
+fn scaled(runs: Vec<Vec<(f64, f64)>>, kx: f64) -> Vec<Vec<(f64, f64)>> {
+    runs.into_iter()
+        .map(|r| r.into_iter().map(|(x, d)| (x * kx, d * 1e3)).collect())
+        .collect()
 }

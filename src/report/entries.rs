@@ -46,6 +46,10 @@ pub struct FindingReport {
     pub joint_deltas: Option<std::collections::BTreeMap<String, f64>>,
     /// What happened and what to try.
     pub message: String,
+    /// Joints (rad or m, SI) at the run's worst sample: the HTML page draws the arm there.
+    /// Not in the JSON report.
+    #[serde(skip)]
+    pub worst_joints: Option<crate::robot::Joints>,
 }
 
 impl FindingReport {
@@ -75,6 +79,7 @@ impl FindingReport {
                     .collect()
             }),
             message: f.message.clone(),
+            worst_joints: f.worst_joints,
         }
     }
 }

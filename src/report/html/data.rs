@@ -12,7 +12,9 @@ use crate::report::joint_display;
 use crate::robot::{JointKind, Joints, Robot};
 use crate::solve::{Reach, SampleRecord, SampleSink};
 
+use super::arm::ArmGeometry;
 pub use super::envelope::{Bucket, Envelope};
+use super::poses::{PoseKeeper, SLIDER_POSES};
 
 /// Buckets across the full path. Plots are about 1,100 px wide at most; after a merge between
 /// half and all of these are in use, so a drawn line keeps at least one bucket per 1.5 px.
@@ -204,6 +206,14 @@ pub struct PlotData {
     length: f64,
     duration: f64,
     samples: u64,
+    poses: PoseKeeper,
+    /// The arm with its tool, cloned at the first sample: FK of the drawn poses.
+    robot: Option<Robot>,
+    /// What the cell model is built from, for drawing the bodies.
+    tool_bodies: Vec<crate::cell::BodySpec>,
+    cell: Option<std::sync::Arc<crate::cell::CellFile>>,
+    base_T_work: nalgebra::Isometry3<f64>,
+    clearance: f64,
 }
 
 impl PlotData {
@@ -235,10 +245,17 @@ impl PlotData {
             length: 0.0,
             duration: 0.0,
             samples: 0,
+            poses: PoseKeeper::new(SLIDER_POSES),
+            robot: None,
+            tool_bodies: job.tool.geometry.clone(),
+            cell: job.cell.clone(),
+            base_T_work: job.base_T_work,
+            clearance: job.limits.clearance,
         }
     }
 
     fn init(&mut self, robot: &Robot) {
+        self.robot = Some(robot.clone());
         self.joints = robot
             .joints()
             .iter()
@@ -335,6 +352,25 @@ impl PlotData {
     pub fn samples(&self) -> u64 {
         self.samples
     }
+    /// The poses kept for drawing the arm: first, last and the slider's.
+    pub fn poses(&self) -> &PoseKeeper {
+        &self.poses
+    }
+    /// The arm's geometry for drawing (its collision bodies, the tool's and the cell's);
+    /// `None` before the first sample.
+    pub fn arm_geometry(&self) -> Option<ArmGeometry> {
+        let robot = self.robot.as_ref()?;
+        Some(ArmGeometry::new(
+            robot,
+            &crate::cell::CellInputs {
+                robot,
+                tool: &self.tool_bodies,
+                cell: self.cell.as_deref(),
+                base_T_work: self.base_T_work,
+                clearance: self.clearance,
+            },
+        ))
+    }
     /// Near-limit margins of the job: revolute (deg), prismatic (mm).
     pub fn near_margins(&self) -> (f64, f64) {
         (
@@ -345,6 +381,10 @@ impl PlotData {
 }
 
 impl SampleSink for PlotData {
+    fn begin(&mut self, _robot: &Robot, estimated_samples: u64) {
+        self.poses.expect(estimated_samples);
+    }
+
     fn sample(&mut self, robot: &Robot, rec: &SampleRecord) {
         if self.joints.is_empty() && robot.dof() > 0 {
             self.init(robot);
@@ -353,6 +393,7 @@ impl SampleSink for PlotData {
             return;
         }
         self.samples += 1;
+        self.poses.push(rec);
         self.length = self.length.max(rec.s);
         self.duration = self.duration.max(rec.t);
         let p = rec.target.translation.vector * 1e3;

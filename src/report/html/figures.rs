@@ -1,70 +1,23 @@
 //! From a report and its plot data to the figures of the page: which series go on which
 //! plot, the ranges, limits and shaded bands, and where each finding is marked.
 
+use super::axes::{AxisData, FULL};
 use super::data::{position_at, PlotData, TracePoint};
-use super::envelope::Envelope;
-use super::plots::{self, Axis, Figure, Line, Mark, Rule, SPlot};
+use super::places::mark_on;
+pub use super::places::{pin_id, place, title, Place};
+use super::plots::{self, Axis, Figure, Line, Mark, Rule};
+use super::scene::{Scene, SceneView};
 use super::views::{self, View, ViewMark};
 use crate::assess::Severity;
-use crate::report::{FindingReport, Report};
+use crate::report::Report;
 use plotters::style::Color;
 
 /// Findings marked on the plots; beyond this the table still lists them (up to its own cap)
 /// but the plots would be covered in markers.
 pub const MAX_MARKED: usize = 300;
 
-/// Waypoint lines drawn on the plots against s; more are thinned evenly (a line every pixel
-/// or two says nothing).
-const MAX_WAYPOINT_LINES: usize = 400;
-
-/// Width of the page's content (px): full-width plots, three joint plots or views per row.
-const FULL: u32 = 1160;
 const JOINT: (u32, u32) = (380, 210);
 const VIEW: (u32, u32) = (380, 400);
-
-/// Where a finding is shown first.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
-pub enum Place {
-    Joint(usize),
-    Speed,
-    Singularity,
-    Tool,
-    Views,
-    /// Not located on the path (input findings).
-    Nowhere,
-}
-
-/// The plot a finding belongs to.
-pub fn place(f: &FindingReport, joint_names: &[String]) -> Place {
-    if f.s_mm.is_none() {
-        return Place::Nowhere;
-    }
-    let joint = f
-        .joint
-        .as_ref()
-        .and_then(|j| joint_names.iter().position(|n| n == j));
-    match f.kind {
-        "joint_limit" | "near_joint_limit" => joint.map_or(Place::Views, Place::Joint),
-        "joint_speed" => Place::Speed,
-        "singularity" => Place::Singularity,
-        "tool_angular_speed" => Place::Tool,
-        "joint_jump" => {
-            // The joint that jumps furthest shows the step best.
-            let biggest = f.joint_deltas.as_ref().and_then(|d| {
-                d.iter()
-                    .max_by(|a, b| a.1.abs().total_cmp(&b.1.abs()))
-                    .and_then(|(name, _)| joint_names.iter().position(|n| n == name))
-            });
-            biggest.map_or(Place::Views, Place::Joint)
-        }
-        _ => Place::Views,
-    }
-}
-
-/// Element id of a finding's marker on its first plot.
-pub fn pin_id(number: usize) -> String {
-    format!("pin-{number}")
-}
 
 /// All figures of the page; a figure that could not be drawn carries the reason instead.
 pub struct Figures {
@@ -78,36 +31,12 @@ pub struct Figures {
     pub joints: Vec<Result<Figure, String>>,
     /// Top (x–y), side (x–z) and end (y–z) views.
     pub views: [Result<Figure, String>; 3],
+    /// Nearest distance to the cell against s and against t; `None` without a cell check.
+    pub clearance: Option<[Result<Figure, String>; 2]>,
+    /// What the views draw of the arm: ghost poses, the slider's poses.
+    pub scene: Scene,
     /// Which findings (1-based numbers) got a marker, and where first.
     pub places: Vec<(usize, Place)>,
-}
-
-/// A finding's marker; against time it carries no element id (the table links to the
-/// marker against s).
-fn mark(number: usize, f: &FindingReport, axis: Axis) -> Mark {
-    let (x, id) = match axis {
-        Axis::Distance => (f.s_mm, Some(pin_id(number))),
-        Axis::Time => (f.t_s, None),
-    };
-    Mark {
-        number,
-        error: f.severity == Severity::Error,
-        s: x.unwrap_or([0.0, 0.0]),
-        id,
-        title: title(number, f),
-    }
-}
-
-/// Tooltip of a marker (plain text; the page escapes it).
-pub fn title(number: usize, f: &FindingReport) -> String {
-    let sev = match f.severity {
-        Severity::Error => "error",
-        Severity::Warning => "warning",
-    };
-    match &f.joint {
-        Some(j) => format!("{number}. {sev}: {} · {j}", f.kind),
-        None => format!("{number}. {sev}: {}", f.kind),
-    }
 }
 
 fn bounds(runs: &[Vec<(f64, f64)>]) -> Option<[f64; 2]> {
@@ -119,96 +48,6 @@ fn bounds(runs: &[Vec<(f64, f64)>]) -> Option<[f64; 2]> {
         });
     }
     b
-}
-
-/// Runs with x scaled from SI (m or s) to the axis unit (mm or s).
-fn scaled(runs: Vec<Vec<(f64, f64)>>, k: f64) -> Vec<Vec<(f64, f64)>> {
-    runs.into_iter()
-        .map(|r| r.into_iter().map(|(x, v)| (x * k, v)).collect())
-        .collect()
-}
-
-/// One x axis of the page: its extent, waypoint lines and unreachable stretches in its unit,
-/// and the series against it.
-struct AxisData<'a> {
-    axis: Axis,
-    x_max: f64,
-    /// Factor from the envelope's SI coordinate to the axis unit.
-    k: f64,
-    env: Option<&'a Envelope>,
-    waypoints: Vec<(f64, String)>,
-    gaps: Vec<[f64; 2]>,
-}
-
-impl<'a> AxisData<'a> {
-    fn new(axis: Axis, report: &Report, data: &'a PlotData) -> Self {
-        let (x_max, k, env) = match axis {
-            Axis::Distance => (
-                (data.length() * 1e3).max(report.summary.length_mm),
-                1e3,
-                data.envelope(),
-            ),
-            Axis::Time => (
-                data.duration().max(report.summary.duration_s),
-                1.0,
-                data.time_envelope(),
-            ),
-        };
-        let mut waypoints: Vec<(f64, String)> = data
-            .waypoints()
-            .iter()
-            .map(|w| {
-                let name = report.path.waypoints.get(w.index).map(|n| n.into_owned());
-                let x = match axis {
-                    Axis::Distance => w.s * 1e3,
-                    Axis::Time => w.t,
-                };
-                (x, name.unwrap_or_default())
-            })
-            .collect();
-        if waypoints.len() > MAX_WAYPOINT_LINES {
-            let every = waypoints.len().div_ceil(MAX_WAYPOINT_LINES);
-            waypoints = waypoints.into_iter().step_by(every).collect();
-        }
-        let gaps = env
-            .map(|e| e.unreachable_stretches())
-            .unwrap_or_default()
-            .into_iter()
-            .map(|[a, b]| [a * k, b * k])
-            .collect();
-        AxisData {
-            axis,
-            x_max,
-            k,
-            env,
-            waypoints,
-            gaps,
-        }
-    }
-
-    fn runs(&self, series: usize) -> Vec<Vec<(f64, f64)>> {
-        self.env
-            .map(|e| scaled(e.runs(series), self.k))
-            .unwrap_or_default()
-    }
-
-    fn plot(&self, size: (u32, u32), y_desc: String, y: [f64; 2], lines: Vec<Line>) -> SPlot<'_> {
-        SPlot {
-            size,
-            axis: self.axis,
-            y_desc,
-            x_max: self.x_max,
-            y,
-            log_y: false,
-            lines,
-            rules: vec![],
-            bands: vec![],
-            gaps: &self.gaps,
-            waypoints: &self.waypoints,
-            waypoint_names: true,
-            marks: vec![],
-        }
-    }
 }
 
 /// Marks of the located findings on the three main plots (joint speed, singularity, tool
@@ -228,11 +67,15 @@ fn marks(report: &Report, places: &[(usize, Place)], joints: usize, axis: Axis) 
             continue;
         };
         match p {
-            Place::Joint(k) => m.joints[k].push(mark(n, f, axis)),
-            Place::Speed => m.main[0].push(mark(n, f, axis)),
-            Place::Singularity => m.main[1].push(mark(n, f, axis)),
-            Place::Tool => m.main[2].push(mark(n, f, axis)),
-            Place::Views | Place::Nowhere => {}
+            Place::Joint(k) => m.joints[k].push(mark_on(n, f, axis)),
+            Place::Speed => m.main[0].push(mark_on(n, f, axis)),
+            Place::Singularity => m.main[1].push(mark_on(n, f, axis)),
+            Place::Tool => m.main[2].push(mark_on(n, f, axis)),
+            Place::Acceleration
+            | Place::TcpSpeed
+            | Place::Clearance
+            | Place::Views
+            | Place::Nowhere => {}
         }
     }
     m
@@ -358,8 +201,25 @@ fn main_plots(
 }
 
 /// The TCP speed on straight-line segments against the job's speed, and each joint's
-/// acceleration against its allowed acceleration, over time.
-fn timing_plots(report: &Report, data: &PlotData, ax: &AxisData) -> [Result<Figure, String>; 2] {
+/// acceleration against its allowed acceleration, over time; `process_speed` and
+/// `joint_acceleration` findings are marked there, and the findings table links to them.
+fn timing_plots(
+    report: &Report,
+    data: &PlotData,
+    ax: &AxisData,
+    places: &[(usize, Place)],
+) -> [Result<Figure, String>; 2] {
+    let marks_at = |want: Place| -> Vec<Mark> {
+        places
+            .iter()
+            .filter(|&&(_, p)| p == want)
+            .filter_map(|&(n, _)| {
+                let mut m = mark_on(n, report.findings.get(n - 1)?, Axis::Time);
+                m.id = Some(pin_id(n));
+                Some(m)
+            })
+            .collect()
+    };
     let job_speed = report.path.speed_mm_s;
     let tcp_runs = ax.runs(data.tcp_speed_series());
     let tcp_peak = bounds(&tcp_runs).map_or(0.0, |b| b[1]);
@@ -374,6 +234,7 @@ fn timing_plots(report: &Report, data: &PlotData, ax: &AxisData) -> [Result<Figu
             label: None,
         }],
     );
+    tcp.marks = marks_at(Place::TcpSpeed);
     tcp.rules.push(Rule {
         y: job_speed,
         label: format!("job speed {} mm/s", super::nice(job_speed)),
@@ -386,6 +247,7 @@ fn timing_plots(report: &Report, data: &PlotData, ax: &AxisData) -> [Result<Figu
         [0.0, (peak * 1.1).max(1.2)],
         lines,
     );
+    acc.marks = marks_at(Place::Acceleration);
     acc.rules.push(Rule {
         y: 1.0,
         label: {
@@ -493,12 +355,15 @@ pub fn build(report: &Report, data: &PlotData) -> Figures {
         .collect();
 
     let trace = data.trace().points();
-    let views = views(report, data, &trace, &places);
+    let scene = Scene::new(report, data);
+    let views = views(report, data, &trace, &places, &scene);
     Figures {
         speed,
         singularity,
         tool,
-        timing: timing_plots(report, data, &by_t),
+        timing: timing_plots(report, data, &by_t, &places),
+        clearance: super::clearance::plots(report, &by_s, &by_t, &places),
+        scene,
         over_time,
         joints,
         views,
@@ -513,8 +378,10 @@ fn views(
     data: &PlotData,
     trace: &[TracePoint],
     places: &[(usize, Place)],
+    scene: &Scene,
 ) -> [Result<Figure, String>; 3] {
     let project = |axes: [usize; 2], tag: &str, x_desc: &str, y_desc: &str| {
+        let SceneView { cell, arms, slider } = scene.on(axes);
         let path: Vec<(f64, f64)> = trace.iter().map(|t| (t.p[axes[0]], t.p[axes[1]])).collect();
         let waypoints = data
             .waypoints()
@@ -555,14 +422,20 @@ fn views(
                 })
             })
             .collect();
-        views::view(&View {
-            size: VIEW,
-            x_desc,
-            y_desc,
-            path,
-            waypoints,
-            marks,
-        })
+        views::view(
+            &View {
+                size: VIEW,
+                x_desc,
+                y_desc,
+                path,
+                waypoints,
+                marks,
+                cell,
+                arms,
+                slider,
+            },
+            tag,
+        )
     };
     [
         project([0, 1], "top", "x (mm)", "y (mm)"),

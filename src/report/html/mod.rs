@@ -8,13 +8,20 @@
 //! figures with plotters (SVG) and writes the page around them. [`HtmlReport`] ties both to
 //! an output file for the command line.
 
+mod arm;
+mod axes;
+mod clearance;
 mod data;
 mod envelope;
 mod figures;
 mod inputs;
 mod markup;
 mod page;
+mod places;
 mod plots;
+mod poses;
+mod scene;
+mod slider;
 mod views;
 
 pub use data::{
@@ -23,6 +30,7 @@ pub use data::{
 };
 pub use markup::escape;
 pub use page::MAX_ROWS;
+pub use poses::{KeptPose, PoseKeeper, SLIDER_POSES};
 
 use crate::error::{Error, Result};
 use crate::job::Job;
@@ -86,6 +94,9 @@ impl HtmlReport {
 }
 
 impl SampleSink for HtmlReport {
+    fn begin(&mut self, robot: &Robot, estimated_samples: u64) {
+        self.data.begin(robot, estimated_samples);
+    }
     fn sample(&mut self, robot: &Robot, rec: &SampleRecord) {
         self.data.sample(robot, rec);
     }

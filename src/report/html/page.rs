@@ -1,6 +1,8 @@
-//! The page: one self-contained HTML document (inline CSS and inline SVG, no scripts, no
-//! links to anything outside the file, generic font families). All text that comes from the
-//! user's files (names, paths, messages) is escaped ([`escape`]).
+//! The page: one self-contained HTML document (inline CSS, inline SVG and one small inline
+//! script for the pose slider; no links to anything outside the file, generic font
+//! families). Everything but the slider is static: with scripts off the page reads the same,
+//! the arm's start, end and finding poses included. All text that comes from the user's
+//! files (names, paths, messages) is escaped ([`escape`]).
 
 use super::data::PlotData;
 use super::figures::{self, Figures, Place};
@@ -53,7 +55,10 @@ fn place_name(p: Place, names: &[String]) -> String {
         Place::Speed => "joint speeds".into(),
         Place::Singularity => "singularity".into(),
         Place::Tool => "tool turn rate".into(),
-        Place::Views => "path views".into(),
+        Place::Acceleration => "joint acceleration".into(),
+        Place::TcpSpeed => "TCP speed".into(),
+        Place::Clearance => "clearance".into(),
+        Place::Views => "arm and path views".into(),
         Place::Nowhere => String::new(),
     }
 }
@@ -116,19 +121,25 @@ pub fn render(report: &Report, data: &PlotData) -> String {
          <p class=\"sub\">robot {} · {} · {} wrist · armpath {}</p>\
          <nav><a href=\"#findings\">Findings</a><a href=\"#along\">Along the path</a>\
          <a href=\"#over-time\">Over time</a>\
-         <a href=\"#views\">Path views</a><a href=\"#settings\">Settings</a>\
+         <a href=\"#views\">Arm and path views</a>{}<a href=\"#settings\">Settings</a>\
          <a href=\"#cautions\">Cautions</a></nav></header>",
         escape(&p.file),
         escape(&r.name),
         count(r.dof, "joint"),
         r.wrist_kind(),
-        report.armpath_version
+        report.armpath_version,
+        if figs.clearance.is_some() {
+            "<a href=\"#clearance\">Clearance</a>"
+        } else {
+            ""
+        },
     );
     verdict(&mut o, report);
     findings(&mut o, report, &figs, &names);
     along(&mut o, report, &figs, &names);
     over_time(&mut o, report, &figs, &names);
     views(&mut o, &figs);
+    clearance(&mut o, report, &figs);
     settings(&mut o, report, data);
     o.push_str("<h2 id=\"cautions\">Cautions</h2><ul class=\"cautions\">");
     for c in &report.cautions {
@@ -138,7 +149,9 @@ pub fn render(report: &Report, data: &PlotData) -> String {
     let _ = write!(
         o,
         "<footer>Written by armpath {} from {}. This page is self-contained: \
-         no scripts, no fonts or images from elsewhere.</footer>\n</main></body></html>\n",
+         one small inline script moves the arm along the path (everything else is static and \
+         reads the same without it); no fonts, images or scripts from elsewhere.</footer>\n\
+         </main></body></html>\n",
         report.armpath_version,
         count(s.samples, "sample")
     );
@@ -402,15 +415,77 @@ fn over_time(o: &mut String, report: &Report, figs: &Figures, names: &[String]) 
 }
 
 fn views(o: &mut String, figs: &Figures) {
-    o.push_str(
-        "<h2 id=\"views\">Path views</h2><p class=\"note\">The commanded TCP path in the robot \
-         base frame, equal scales on both axes of each view (■ first waypoint, ● waypoints). \
-         Finding stretches are drawn wide under the path; a leader line points from each \
-         marker to where its finding starts.</p><div class=\"grid3\">",
+    let sc = &figs.scene;
+    let ghosts = if sc.ghosts.is_empty() {
+        String::new()
+    } else {
+        let left = if sc.ghosts_left_out > 0 {
+            format!(
+                " ({} with a worst pose not drawn: at most {} are, errors first)",
+                count(sc.ghosts_left_out, "more finding"),
+                super::scene::MAX_GHOSTS
+            )
+        } else {
+            String::new()
+        };
+        format!(
+            " The arm at the worst sample of findings {}{left} is drawn in the finding's \
+             colour and labelled with its number.",
+            sc.ghosts
+                .iter()
+                .map(|n| n.to_string())
+                .collect::<Vec<_>>()
+                .join(", ")
+        )
+    };
+    let _ = write!(
+        o,
+        "<h2 id=\"views\">Arm and path views</h2><p class=\"note\">The commanded TCP path \
+         and the arm in the robot base frame, equal scales on both axes of each view (■ first \
+         waypoint, ● waypoints). The arm is drawn as the outlines of its collision shapes \
+         (meshes by their bounding boxes) over thick lines through its joints to the TCP: \
+         blue at the start, green at the end; bodies fixed in the base frame (the arm's base, the cell) \
+         in grey.{ghosts} Finding stretches \
+         are drawn wide under the path; a leader line points from each marker to where its \
+         finding starts.</p>"
     );
+    super::slider::controls(o, sc);
+    o.push_str("<div class=\"grid3\">");
     let [top, side, end] = &figs.views;
     figure(o, "view-top", "<b>Top view</b> x–y, from above", top);
     figure(o, "view-side", "<b>Side view</b> x–z, from −y", side);
     figure(o, "view-end", "<b>End view</b> y–z, from +x", end);
     o.push_str("</div>\n");
+    super::slider::script(o, figs);
+}
+
+fn clearance(o: &mut String, report: &Report, figs: &Figures) {
+    let (Some([by_s, by_t]), Some(cell)) = (&figs.clearance, &report.cell) else {
+        return;
+    };
+    let _ = write!(
+        o,
+        "<h2 id=\"clearance\">Clearance</h2><p class=\"note\">The nearest distance of any \
+         tested body pair at each sample (the smallest in each of at most {} slices; below \
+         zero: the depth of a contact), against path distance and against time. Pairs far \
+         apart are measured by their bounding spheres, a lower bound; a contact found between \
+         two samples is marked by its finding, not by the line. Values above the top are \
+         drawn at the top.</p>",
+        crate::check::PROFILE_SLICES
+    );
+    figure(
+        o,
+        "plot-clearance",
+        &format!(
+            "<b>Nearest distance</b> (mm) against s; clearance limit {} mm",
+            super::nice(cell.clearance_mm)
+        ),
+        by_s,
+    );
+    figure(
+        o,
+        "time-clearance",
+        "<b>Nearest distance</b> (mm) against t",
+        by_t,
+    );
 }

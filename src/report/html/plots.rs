@@ -112,6 +112,8 @@ pub struct Pin {
 pub struct Figure {
     pub svg: String,
     pub pins: Vec<Pin>,
+    /// Path views only: the slider's poses as SVG point lists (pixels), one per pose.
+    pub slider: Vec<String>,
 }
 
 /// A data line (s in mm): polylines broken at gaps.
@@ -439,7 +441,11 @@ where
         }
         root.present().map_err(err)?;
     }
-    Ok(Figure { svg, pins })
+    Ok(Figure {
+        svg,
+        pins,
+        slider: Vec::new(),
+    })
 }
 
 #[cfg(test)]

@@ -1,7 +1,8 @@
-//! Top, side and end views of the TCP path (mm, base frame, equal scales on both axes),
-//! drawn with plotters like the plots against s.
+//! Top, side and end views of the TCP path and the arm (mm, base frame, equal scales on both
+//! axes), drawn with plotters like the plots against s.
 
-use super::plots::{draw_marker, err, error_colour, font, Figure, Pin, GRID, INK};
+use super::plots::{draw_marker, err, error_colour, font, Figure, Pin, GREY, GRID, INK, PURPLE};
+use plotters::coord::types::RangedCoordf64;
 use plotters::prelude::*;
 use plotters::style::text_anchor::{HPos, Pos, VPos};
 
@@ -23,6 +24,33 @@ pub struct View<'a> {
     /// Waypoints (x, y, name).
     pub waypoints: Vec<(f64, f64, String)>,
     pub marks: Vec<ViewMark>,
+    /// Cell bodies: outline polygons (mm), drawn light under everything.
+    pub cell: Vec<Vec<(f64, f64)>>,
+    /// Arm poses, drawn in order under the path.
+    pub arms: Vec<ArmLayer>,
+    /// The slider's poses: the projected joint origins of each (mm). Drawn by the page's
+    /// script only; the figure carries them as SVG point lists ([`Figure::slider`]).
+    pub slider: Vec<Vec<(f64, f64)>>,
+}
+
+/// One arm pose on a view.
+pub struct ArmLayer {
+    pub colour: RGBColor,
+    /// Opacity of the outlines' fill: ghosts lighter than the start and end poses, so that
+    /// a dozen overlapping ghosts do not hide the path.
+    pub fill: f64,
+    /// Written beside the TCP (a finding's number, `start`, `end`).
+    pub label: Option<String>,
+    /// Outline polygons of the links and tool bodies (mm).
+    pub bodies: Vec<Vec<(f64, f64)>>,
+    /// Joint origins from the base to the TCP (mm).
+    pub skeleton: Vec<(f64, f64)>,
+}
+
+/// Element id of a view's slider arm (`tag`: `top`, `side`, `end`); the page's script sets
+/// its points.
+pub fn slider_id(tag: &str) -> String {
+    format!("slide-{tag}")
 }
 
 const VIEW_LEFT: u32 = 62;
@@ -54,15 +82,27 @@ fn equal_ranges(path: &[(f64, f64)], size: (u32, u32)) -> ([f64; 2], [f64; 2]) {
     )
 }
 
-/// Draw a view of the TCP path.
-pub fn view(spec: &View) -> Result<Figure, String> {
+/// Draw a view of the TCP path and the arm; `tag` names the view in element ids.
+pub fn view(spec: &View, tag: &str) -> Result<Figure, String> {
     let mut svg = String::new();
     let (w, h) = spec.size;
     let mut pins = Vec::new();
+    let mut slider = Vec::new();
     {
         let root = SVGBackend::with_string(&mut svg, spec.size).into_drawing_area();
         root.fill(&WHITE).map_err(err)?;
-        let (xr, yr) = equal_ranges(&spec.path, spec.size);
+        let extent: Vec<(f64, f64)> = spec
+            .path
+            .iter()
+            .chain(
+                spec.arms
+                    .iter()
+                    .flat_map(|a| a.bodies.iter().flatten().chain(&a.skeleton)),
+            )
+            .chain(spec.slider.iter().flatten())
+            .copied()
+            .collect();
+        let (xr, yr) = equal_ranges(&extent, spec.size);
         let mut chart = ChartBuilder::on(&root)
             .margin(VIEW_MARGIN)
             .x_label_area_size(VIEW_BOTTOM)
@@ -84,6 +124,42 @@ pub fn view(spec: &View) -> Result<Figure, String> {
             .y_label_formatter(&|v| format!("{v:.0}"))
             .draw()
             .map_err(err)?;
+        // Cell bodies do not set the scale (a floor would dwarf the arm): cut to the view.
+        for body in &spec.cell {
+            draw_outline(&mut chart, &clip(body, xr, yr), GREY, 0.12)?;
+        }
+        for arm in &spec.arms {
+            for body in &arm.bodies {
+                draw_outline(&mut chart, body, arm.colour, arm.fill)?;
+            }
+            chart
+                .draw_series(LineSeries::new(
+                    arm.skeleton.iter().copied(),
+                    arm.colour.mix(0.9).stroke_width(3),
+                ))
+                .map_err(err)?;
+            if let (Some(label), Some(&tcp)) = (&arm.label, arm.skeleton.last()) {
+                let (x, y) = chart.backend_coord(&tcp);
+                root.draw(&Text::new(
+                    label.clone(),
+                    (x + 6, y - 6),
+                    font(11.0)
+                        .color(&arm.colour)
+                        .pos(Pos::new(HPos::Left, VPos::Bottom)),
+                ))
+                .map_err(err)?;
+            }
+        }
+        for pose in &spec.slider {
+            let pts: Vec<String> = pose
+                .iter()
+                .map(|p| {
+                    let (x, y) = chart.backend_coord(p);
+                    format!("{x},{y}")
+                })
+                .collect();
+            slider.push(pts.join(" "));
+        }
         for m in &spec.marks {
             if m.stretch.len() > 1 {
                 chart
@@ -172,12 +248,114 @@ pub fn view(spec: &View) -> Result<Figure, String> {
         }
         root.present().map_err(err)?;
     }
-    Ok(Figure { svg, pins })
+    // The slider's arm: empty until the page's script gives it points (nothing shows with
+    // scripts off).
+    if !spec.slider.is_empty() {
+        if let Some(end) = svg.rfind("</svg>") {
+            svg.insert_str(
+                end,
+                &format!(
+                    r##"<polyline id="{}" points="" fill="none" stroke="#{:02X}{:02X}{:02X}" stroke-width="5" stroke-linejoin="round" stroke-linecap="round" opacity="0.85"/>"##,
+                    slider_id(tag),
+                    PURPLE.0,
+                    PURPLE.1,
+                    PURPLE.2
+                ),
+            );
+        }
+    }
+    Ok(Figure { svg, pins, slider })
+}
+
+/// A convex polygon cut to the rectangle `xr` × `yr` (Sutherland–Hodgman, one edge of the
+/// rectangle at a time).
+fn clip(polygon: &[(f64, f64)], xr: [f64; 2], yr: [f64; 2]) -> Vec<(f64, f64)> {
+    let mut pts = polygon.to_vec();
+    // Each edge: the coordinate (0 = x, 1 = y), the bound, and whether inside is above it.
+    for (axis, bound, above) in [
+        (0, xr[0], true),
+        (0, xr[1], false),
+        (1, yr[0], true),
+        (1, yr[1], false),
+    ] {
+        let coord = |p: (f64, f64)| if axis == 0 { p.0 } else { p.1 };
+        let inside = |p: (f64, f64)| (coord(p) >= bound) == above || coord(p) == bound;
+        let mut out = Vec::with_capacity(pts.len() + 2);
+        for (i, &b) in pts.iter().enumerate() {
+            let a = pts[(i + pts.len() - 1) % pts.len()];
+            if inside(b) != inside(a) {
+                let u = (bound - coord(a)) / (coord(b) - coord(a));
+                out.push((a.0 + (b.0 - a.0) * u, a.1 + (b.1 - a.1) * u));
+            }
+            if inside(b) {
+                out.push(b);
+            }
+        }
+        pts = out;
+        if pts.is_empty() {
+            break;
+        }
+    }
+    pts
+}
+
+/// A closed outline with a light fill.
+fn draw_outline(
+    chart: &mut ChartContext<SVGBackend, Cartesian2d<RangedCoordf64, RangedCoordf64>>,
+    points: &[(f64, f64)],
+    colour: RGBColor,
+    fill: f64,
+) -> Result<(), String> {
+    if points.len() < 2 {
+        return Ok(());
+    }
+    chart
+        .draw_series(std::iter::once(Polygon::new(
+            points.to_vec(),
+            colour.mix(fill).filled(),
+        )))
+        .map_err(err)?;
+    let mut closed = points.to_vec();
+    closed.push(points[0]);
+    chart
+        .draw_series(LineSeries::new(closed, colour.mix(0.7).stroke_width(1)))
+        .map_err(err)?;
+    Ok(())
 }
 
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn a_floor_larger_than_the_view_is_cut_to_it() {
+        // source: geometry by hand (a 4 m square floor seen through a 1 m window)
+        let floor = [
+            (-2000.0, -2000.0),
+            (2000.0, -2000.0),
+            (2000.0, 2000.0),
+            (-2000.0, 2000.0),
+        ];
+        let cut = clip(&floor, [0.0, 1000.0], [-500.0, 500.0]);
+        let mut corners = cut.clone();
+        corners.sort_by(|a, b| a.0.total_cmp(&b.0).then(a.1.total_cmp(&b.1)));
+        assert_eq!(
+            corners,
+            vec![
+                (0.0, -500.0),
+                (0.0, 500.0),
+                (1000.0, -500.0),
+                (1000.0, 500.0)
+            ]
+        );
+        // A triangle wholly outside leaves nothing.
+        assert!(clip(
+            &[(5e3, 0.0), (6e3, 0.0), (5e3, 1.0)],
+            [0.0, 1.0],
+            [0.0, 1.0]
+        )
+        .is_empty());
+    }
 
     #[test]
     fn views_keep_one_scale_on_both_axes() {
