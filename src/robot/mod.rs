@@ -18,7 +18,10 @@ pub use ranges::{
     check_offset, check_pose, MAX_EFFORT, MAX_JOINT_SPEED, MAX_LENGTH_M, MAX_ORIGIN_ANGLE_RAD,
     MAX_REVOLUTE_TURNS, MIN_JOINT_SPEED,
 };
-pub use singularity::{SingularityClass, SingularityModel, DEFAULT_SINGULARITY_THRESHOLD};
+pub use singularity::{
+    Screened, SingularityClass, SingularityModel, SingularityScreen, DEFAULT_SINGULARITY_THRESHOLD,
+    SCREEN_FLOOR,
+};
 pub use wrist::{spherical_wrist, WristCheck, AXIS_ANGLE_TOLERANCE};
 
 use nalgebra::{Isometry3, Vector3};

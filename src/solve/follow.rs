@@ -28,6 +28,10 @@ pub(crate) struct Solved {
     pub full_search: bool,
     /// Random restarts the full search ran.
     pub restarts: u32,
+    /// The residuals are not measured yet (0 here): an exact closed-form solution, whose
+    /// residual the walker reads off the forward kinematics it runs anyway, and only where
+    /// it reports it.
+    pub residual_pending: bool,
 }
 
 impl Solved {
@@ -41,6 +45,16 @@ impl Solved {
             config_change: None,
             full_search: false,
             restarts: 0,
+            residual_pending: false,
+        }
+    }
+
+    /// An exact solution at `q` whose residuals are left to the walker (see
+    /// `residual_pending`).
+    pub fn exact(q: Joints) -> Self {
+        Solved {
+            residual_pending: true,
+            ..Solved::reached(q, 0.0, 0.0)
         }
     }
 
@@ -64,9 +78,8 @@ impl Solved {
 
 /// One way of following the arm along the path. Implementations allocate nothing per call.
 pub(crate) trait Follower {
-    /// Set up for a walk from `start`; `light`: residuals of exact solutions need not be
-    /// measured.
-    fn begin(&mut self, start: &StartChoice, light: bool);
+    /// Set up for a walk from `start`.
+    fn begin(&mut self, start: &StartChoice);
 
     /// Joints for a linear-segment sample at `base_T_target`, continuing from `last_good`.
     /// `full_search`: try hard (restarts, probes) on failure. `probe`: the distance of the
@@ -109,7 +122,7 @@ impl<'a> NumericContinuity<'a> {
 }
 
 impl Follower for NumericContinuity<'_> {
-    fn begin(&mut self, start: &StartChoice, _light: bool) {
+    fn begin(&mut self, start: &StartChoice) {
         self.warm.reset(&start.joints);
     }
 
@@ -179,8 +192,6 @@ pub(crate) struct ClosedBranch<'a> {
     start_config: Config,
     /// The configuration followed now.
     config: Config,
-    /// Skip the residual of exact solutions.
-    light: bool,
 }
 
 impl<'a> ClosedBranch<'a> {
@@ -197,7 +208,6 @@ impl<'a> ClosedBranch<'a> {
             limited: NumericIk::new(robot, options),
             start_config: config,
             config,
-            light: false,
         }
     }
 }
@@ -208,9 +218,8 @@ fn distance(s: &AnalyticSolution, q: &Joints) -> f64 {
 }
 
 impl Follower for ClosedBranch<'_> {
-    fn begin(&mut self, start: &StartChoice, light: bool) {
+    fn begin(&mut self, start: &StartChoice) {
         self.config = start.config.unwrap_or(self.start_config);
-        self.light = light;
     }
 
     fn sample(
@@ -224,13 +233,9 @@ impl Follower for ClosedBranch<'_> {
         // Stay on the configuration's branch, windings nearest the previous joints.
         if let Some(q) = self.solver.solve_near(base_T_target, last_good, config) {
             // Closed-form solutions are exact to rounding (see `Parameters`' model
-            // deviation); the residual is measured only when it will be reported.
-            let (pe, oe) = if self.light {
-                (0.0, 0.0)
-            } else {
-                residual(self.robot, &q, base_T_target)
-            };
-            return Solved::reached(q, pe, oe);
+            // deviation); the residual is measured only when it will be reported, from the
+            // walker's own forward kinematics.
+            return Solved::exact(q);
         }
         // The branch ends here (reach boundary of this configuration). Go on in the
         // configuration whose solution is nearest, if any reaches the pose.

@@ -19,6 +19,7 @@
 
 mod clock;
 mod follow;
+mod jump;
 mod record;
 mod start;
 mod walk;
