@@ -5,7 +5,7 @@
 //! walker's.
 
 use super::{residual, StartChoice, RESTARTS};
-use crate::ik::analytic::{AnalyticSolution, Config, OrthoParallel};
+use crate::ik::analytic::{AnalyticSolution, Config, OrthoParallel, Solutions};
 use crate::ik::{IkOptions, NumericIk, WarmStart};
 use crate::robot::{Joints, Robot};
 use nalgebra::Isometry3;
@@ -217,6 +217,37 @@ fn distance(s: &AnalyticSolution, q: &Joints) -> f64 {
     (0..6).fold(0.0f64, |m, k| m.max((s.joints[k] - q[k]).abs()))
 }
 
+/// Where a configuration's branch ends at `base_T_target`: the configuration whose
+/// closed-form solution lies nearest `last_good`, if any reaches the pose.
+pub(super) fn nearest_config(
+    solver: &OrthoParallel,
+    base_T_target: &Isometry3<f64>,
+    last_good: &Joints,
+) -> Option<Config> {
+    solver
+        .solve_all(base_T_target)
+        .iter()
+        .map(|s| (distance(s, last_good), s.config))
+        .min_by(|a, b| a.0.total_cmp(&b.0))
+        .map(|(_, c)| c)
+}
+
+/// The solution a joint move from `q0` ends in, among the in-range solutions `sols` of its
+/// end: of configuration `config` nearest `q0`, else of any configuration nearest `q0` (a
+/// joint move may change configuration).
+pub(super) fn move_end_pick<'s>(
+    sols: &'s Solutions,
+    config: Config,
+    q0: &Joints,
+) -> Option<&'s AnalyticSolution> {
+    let nearest =
+        |a: &&AnalyticSolution, b: &&AnalyticSolution| distance(a, q0).total_cmp(&distance(b, q0));
+    sols.iter()
+        .filter(|s| s.config == config)
+        .min_by(nearest)
+        .or_else(|| sols.iter().min_by(nearest))
+}
+
 impl Follower for ClosedBranch<'_> {
     fn begin(&mut self, start: &StartChoice) {
         self.config = start.config.unwrap_or(self.start_config);
@@ -239,14 +270,7 @@ impl Follower for ClosedBranch<'_> {
         }
         // The branch ends here (reach boundary of this configuration). Go on in the
         // configuration whose solution is nearest, if any reaches the pose.
-        let next = self
-            .solver
-            .solve_all(base_T_target)
-            .iter()
-            .map(|s| (distance(s, last_good), s.config))
-            .min_by(|a, b| a.0.total_cmp(&b.0))
-            .map(|(_, c)| c);
-        if let Some(other) = next {
+        if let Some(other) = nearest_config(self.solver, base_T_target, last_good) {
             if let Some(q) = self.solver.solve_near(base_T_target, last_good, other) {
                 self.config = other;
                 let (pe, oe) = residual(self.robot, &q, base_T_target);
@@ -272,15 +296,7 @@ impl Follower for ClosedBranch<'_> {
         // afterwards is the one the move ends in).
         let mut q1 = Joints::zeros(self.robot.dof());
         let sols = self.solver.solve(base_T_end);
-        let nearest = |a: &&AnalyticSolution, b: &&AnalyticSolution| {
-            distance(a, q0).total_cmp(&distance(b, q0))
-        };
-        let pick = sols
-            .iter()
-            .filter(|s| s.config == self.config)
-            .min_by(nearest)
-            .or_else(|| sols.iter().min_by(nearest));
-        match pick {
+        match move_end_pick(&sols, self.config, q0) {
             Some(sol) => {
                 self.config = sol.config;
                 let (pe, oe) = residual(self.robot, &sol.joints, base_T_end);

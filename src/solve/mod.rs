@@ -30,7 +30,7 @@ pub use start::{
     best_in_config, choose_start, limit_ratio, margin, pose_margin, StartChoice, StartMethod,
     StartSolver, WELL_CONDITIONED_MEASURE,
 };
-pub use walk::Walker;
+pub use walk::{LaneStop, StopKind, Walker};
 
 use crate::robot::{Joints, Robot};
 use crate::rotation;

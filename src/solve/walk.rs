@@ -2,6 +2,9 @@
 //! [`Follower`], joint moves interpolated in joint space, the jump test, speeds and the
 //! hand-off to the sinks. Only the previous sample is kept; the loop allocates nothing.
 
+mod lanes;
+pub use lanes::{LaneStop, StopKind};
+
 use super::follow::{ClosedBranch, Follower, NumericContinuity, Solved};
 use super::jump::JumpTest;
 use super::{residual, Jump, Reach, SampleRecord, SampleSink, StartChoice, StartMethod};
@@ -236,7 +239,7 @@ impl<'a> Walker<'a> {
     /// speed and lasts at least the segment's straight-line length at the TCP speed.
     fn joint_move_timing(&self, seg: &Segment, q0: &Joints, q1: &Joints) -> JointMoveTiming {
         let limits = &self.job.limits;
-        let mut steps = seg.steps.max(1);
+        let steps = self.joint_move_steps(seg, q0, q1);
         let n = self.robot.dof();
         let mut delta = Joints::zeros(n);
         let mut speed = Joints::zeros(n);
@@ -245,12 +248,6 @@ impl<'a> Walker<'a> {
             delta[i] = q1[i] - q0[i];
             speed[i] = j.velocity * limits.joint_speed_scale;
             accel[i] = j.acceleration_limit(limits.joint_acceleration_scale);
-            let step = if j.kind.is_prismatic() {
-                self.job.sampling.step
-            } else {
-                self.job.sampling.angle_step
-            };
-            steps = steps.max((delta[i].abs() / step).ceil() as usize);
         }
         let (fraction, min_duration) = match self.plan.joint_speed_fraction(seg.index + 1) {
             Some(f) => (f, 0.0),
@@ -258,6 +255,21 @@ impl<'a> Walker<'a> {
         };
         let synced = SyncedMove::new(&delta, &speed, &accel, fraction, min_duration);
         JointMoveTiming { steps, synced }
+    }
+
+    /// Samples of a joint move from `q0` to `q1`: the segment's own count, raised so that no
+    /// joint moves more than one angle step (or length step, prismatic) between samples.
+    fn joint_move_steps(&self, seg: &Segment, q0: &Joints, q1: &Joints) -> usize {
+        let mut steps = seg.steps.max(1);
+        for (i, j) in self.robot.joints().iter().enumerate() {
+            let step = if j.kind.is_prismatic() {
+                self.job.sampling.step
+            } else {
+                self.job.sampling.angle_step
+            };
+            steps = steps.max(((q1[i] - q0[i]).abs() / step).ceil() as usize);
+        }
+        steps
     }
 
     /// A joint move starting at path distance `s0`. It counts as its straight-line length,
