@@ -84,13 +84,16 @@ pub fn running(table: &[Feasibility]) -> Vec<Config> {
 
 /// Walk the path in each of the eight configurations ([`Config::ALL`] order), each from its
 /// best start joints at waypoint 0 ([`best_in_config`]); a configuration that does not reach
-/// waypoint 0 stops there, unreachable.
+/// waypoint 0 stops there, unreachable. `threads` (at least 1) splits the configurations
+/// into that many groups walked at once on rayon's threads; each configuration's walk is its
+/// own, so the table does not depend on the split.
 pub fn feasibility(
     robot: &Robot,
     job: &Job,
     plan: &Plan,
     solver: &OrthoParallel,
     options: IkOptions,
+    threads: usize,
 ) -> Vec<Feasibility> {
     let model = SingularityModel::new(robot);
     let target = plan.first_base();
@@ -102,11 +105,23 @@ pub fn feasibility(
         .iter()
         .filter_map(|&(c, q)| q.map(|q| (c, q)))
         .collect();
-    // The walker's own configuration is not followed here: each lane follows its own.
-    let mut walker = Walker::new(robot, job, plan, options)
-        .with_closed_form(solver, Config::ALL[0])
-        .light();
-    let mut stops = walker.walk_lanes(solver, &walked).into_iter();
+    let groups = threads.clamp(1, walked.len().max(1));
+    let walk_group = |g: usize| {
+        let lanes: Vec<(Config, Joints)> = walked.iter().skip(g).step_by(groups).copied().collect();
+        // The walker's own configuration is not followed here: each lane follows its own.
+        let mut walker = Walker::new(robot, job, plan, options)
+            .with_closed_form(solver, Config::ALL[0])
+            .light();
+        walker.walk_lanes(solver, &lanes)
+    };
+    let by_group: Vec<Vec<Option<LaneStop>>> = if groups == 1 {
+        vec![walk_group(0)]
+    } else {
+        use rayon::prelude::*;
+        (0..groups).into_par_iter().map(walk_group).collect()
+    };
+    // Back to the order of `walked`: lane i went to group i % groups, at position i / groups.
+    let mut stops = (0..walked.len()).map(|i| by_group[i % groups][i / groups]);
     starts
         .into_iter()
         .map(|(config, start)| match start {

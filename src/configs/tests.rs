@@ -92,8 +92,10 @@ fn compare(job: &Job, label: &str, stops: &mut [usize; 3]) -> bool {
     };
     let options = IkOptions::default();
     let reference = feasibility_by_walks(&robot, job, &plan, &solver, options);
-    let lockstep = feasibility(&robot, job, &plan, &solver, options);
-    assert_eq!(lockstep, reference, "{label}");
+    for threads in [1, 2, 3] {
+        let lockstep = feasibility(&robot, job, &plan, &solver, options, threads);
+        assert_eq!(lockstep, reference, "{label}, {threads} threads");
+    }
     for f in reference.iter().filter_map(|r| r.first_stop) {
         let k = match f.kind {
             Kind::Unreachable => 0,
