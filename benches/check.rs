@@ -1,5 +1,6 @@
-//! The whole check on a path of 30,000+ samples, next to a plain `k` IK loop over the same
-//! sample poses (warm-started from the previous solution) in the same run.
+//! The whole check on a path of 30,000+ samples (on one thread, and with the configuration
+//! table split over two), next to a plain `k` IK loop over the same sample poses
+//! (warm-started from the previous solution) in the same run.
 //!
 //! Run: `cargo bench --bench check`
 #![allow(non_snake_case)]
@@ -80,6 +81,17 @@ fn bench(c: &mut Criterion) {
     g.bench_function("armpath check (all findings)", |b| {
         b.iter(|| {
             let outcome = check(&job, &robot, &options, &mut []).unwrap();
+            black_box(Report::from_outcome(&outcome).unwrap())
+        })
+    });
+    // The same check with the configuration table's walks split over two threads.
+    let two = CheckOptions {
+        threads: 2,
+        ..options
+    };
+    g.bench_function("armpath check (all findings, 2 threads)", |b| {
+        b.iter(|| {
+            let outcome = check(&job, &robot, &two, &mut []).unwrap();
             black_box(Report::from_outcome(&outcome).unwrap())
         })
     });

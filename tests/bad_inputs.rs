@@ -90,7 +90,7 @@ const LIMIT: &str =
     "<axis xyz=\"0 0 1\"/><limit lower=\"-1\" upper=\"1\" effort=\"1\" velocity=\"1\"/>";
 
 /// Size of the catalogue when its last case was added; it may only grow.
-const FLOOR: usize = 154;
+const FLOOR: usize = 155;
 
 /// A valid path file head: robot and speed (2 lines), then whatever follows.
 const HEAD: &str = "robot: arm6.urdf\nspeed: 20\n";
@@ -406,6 +406,7 @@ fn cases() -> Vec<Case> {
         case("cli: --start-joints with text", vec![good()], &["check", "good.yaml", "--start-joints", "0,0,abc,0,0,0"], &["--start-joints:", "value 3 ('abc')"]),
         case("cli: --start-joints wrong count", vec![good()], &["check", "good.yaml", "--start-joints", "0,0,0"], &["--start-joints:", "3 values", "one value per joint"]),
         case("cli: --singularity-threshold 2", vec![good()], &["check", "good.yaml", "--singularity-threshold", "2"], &["--singularity-threshold:", "not in (0, 1)"]),
+        case("cli: --threads 0", vec![good()], &["check", "good.yaml", "--threads", "0"], &["--threads:", "not a whole number from 1 to 256"]),
         case("cli: negative --speed", vec![good()], &["check", "good.yaml", "--speed", "-3"], &["--speed:", "greater than 0 (got -3)"]),
         case("cli: --speed as text", vec![good()], &["check", "good.yaml", "--speed", "abc"], &["'--speed <V>'", "see `armpath check --help`"]),
         case("cli: negative --angle-step", vec![good()], &["check", "good.yaml", "--angle-step", "-1"], &["--angle-step:", "greater than 0"]),

@@ -34,6 +34,9 @@ pub struct CheckOptions {
     /// Use the numerical solver even when the arm has a closed-form one (to compare, or to
     /// follow the motion through an exact wrist singularity by continuity).
     pub numeric_only: bool,
+    /// Threads the configuration table's walks may be split over (at least 1; the result
+    /// does not depend on it).
+    pub threads: usize,
 }
 
 impl Default for CheckOptions {
@@ -43,6 +46,7 @@ impl Default for CheckOptions {
             thresholds: Thresholds::default(),
             max_samples: DEFAULT_MAX_SAMPLES,
             numeric_only: false,
+            threads: 1,
         }
     }
 }
@@ -120,7 +124,7 @@ pub fn check(
     let mut notes: Vec<Finding> = unit_hint.into_iter().map(note).collect();
     let (start, table) = match &closed {
         Ok(solver) => {
-            let table = feasibility(&robot, job, &plan, solver, options.ik);
+            let table = feasibility(&robot, job, &plan, solver, options.ik, options.threads);
             let running = crate::configs::running(&table);
             let start = choose_start(
                 &robot,

@@ -18,7 +18,10 @@ pub use ranges::{
     check_offset, check_pose, MAX_EFFORT, MAX_JOINT_SPEED, MAX_LENGTH_M, MAX_ORIGIN_ANGLE_RAD,
     MAX_REVOLUTE_TURNS, MIN_JOINT_SPEED,
 };
-pub use singularity::{SingularityClass, SingularityModel, DEFAULT_SINGULARITY_THRESHOLD};
+pub use singularity::{
+    Screened, SingularityClass, SingularityModel, SingularityScreen, DEFAULT_SINGULARITY_THRESHOLD,
+    SCREEN_FLOOR,
+};
 pub use wrist::{spherical_wrist, WristCheck, AXIS_ANGLE_TOLERANCE};
 
 use nalgebra::{Isometry3, Vector3};
@@ -216,14 +219,15 @@ impl Robot {
             c.set_tool(Isometry3::identity());
             c
         };
+        // The first joint's frame does not move with the joints: its origin once.
+        chain_no_tool.joint_frames(&Joints::zeros(self.dof()), &mut frames);
+        let origin = frames[0].translation.vector;
         for k in 0..4096 {
             let q = if k == 0 {
                 Joints::zeros(self.dof())
             } else {
                 self.random_config(&mut rng)
             };
-            chain_no_tool.joint_frames(&q, &mut frames);
-            let origin = frames[0].translation.vector;
             let tip = chain_no_tool.fk(&q).translation.vector;
             best = best.max((tip - origin).norm());
         }

@@ -81,6 +81,17 @@ impl SingularityModel {
     /// The inverse condition number of the reach-scaled Jacobian (see the module doc).
     #[inline]
     pub fn measure(&self, jac: &Jacobian, dof: usize) -> f64 {
+        let (min_sq, max_sq) = self.extreme_squares(jac, dof);
+        if max_sq <= 0.0 {
+            return 0.0;
+        }
+        (min_sq / max_sq).sqrt()
+    }
+
+    /// `(σ_min², σ_max²)` of the reach-scaled Jacobian's first `dof` columns (`σ_min` the
+    /// `min(dof, 6)`-th singular value), from the eigenvalues of `J·Jᵀ` clamped at 0.
+    #[inline]
+    fn extreme_squares(&self, jac: &Jacobian, dof: usize) -> (f64, f64) {
         let m = scaled_jjt(jac, dof, self.length_scale);
         // Eigenvalues only: no eigenvectors are accumulated, which halves the cost.
         let eig = m.symmetric_eigenvalues();
@@ -89,11 +100,22 @@ impl SingularityModel {
             *slot = v.max(0.0);
         }
         ev.sort_unstable_by(|a, b| b.total_cmp(a));
-        let rank = dof.min(6);
-        if ev[0] <= 0.0 {
-            return 0.0;
+        (ev[dof.min(6) - 1], ev[0])
+    }
+
+    /// Frobenius norm of the difference of two Jacobians' first `dof` columns, linear rows
+    /// divided by the reach as in the measure: the Weyl step between their singular values.
+    fn scaled_distance(&self, a: &Jacobian, b: &Jacobian, dof: usize) -> f64 {
+        let inv = 1.0 / self.length_scale;
+        let mut sum = 0.0;
+        for c in 0..dof {
+            for r in 0..6 {
+                let d = a[(r, c)] - b[(r, c)];
+                let d = if r < 3 { d * inv } else { d };
+                sum += d * d;
+            }
         }
-        (ev[rank - 1] / ev[0]).sqrt()
+        sum.sqrt()
     }
 
     /// Which singularity the pose `q` is nearest, for arms in the classified family: the
@@ -136,5 +158,150 @@ impl SingularityModel {
         let r = wc - origin(0);
         let shoulder = (r - z1 * z1.dot(&r)).norm() / self.length_scale;
         Some((wrist, elbow, shoulder))
+    }
+}
+
+/// The screen never reports a bound below this measure: below it every sample is measured
+/// exactly. It keeps the eigen-solver's rounding small against σ_min (the computed σ_min²
+/// may be off by about 1e-14·σ_max², i.e. σ_min by 1e-14·σ_max²/σ_min, which stays below
+/// 1e-10·σ_max while σ_min ≥ 1e-3·σ_max), and no warning threshold of interest lies below it.
+pub const SCREEN_FLOOR: f64 = 1e-3;
+
+/// Slack added to the Weyl step, relative to the anchor's σ_max: covers the rounding of both
+/// eigen-solves (see [`SCREEN_FLOOR`]) with a factor of ten to spare, so that a bound never
+/// exceeds the value the exact measure would have computed.
+const SCREEN_ROUNDING: f64 = 1e-9;
+
+/// The singularity measure along a walk, with the eigen-solve skipped where a bound settles
+/// what the walk needs. By Weyl's inequality each singular value moves by at most the
+/// Frobenius norm of the Jacobian's change, `|σ_k(A) − σ_k(B)| ≤ ‖A − B‖_F`, so from the last
+/// sample measured exactly (the anchor: σ_min, σ_max) a sample's measure is at least
+/// `(σ_min − d) / (σ_max + d)` with `d` that norm on the reach-scaled Jacobians. Where this
+/// lower bound is above the caller's level (the warning threshold and the smallest measure
+/// so far) the sample cannot be a finding or a new minimum, and the bound is returned instead
+/// of the value; everywhere else the value is exact and becomes the new anchor.
+#[derive(Debug, Clone, Default)]
+pub struct SingularityScreen {
+    /// The last sample measured exactly: its Jacobian, σ_min and σ_max.
+    anchor: Option<(Jacobian, f64, f64)>,
+}
+
+/// One screened measure: the exact value or a proven lower bound of it.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Screened {
+    /// The measure ([`SingularityModel::measure`]) or, when `exact` is false, a lower bound of
+    /// it that is above the level asked for and at least [`SCREEN_FLOOR`].
+    pub value: f64,
+    /// `value` is the measure itself.
+    pub exact: bool,
+}
+
+impl SingularityScreen {
+    /// A screen with no anchor: its first sample is measured exactly.
+    pub fn new() -> Self {
+        Self::default()
+    }
+
+    /// The measure of `jac` (first `dof` columns) under `model`, or a lower bound of it where
+    /// the bound is above `level` (strictly) and at least [`SCREEN_FLOOR`]. The exact value is
+    /// bit for bit [`SingularityModel::measure`]'s.
+    pub fn measure(
+        &mut self,
+        model: &SingularityModel,
+        jac: &Jacobian,
+        dof: usize,
+        level: f64,
+    ) -> Screened {
+        if let Some((anchor, min, max)) = &self.anchor {
+            let d = model.scaled_distance(jac, anchor, dof) + SCREEN_ROUNDING * max;
+            let lower = (min - d) / (max + d);
+            if lower > level && lower >= SCREEN_FLOOR {
+                return Screened {
+                    value: lower,
+                    exact: false,
+                };
+            }
+        }
+        let (min_sq, max_sq) = model.extreme_squares(jac, dof);
+        let value = if max_sq <= 0.0 {
+            0.0
+        } else {
+            (min_sq / max_sq).sqrt()
+        };
+        self.anchor = Some((*jac, min_sq.sqrt(), max_sq.sqrt()));
+        Screened { value, exact: true }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::rng::SplitMix64;
+
+    fn demo_arm() -> Robot {
+        let dir = std::path::Path::new(env!("CARGO_MANIFEST_DIR"));
+        super::super::load_urdf(&dir.join("robots/arm6.urdf"), None).unwrap()
+    }
+
+    #[test]
+    fn screen_bound_never_exceeds_the_exact_measure() {
+        // Pairs of poses a small random step apart (the walk's case) and far apart: whenever
+        // the screen returns a bound from the first pose's anchor, it is at most the second
+        // pose's exact measure. source: Weyl's inequality for singular values (Horn & Johnson,
+        // Matrix Analysis, 2nd ed., Cor. 7.3.5).
+        let robot = demo_arm();
+        let model = SingularityModel::new(&robot);
+        let chain = robot.chain();
+        let mut rng = SplitMix64::new(0x5c4ee7);
+        let mut bounded = 0;
+        for k in 0..3000 {
+            let qa = robot.random_config(&mut rng);
+            let scale = [1e-3, 1e-2, 0.1, 1.0][k % 4];
+            let qb = qa.map(|_, v| v + scale * (2.0 * rng.next_f64() - 1.0));
+            let (mut ja, mut jb) = (Jacobian::zeros(), Jacobian::zeros());
+            chain.fk_jacobian(&qa, &mut ja);
+            chain.fk_jacobian(&qb, &mut jb);
+            let mut screen = SingularityScreen::new();
+            let first = screen.measure(&model, &ja, 6, 0.0);
+            assert!(first.exact);
+            assert_eq!(first.value.to_bits(), model.measure(&ja, 6).to_bits());
+            let second = screen.measure(&model, &jb, 6, 0.0);
+            let exact = model.measure(&jb, 6);
+            if second.exact {
+                assert_eq!(second.value.to_bits(), exact.to_bits());
+            } else {
+                bounded += 1;
+                assert!(second.value >= SCREEN_FLOOR);
+                assert!(
+                    second.value <= exact,
+                    "pair {k}: bound {} above {exact}",
+                    second.value
+                );
+            }
+        }
+        // Small steps from a well-conditioned pose are settled by the bound. source: common
+        // practice (a check that the screen is not always bypassed).
+        assert!(bounded > 500, "only {bounded} pairs bounded");
+    }
+
+    #[test]
+    fn screen_measures_exactly_at_or_below_the_level() {
+        // A bound at or below the level asked for is not good enough: the sample could be a
+        // finding or a new minimum, so it is measured exactly and becomes the anchor.
+        // source: common practice.
+        let robot = demo_arm();
+        let model = SingularityModel::new(&robot);
+        let q = Joints::from_slice(&[0.1, -0.4, 0.6, 0.3, 0.8, -0.2]).unwrap();
+        let mut jac = Jacobian::zeros();
+        robot.chain().fk_jacobian(&q, &mut jac);
+        let exact = model.measure(&jac, 6);
+        let mut screen = SingularityScreen::new();
+        screen.measure(&model, &jac, 6, 0.0);
+        // The same Jacobian again: the bound is the value less the rounding slack.
+        let again = screen.measure(&model, &jac, 6, 0.0);
+        assert!(!again.exact && again.value <= exact && again.value > exact - 1e-8);
+        let at_level = screen.measure(&model, &jac, 6, exact);
+        assert!(at_level.exact);
+        assert_eq!(at_level.value.to_bits(), exact.to_bits());
     }
 }

@@ -5,7 +5,7 @@
 //! walker's.
 
 use super::{residual, StartChoice, RESTARTS};
-use crate::ik::analytic::{AnalyticSolution, Config, OrthoParallel};
+use crate::ik::analytic::{AnalyticSolution, Config, OrthoParallel, Solutions};
 use crate::ik::{IkOptions, NumericIk, WarmStart};
 use crate::robot::{Joints, Robot};
 use nalgebra::Isometry3;
@@ -28,6 +28,10 @@ pub(crate) struct Solved {
     pub full_search: bool,
     /// Random restarts the full search ran.
     pub restarts: u32,
+    /// The residuals are not measured yet (0 here): an exact closed-form solution, whose
+    /// residual the walker reads off the forward kinematics it runs anyway, and only where
+    /// it reports it.
+    pub residual_pending: bool,
 }
 
 impl Solved {
@@ -41,6 +45,16 @@ impl Solved {
             config_change: None,
             full_search: false,
             restarts: 0,
+            residual_pending: false,
+        }
+    }
+
+    /// An exact solution at `q` whose residuals are left to the walker (see
+    /// `residual_pending`).
+    pub fn exact(q: Joints) -> Self {
+        Solved {
+            residual_pending: true,
+            ..Solved::reached(q, 0.0, 0.0)
         }
     }
 
@@ -64,9 +78,8 @@ impl Solved {
 
 /// One way of following the arm along the path. Implementations allocate nothing per call.
 pub(crate) trait Follower {
-    /// Set up for a walk from `start`; `light`: residuals of exact solutions need not be
-    /// measured.
-    fn begin(&mut self, start: &StartChoice, light: bool);
+    /// Set up for a walk from `start`.
+    fn begin(&mut self, start: &StartChoice);
 
     /// Joints for a linear-segment sample at `base_T_target`, continuing from `last_good`.
     /// `full_search`: try hard (restarts, probes) on failure. `probe`: the distance of the
@@ -109,7 +122,7 @@ impl<'a> NumericContinuity<'a> {
 }
 
 impl Follower for NumericContinuity<'_> {
-    fn begin(&mut self, start: &StartChoice, _light: bool) {
+    fn begin(&mut self, start: &StartChoice) {
         self.warm.reset(&start.joints);
     }
 
@@ -179,8 +192,6 @@ pub(crate) struct ClosedBranch<'a> {
     start_config: Config,
     /// The configuration followed now.
     config: Config,
-    /// Skip the residual of exact solutions.
-    light: bool,
 }
 
 impl<'a> ClosedBranch<'a> {
@@ -197,7 +208,6 @@ impl<'a> ClosedBranch<'a> {
             limited: NumericIk::new(robot, options),
             start_config: config,
             config,
-            light: false,
         }
     }
 }
@@ -207,10 +217,40 @@ fn distance(s: &AnalyticSolution, q: &Joints) -> f64 {
     (0..6).fold(0.0f64, |m, k| m.max((s.joints[k] - q[k]).abs()))
 }
 
+/// Where a configuration's branch ends at `base_T_target`: the configuration whose
+/// closed-form solution lies nearest `last_good`, if any reaches the pose.
+pub(super) fn nearest_config(
+    solver: &OrthoParallel,
+    base_T_target: &Isometry3<f64>,
+    last_good: &Joints,
+) -> Option<Config> {
+    solver
+        .solve_all(base_T_target)
+        .iter()
+        .map(|s| (distance(s, last_good), s.config))
+        .min_by(|a, b| a.0.total_cmp(&b.0))
+        .map(|(_, c)| c)
+}
+
+/// The solution a joint move from `q0` ends in, among the in-range solutions `sols` of its
+/// end: of configuration `config` nearest `q0`, else of any configuration nearest `q0` (a
+/// joint move may change configuration).
+pub(super) fn move_end_pick<'s>(
+    sols: &'s Solutions,
+    config: Config,
+    q0: &Joints,
+) -> Option<&'s AnalyticSolution> {
+    let nearest =
+        |a: &&AnalyticSolution, b: &&AnalyticSolution| distance(a, q0).total_cmp(&distance(b, q0));
+    sols.iter()
+        .filter(|s| s.config == config)
+        .min_by(nearest)
+        .or_else(|| sols.iter().min_by(nearest))
+}
+
 impl Follower for ClosedBranch<'_> {
-    fn begin(&mut self, start: &StartChoice, light: bool) {
+    fn begin(&mut self, start: &StartChoice) {
         self.config = start.config.unwrap_or(self.start_config);
-        self.light = light;
     }
 
     fn sample(
@@ -224,24 +264,13 @@ impl Follower for ClosedBranch<'_> {
         // Stay on the configuration's branch, windings nearest the previous joints.
         if let Some(q) = self.solver.solve_near(base_T_target, last_good, config) {
             // Closed-form solutions are exact to rounding (see `Parameters`' model
-            // deviation); the residual is measured only when it will be reported.
-            let (pe, oe) = if self.light {
-                (0.0, 0.0)
-            } else {
-                residual(self.robot, &q, base_T_target)
-            };
-            return Solved::reached(q, pe, oe);
+            // deviation); the residual is measured only when it will be reported, from the
+            // walker's own forward kinematics.
+            return Solved::exact(q);
         }
         // The branch ends here (reach boundary of this configuration). Go on in the
         // configuration whose solution is nearest, if any reaches the pose.
-        let next = self
-            .solver
-            .solve_all(base_T_target)
-            .iter()
-            .map(|s| (distance(s, last_good), s.config))
-            .min_by(|a, b| a.0.total_cmp(&b.0))
-            .map(|(_, c)| c);
-        if let Some(other) = next {
+        if let Some(other) = nearest_config(self.solver, base_T_target, last_good) {
             if let Some(q) = self.solver.solve_near(base_T_target, last_good, other) {
                 self.config = other;
                 let (pe, oe) = residual(self.robot, &q, base_T_target);
@@ -267,15 +296,7 @@ impl Follower for ClosedBranch<'_> {
         // afterwards is the one the move ends in).
         let mut q1 = Joints::zeros(self.robot.dof());
         let sols = self.solver.solve(base_T_end);
-        let nearest = |a: &&AnalyticSolution, b: &&AnalyticSolution| {
-            distance(a, q0).total_cmp(&distance(b, q0))
-        };
-        let pick = sols
-            .iter()
-            .filter(|s| s.config == self.config)
-            .min_by(nearest)
-            .or_else(|| sols.iter().min_by(nearest));
-        match pick {
+        match move_end_pick(&sols, self.config, q0) {
             Some(sol) => {
                 self.config = sol.config;
                 let (pe, oe) = residual(self.robot, &sol.joints, base_T_end);

@@ -11,7 +11,9 @@
 //! continues there and the change is reported as a jump) from one that is not reachable at
 //! all (`unreachable`, and the walk continues from the last reached joints).
 //!
-//! - `walk`: the [`Walker`] loop over segments, joint moves, jump test, speeds, sinks.
+//! - `walk`: the [`Walker`] loop over segments, joint moves, speeds, sinks; `walk::lanes`
+//!   the configuration table's walks in lockstep ([`Walker::walk_lanes`]).
+//! - `jump`: the jump test and the second-order midpoint bound that settles most steps.
 //! - `follow`: how the arm is followed from sample to sample (closed-form branch or numerical
 //!   continuity), one [`follow::Follower`] per walker.
 //! - `start`: the joints at the first pose, for both solvers, and the [`margin`] score.
@@ -19,6 +21,7 @@
 
 mod clock;
 mod follow;
+mod jump;
 mod record;
 mod start;
 mod walk;
@@ -29,7 +32,7 @@ pub use start::{
     best_in_config, choose_start, limit_ratio, margin, pose_margin, StartChoice, StartMethod,
     StartSolver, WELL_CONDITIONED_MEASURE,
 };
-pub use walk::Walker;
+pub use walk::{LaneStop, StopKind, Walker};
 
 use crate::robot::{Joints, Robot};
 use crate::rotation;

@@ -62,7 +62,11 @@ pub struct SampleRecord {
     pub tcp_speed: f64,
     /// Tool angular speed since the previous sample (rad/s).
     pub tool_angular_speed: f64,
-    /// Singularity measure (see [`crate::robot::SingularityModel::measure`]).
+    /// Singularity measure (see [`crate::robot::SingularityModel::measure`]), exact wherever
+    /// it matters: below the warning threshold and at every new smallest value of the walk.
+    /// Elsewhere it may be a proven lower bound of the measure that is above both
+    /// ([`crate::robot::SingularityScreen`]), so a plot of it is exact where it is low and
+    /// never above the truth. 1 in the light walks of the configuration table.
     pub singularity: f64,
     /// Nearest singularity class, for arms where classes are defined.
     pub singularity_class: Option<SingularityClass>,

@@ -2,26 +2,21 @@
 //! [`Follower`], joint moves interpolated in joint space, the jump test, speeds and the
 //! hand-off to the sinks. Only the previous sample is kept; the loop allocates nothing.
 
+mod lanes;
+pub use lanes::{LaneStop, StopKind};
+
 use super::follow::{ClosedBranch, Follower, NumericContinuity, Solved};
+use super::jump::JumpTest;
 use super::{residual, Jump, Reach, SampleRecord, SampleSink, StartChoice, StartMethod};
 use super::{WalkTotals, RECOVER_EVERY};
 use crate::ik::analytic::{Config, OrthoParallel};
-use crate::ik::{IkOptions, NumericIk};
+use crate::ik::IkOptions;
 use crate::job::{Job, Motion};
 use crate::motion::SyncedMove;
 use crate::plan::{Plan, Segment};
-use crate::robot::{Jacobian, Joints, Robot, SingularityModel};
+use crate::robot::{Jacobian, Joints, Robot, SingularityModel, SingularityScreen};
 use crate::rotation;
 use nalgebra::{Isometry3, Vector3};
-
-/// Depth of the jump search: each level halves the Cartesian step. After 16 halvings the step
-/// is 1/65536 of a sample step; a continuous joint path shrinks with it, a jump does not.
-const JUMP_DEPTH: u32 = 16;
-
-/// A joint step that still holds more than this fraction of the original step after
-/// [`JUMP_DEPTH`] halvings did not shrink with the Cartesian step: a discontinuity. A
-/// continuous path keeps about 2⁻¹⁶ of it; any fraction far between the two works.
-const JUMP_KEEP_FRACTION: f64 = 0.25;
 
 /// Walks a plan and feeds the sinks.
 pub struct Walker<'a> {
@@ -30,8 +25,8 @@ pub struct Walker<'a> {
     plan: &'a Plan,
     model: SingularityModel,
     options: IkOptions,
-    /// Solves the Cartesian midpoints of the jump test (position limits not applied).
-    jump_ik: NumericIk<'a>,
+    /// The jump test between consecutive samples.
+    jump: JumpTest<'a>,
     /// How the arm is followed from sample to sample.
     follower: Box<dyn Follower + 'a>,
     /// Skip the per-sample singularity measure (feasibility walks need only reach, limits
@@ -54,7 +49,7 @@ impl<'a> Walker<'a> {
             plan,
             model: SingularityModel::new(robot),
             options,
-            jump_ik: NumericIk::unlimited(robot, options),
+            jump: JumpTest::new(robot, options),
             follower: Box::new(NumericContinuity::new(robot, options)),
             light: false,
             class_below: crate::robot::DEFAULT_SINGULARITY_THRESHOLD,
@@ -73,6 +68,10 @@ impl<'a> Walker<'a> {
     /// (the start's, see [`StartChoice::config`]).
     pub fn with_closed_form(mut self, solver: &'a OrthoParallel, config: Config) -> Self {
         self.follower = Box::new(ClosedBranch::new(self.robot, solver, config, self.options));
+        let p = solver.parameters();
+        self.jump = self
+            .jump
+            .with_unmeasured_residual(p.model_deviation_m, p.model_deviation_rad);
         self
     }
 
@@ -100,8 +99,9 @@ impl<'a> Walker<'a> {
             probe: (0.0, 0.0),
             work: WalkTotals::default(),
             prev_speed_valid: false,
+            screen: SingularityScreen::new(),
         };
-        self.follower.begin(start, self.light);
+        self.follower.begin(start);
         sink.begin(self.robot, self.plan.estimated_samples);
         // The first sample: waypoint 0.
         let first_target = self.plan.first_base();
@@ -120,6 +120,7 @@ impl<'a> Walker<'a> {
                 waypoint: Some(0),
                 motion: Motion::Linear,
                 target: first_target,
+                target_from_joints: false,
                 solved: Solved {
                     reach,
                     ..Solved::reached(q, pe, oe)
@@ -185,6 +186,7 @@ impl<'a> Walker<'a> {
                     waypoint: (i == steps).then_some(seg.index + 1),
                     motion: Motion::Linear,
                     target,
+                    target_from_joints: false,
                     solved,
                     dt: t_now - t_prev,
                     s: s0 + seg.length * u,
@@ -237,7 +239,7 @@ impl<'a> Walker<'a> {
     /// speed and lasts at least the segment's straight-line length at the TCP speed.
     fn joint_move_timing(&self, seg: &Segment, q0: &Joints, q1: &Joints) -> JointMoveTiming {
         let limits = &self.job.limits;
-        let mut steps = seg.steps.max(1);
+        let steps = self.joint_move_steps(seg, q0, q1);
         let n = self.robot.dof();
         let mut delta = Joints::zeros(n);
         let mut speed = Joints::zeros(n);
@@ -246,12 +248,6 @@ impl<'a> Walker<'a> {
             delta[i] = q1[i] - q0[i];
             speed[i] = j.velocity * limits.joint_speed_scale;
             accel[i] = j.acceleration_limit(limits.joint_acceleration_scale);
-            let step = if j.kind.is_prismatic() {
-                self.job.sampling.step
-            } else {
-                self.job.sampling.angle_step
-            };
-            steps = steps.max((delta[i].abs() / step).ceil() as usize);
         }
         let (fraction, min_duration) = match self.plan.joint_speed_fraction(seg.index + 1) {
             Some(f) => (f, 0.0),
@@ -259,6 +255,21 @@ impl<'a> Walker<'a> {
         };
         let synced = SyncedMove::new(&delta, &speed, &accel, fraction, min_duration);
         JointMoveTiming { steps, synced }
+    }
+
+    /// Samples of a joint move from `q0` to `q1`: the segment's own count, raised so that no
+    /// joint moves more than one angle step (or length step, prismatic) between samples.
+    fn joint_move_steps(&self, seg: &Segment, q0: &Joints, q1: &Joints) -> usize {
+        let mut steps = seg.steps.max(1);
+        for (i, j) in self.robot.joints().iter().enumerate() {
+            let step = if j.kind.is_prismatic() {
+                self.job.sampling.step
+            } else {
+                self.job.sampling.angle_step
+            };
+            steps = steps.max(((q1[i] - q0[i]).abs() / step).ceil() as usize);
+        }
+        steps
     }
 
     /// A joint move starting at path distance `s0`. It counts as its straight-line length,
@@ -286,6 +297,7 @@ impl<'a> Walker<'a> {
                     waypoint: Some(seg.index + 1),
                     motion: Motion::Joint,
                     target: seg.end,
+                    target_from_joints: false,
                     solved: end,
                     dt: seg.duration,
                     s: s0 + seg.length,
@@ -318,11 +330,10 @@ impl<'a> Walker<'a> {
                     segment: seg.index,
                     waypoint: last.then_some(seg.index + 1),
                     motion: Motion::Joint,
-                    target: if last {
-                        seg.end
-                    } else {
-                        self.robot.chain().fk(&q)
-                    },
+                    // Between the ends the target is where the joints put the TCP: the
+                    // emitter's forward kinematics.
+                    target: seg.end,
+                    target_from_joints: !last,
                     solved: Solved::reached(q, pe, oe),
                     dt,
                     s: s0 + seg.length * u,
@@ -341,17 +352,35 @@ impl<'a> Walker<'a> {
         let Solved {
             q,
             reach,
-            position_error,
-            orientation_error,
+            mut position_error,
+            mut orientation_error,
             config_change,
+            residual_pending,
             ..
         } = a.solved;
+        let mut target = a.target;
         let (singularity, singularity_class) = if self.light {
+            if a.target_from_joints {
+                target = self.robot.chain().fk(&q);
+            }
             (1.0, None)
         } else {
+            // One forward kinematics per sample: the Jacobian's, whose pose also gives the
+            // residual of an exact solution and the target of a joint move's inner sample.
             let mut jac = Jacobian::zeros();
-            self.robot.chain().fk_jacobian(&q, &mut jac);
-            let m = self.model.measure(&jac, n);
+            let base_T_tcp = self.robot.chain().fk_jacobian(&q, &mut jac);
+            if a.target_from_joints {
+                target = base_T_tcp;
+            }
+            if residual_pending {
+                position_error = (base_T_tcp.translation.vector - target.translation.vector).norm();
+                orientation_error = rotation::angle_between(&base_T_tcp.rotation, &target.rotation);
+            }
+            // Below the warning threshold or at a new smallest measure the value must be
+            // exact (a finding's worst value, the path's minimum); elsewhere a proven lower
+            // bound above both serves, and the plots show it.
+            let level = self.class_below.max(state.min_measure);
+            let m = state.screen.measure(&self.model, &jac, n, level).value;
             // The class is read where a finding or the path's minimum needs it: below the
             // warning threshold or at a new smallest measure.
             let class = if m < self.class_below || m < state.min_measure {
@@ -370,11 +399,14 @@ impl<'a> Walker<'a> {
         if let Some(prev) = &state.prev {
             if a.dt > 0.0 {
                 tool_angular_speed =
-                    rotation::angle_between(&prev.target.rotation, &a.target.rotation) / a.dt;
+                    rotation::angle_between(&prev.target.rotation, &target.rotation) / a.dt;
             }
             let both_reached = prev.reach == Reach::Reached && reach == Reach::Reached;
             if both_reached && a.check_jump {
-                jump = self.find_jump(prev, &a.target, &q, &mut state.work.ik_solves);
+                let residuals = (position_error, orientation_error);
+                jump = self
+                    .jump
+                    .find(prev, &target, &q, residuals, &mut state.work);
                 if let Some(change) = config_change {
                     // A change of configuration is a jump whatever the midpoint test says.
                     jump = Some(Jump {
@@ -408,7 +440,7 @@ impl<'a> Walker<'a> {
             s: state.s,
             t: state.t,
             dt: a.dt,
-            target: a.target,
+            target,
             reach,
             position_error,
             orientation_error,
@@ -431,68 +463,6 @@ impl<'a> Walker<'a> {
         }
         self.follower.settle(&state.last_good);
         state.prev = Some(rec);
-    }
-
-    /// Is the joint step from `prev` to (`target`, `q`) a discontinuity? Compare the pose
-    /// of the joint-space midpoint with the Cartesian midpoint; where they differ by more than
-    /// the IK tolerance, solve the Cartesian midpoint and recurse into the half with the larger
-    /// joint step. A step that keeps its size while the Cartesian step halves
-    /// [`JUMP_DEPTH`] times is a jump.
-    fn find_jump(
-        &self,
-        prev: &SampleRecord,
-        target: &Isometry3<f64>,
-        q: &Joints,
-        ik_solves: &mut usize,
-    ) -> Option<Jump> {
-        let opts = self.options;
-        let size = |a: &Joints, b: &Joints| {
-            a.iter()
-                .zip(b)
-                .fold(0.0f64, |m, (x, y)| m.max((x - y).abs()))
-        };
-        let original = size(&prev.joints, q);
-        if original == 0.0 {
-            return None;
-        }
-        let (mut qa, mut qb) = (prev.joints, *q);
-        let (mut pa, mut pb) = (prev.target, *target);
-        for _ in 0..JUMP_DEPTH {
-            let qm = qa.map(|k, v| 0.5 * (v + qb[k]));
-            let cart_mid = Isometry3::from_parts(
-                nalgebra::Translation3::from((pa.translation.vector + pb.translation.vector) * 0.5),
-                rotation::Geodesic::new(&pa.rotation, &pb.rotation).at(0.5),
-            );
-            let joint_mid = self.robot.chain().fk(&qm);
-            let dev_p = (joint_mid.translation.vector - cart_mid.translation.vector).norm();
-            let dev_r = rotation::angle_between(&joint_mid.rotation, &cart_mid.rotation);
-            if dev_p <= opts.position_tolerance && dev_r <= opts.orientation_tolerance {
-                return None;
-            }
-            let mut qs = Joints::zeros(qm.len());
-            let out = self.jump_ik.solve(&cart_mid, &qm, &mut qs);
-            *ik_solves += 1;
-            if !out.converged {
-                // The midpoint itself cannot be solved from here: the step crosses a
-                // singularity or a branch boundary.
-                break;
-            }
-            if size(&qa, &qs) >= size(&qs, &qb) {
-                qb = qs;
-                pb = cart_mid;
-            } else {
-                qa = qs;
-                pa = cart_mid;
-            }
-        }
-        if size(&qa, &qb) > JUMP_KEEP_FRACTION * original {
-            Some(Jump {
-                delta: q.map(|k, v| v - prev.joints[k]),
-                config_change: None,
-            })
-        } else {
-            None
-        }
     }
 }
 
@@ -551,6 +521,8 @@ struct State {
     work: WalkTotals,
     /// The previous sample's joint speeds are known (see [`acceleration_between`]).
     prev_speed_valid: bool,
+    /// The singularity measure's screen (its anchor is this walk's last exact sample).
+    screen: SingularityScreen,
 }
 
 impl State {
@@ -568,6 +540,9 @@ struct EmitArgs {
     waypoint: Option<usize>,
     motion: Motion,
     target: Isometry3<f64>,
+    /// The target is the pose of the joints (`target` is ignored): a joint move's inner
+    /// samples.
+    target_from_joints: bool,
     solved: Solved,
     dt: f64,
     /// Path distance of the sample (m).

@@ -86,6 +86,20 @@ pub fn units(text: &str) -> Result<UnitsFlag, FlagError> {
     Ok(u)
 }
 
+/// Most threads `--threads` accepts: far above any core count where splitting eight
+/// configuration walks could help, low enough to refuse a typo.
+pub const MAX_THREADS: usize = 256;
+
+/// `--threads N`: a whole number from 1 to [`MAX_THREADS`].
+pub fn threads(text: &str) -> Result<usize, FlagError> {
+    match text.trim().parse::<usize>() {
+        Ok(n) if (1..=MAX_THREADS).contains(&n) => Ok(n),
+        _ => Err(FlagError(format!(
+            "'{text}' is not a whole number from 1 to {MAX_THREADS}: give the threads to use"
+        ))),
+    }
+}
+
 /// `--singularity-threshold`: a number in (0, 1).
 pub fn singularity_threshold(text: &str) -> Result<f64, FlagError> {
     let t: f64 = text
@@ -188,6 +202,10 @@ pub struct SettingFlags {
     /// Refuse paths that would need more samples than N (default 100000000).
     #[arg(long, value_name = "N", allow_negative_numbers = true)]
     pub max_samples: Option<u64>,
+    /// Threads for the configuration table's walks (default: the available cores; the
+    /// result is the same with any number).
+    #[arg(long, value_name = "N", allow_negative_numbers = true, value_parser = threads)]
+    pub threads: Option<usize>,
 }
 
 impl SettingFlags {
@@ -225,6 +243,7 @@ impl SettingFlags {
             options.max_samples = n;
         }
         options.numeric_only = self.ik == IkMode::Numeric;
+        options.threads = self.threads.unwrap_or_else(rayon::current_num_threads);
         (overrides, options)
     }
 
@@ -280,6 +299,16 @@ mod tests {
             .unwrap_err()
             .0
             .contains("'inch' is not a unit"));
+    }
+
+    #[test]
+    fn threads_must_be_a_whole_number_from_one() {
+        // source: common practice (a thread count is a positive whole number)
+        assert_eq!(threads("2").unwrap(), 2);
+        assert_eq!(threads(&MAX_THREADS.to_string()).unwrap(), MAX_THREADS);
+        for bad in ["0", "-1", "1.5", "x", "", "257"] {
+            assert!(threads(bad).is_err(), "{bad}");
+        }
     }
 
     #[test]

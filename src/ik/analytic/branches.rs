@@ -29,6 +29,9 @@ pub(super) struct Raw {
     pub(super) theta: [f64; 6],
     pub(super) config: Config,
     pub(super) special: SpecialPose,
+    /// A free angle was taken from [`Free`] (wrist centre on axis 1, or axes 4 and 6
+    /// aligned): the solution depends on the reference, not on the pose alone.
+    pub(super) free: bool,
 }
 
 impl Raw {
@@ -36,7 +39,41 @@ impl Raw {
         theta: [0.0; 6],
         config: Config::ALL[0],
         special: SpecialPose::NONE,
+        free: false,
     };
+}
+
+/// A set of arm branches (shoulder front/back × elbow up/down) for the closed form to solve;
+/// each comes with both of its wrist solutions.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct ArmSet(u8);
+
+impl ArmSet {
+    /// All four arm branches: all eight configurations.
+    pub const ALL: ArmSet = ArmSet(0b1111);
+    /// No branch.
+    pub const EMPTY: ArmSet = ArmSet(0);
+
+    fn bit(shoulder: Shoulder, elbow: Elbow) -> u8 {
+        let s = u8::from(shoulder == Shoulder::Back);
+        let e = u8::from(elbow == Elbow::Down);
+        1 << (2 * s + e)
+    }
+
+    /// The set with `config`'s arm branch added.
+    pub fn with(self, config: Config) -> ArmSet {
+        ArmSet(self.0 | Self::bit(config.shoulder, config.elbow))
+    }
+
+    /// Does the set hold this branch?
+    pub fn has(self, shoulder: Shoulder, elbow: Elbow) -> bool {
+        self.0 & Self::bit(shoulder, elbow) != 0
+    }
+
+    /// Does the set hold a branch of this shoulder?
+    pub fn has_shoulder(self, shoulder: Shoulder) -> bool {
+        self.has(shoulder, Elbow::Up) || self.has(shoulder, Elbow::Down)
+    }
 }
 
 /// Canonical angles taken where they are free (see the module documentation): θ1 of the
@@ -83,14 +120,14 @@ impl OrthoParallel {
     /// Sines and cosines of θ1, θ2 and θ2 + θ3 are formed algebraically from the wrist centre
     /// (no trigonometric calls besides the atan2 that yields each output angle and one acos
     /// per shoulder branch): that is what keeps all eight solutions near a microsecond.
-    /// `only`: compute just that configuration's shoulder and elbow branch (both wrist
-    /// solutions of it come along; they cost nothing extra), as path following needs.
+    /// `arms`: compute just these shoulder and elbow branches (both wrist solutions of each
+    /// come along; they cost nothing extra), as path following needs.
     pub(super) fn raw(
         &self,
         base_T_tcp: &Isometry3<f64>,
         free: Free,
         out: &mut [Raw; 8],
-        only: Option<Config>,
+        arms: ArmSet,
     ) -> usize {
         let g = &self.model.geometry;
         let (t, q) = (&base_T_tcp.translation.vector, base_T_tcp.rotation.coords);
@@ -124,7 +161,7 @@ impl OrthoParallel {
         let (sin_psi, cos_psi) = (g.a2 / g.k, g.c3 / g.k);
         let mut n = 0;
         for shoulder in [Shoulder::Front, Shoulder::Back] {
-            if only.is_some_and(|c| c.shoulder != shoulder) {
+            if !arms.has_shoulder(shoulder) {
                 continue;
             }
             // x1: the wrist centre's coordinate along link 1's x (toward axis 2); its y is b.
@@ -166,7 +203,7 @@ impl OrthoParallel {
                 Shoulder::Back => [-1.0, 1.0],
             };
             for (sigma, elbow) in sigmas.into_iter().zip([Elbow::Up, Elbow::Down]) {
-                if only.is_some_and(|c| c.elbow != elbow) {
+                if !arms.has(shoulder, elbow) {
                     continue;
                 }
                 let sp = sigma * sin3;
@@ -199,7 +236,8 @@ impl OrthoParallel {
                 let (m02, m12, m22) = (dot(&k0, 2), dot(&k1, 2), dot(&k2, 2));
                 let h = (m02 * m02 + m12 * m12).sqrt();
                 let theta5 = h.atan2(m22);
-                let (theta4, s4, c4) = if h <= FREE_CHOICE {
+                let free_wrist = h <= FREE_CHOICE;
+                let (theta4, s4, c4) = if free_wrist {
                     let (s, c) = free.theta4.sin_cos();
                     (free.theta4, s, c)
                 } else {
@@ -218,11 +256,13 @@ impl OrthoParallel {
                     theta: [theta1, theta2, theta3, theta4, theta5, theta6],
                     config: Config::new(shoulder, elbow, Wrist::NoFlip),
                     special,
+                    free: free_shoulder || free_wrist,
                 };
                 out[n + 1] = Raw {
                     theta: [theta1, theta2, theta3, theta4 + PI, -theta5, theta6 + PI],
                     config: Config::new(shoulder, elbow, Wrist::Flip),
                     special,
+                    free: free_shoulder || free_wrist,
                 };
                 n += 2;
             }

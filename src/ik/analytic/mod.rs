@@ -56,6 +56,7 @@ pub use geometry::Parameters;
 pub use solutions::{AnalyticSolution, Solutions, SpecialPose, MAX_SOLUTIONS};
 
 use crate::robot::{Joints, Robot};
+pub use branches::ArmSet;
 use branches::{nearest_int, wrap, Free, Raw};
 use nalgebra::Isometry3;
 use std::f64::consts::{PI, TAU};
@@ -66,6 +67,13 @@ const MAX_WINDINGS: usize = 4;
 /// Joint values up to this far (rad) outside a limit count as inside, as in
 /// [`crate::robot::JointInfo::contains`]: it absorbs rounding at a limit reached exactly.
 const LIMIT_SLACK: f64 = 1e-12;
+
+/// Every closed-form branch of one pose, before windings ([`OrthoParallel::branches`]).
+#[derive(Debug, Clone, Copy)]
+pub struct Branches {
+    raw: [Raw; 8],
+    n: usize,
+}
 
 /// The closed-form solver for one arm of the family (with its tool).
 #[derive(Debug, Clone)]
@@ -192,7 +200,7 @@ impl OrthoParallel {
     /// reach ([`Solutions::raw_count`] = 0) or reachable only outside the limits.
     pub fn solve(&self, base_T_tcp: &Isometry3<f64>) -> Solutions {
         let mut raw = [Raw::EMPTY; 8];
-        let n = self.raw(base_T_tcp, self.default_free(), &mut raw, None);
+        let n = self.raw(base_T_tcp, self.default_free(), &mut raw, ArmSet::ALL);
         let mut out = Solutions::new();
         out.raw_count = n as u8;
         let mut ks = [[0i8; MAX_WINDINGS + 1]; 6];
@@ -240,7 +248,7 @@ impl OrthoParallel {
     /// the principal value; `within_limits` tells whether all six are in range.
     pub fn solve_all(&self, base_T_tcp: &Isometry3<f64>) -> Solutions {
         let mut raw = [Raw::EMPTY; 8];
-        let n = self.raw(base_T_tcp, self.default_free(), &mut raw, None);
+        let n = self.raw(base_T_tcp, self.default_free(), &mut raw, ArmSet::ALL);
         let mut out = Solutions::new();
         out.raw_count = n as u8;
         let mut ks = [0i8; MAX_WINDINGS + 1];
@@ -278,7 +286,7 @@ impl OrthoParallel {
         q_ref: &Joints,
         config: Config,
     ) -> Option<Joints> {
-        if q_ref.len() < 6 || q_ref[..6].iter().any(|v| !v.is_finite()) {
+        if !usable_reference(q_ref) {
             return None;
         }
         let t_ref = self.canonical(q_ref);
@@ -294,12 +302,48 @@ impl OrthoParallel {
             theta4: t_ref[3] - if config.wrist == Wrist::Flip { PI } else { 0.0 },
         };
         let mut raw = [Raw::EMPTY; 8];
-        let n = self.raw(base_T_tcp, free, &mut raw, Some(config));
+        let n = self.raw(base_T_tcp, free, &mut raw, ArmSet::EMPTY.with(config));
         let sol = raw[..n].iter().find(|s| s.config == config)?;
+        Some(self.windings_near(sol, q_ref))
+    }
+
+    /// `sol` with each joint on the winding nearest `q_ref`.
+    #[inline]
+    fn windings_near(&self, sol: &Raw, q_ref: &Joints) -> Joints {
         let base = self.principal(&sol.theta);
-        Some(six(|i| {
-            base[i] + TAU * nearest_int((q_ref[i] - base[i]) / TAU)
-        }))
+        six(|i| base[i] + TAU * nearest_int((q_ref[i] - base[i]) / TAU))
+    }
+
+    /// The branches `arms` of `base_T_tcp` solved once, for following several configurations
+    /// in lockstep along one path ([`Self::near_in`]); `arms` must hold the arm branch of
+    /// every configuration asked for there.
+    pub fn branches(&self, base_T_tcp: &Isometry3<f64>, arms: ArmSet) -> Branches {
+        let mut raw = [Raw::EMPTY; 8];
+        let n = self.raw(base_T_tcp, self.default_free(), &mut raw, arms);
+        Branches { raw, n }
+    }
+
+    /// What [`Self::solve_near`]`(base_T_tcp, q_ref, config)` returns, bit for bit, taken from
+    /// `branches` (of the same `base_T_tcp`): the branches do not depend on the reference
+    /// except where a free angle is taken from it (wrist centre on axis 1, axes 4 and 6
+    /// aligned), and there the configuration is solved again from `q_ref`.
+    pub fn near_in(
+        &self,
+        branches: &Branches,
+        base_T_tcp: &Isometry3<f64>,
+        q_ref: &Joints,
+        config: Config,
+    ) -> Option<Joints> {
+        if !usable_reference(q_ref) {
+            return None;
+        }
+        let sol = branches.raw[..branches.n]
+            .iter()
+            .find(|s| s.config == config)?;
+        if sol.free {
+            return self.solve_near(base_T_tcp, q_ref, config);
+        }
+        Some(self.windings_near(sol, q_ref))
     }
 
     /// The configuration of URDF joints `q` (at least six values), by the definitions in the
@@ -337,6 +381,53 @@ impl OrthoParallel {
 
 /// The six joints of a solution, from their values by index.
 #[inline]
+/// A reference for [`OrthoParallel::solve_near`]: at least six values, all finite.
+fn usable_reference(q_ref: &Joints) -> bool {
+    q_ref.len() >= 6 && q_ref[..6].iter().all(|v| v.is_finite())
+}
+
 fn six(f: impl FnMut(usize) -> f64) -> Joints {
     Joints::from(std::array::from_fn::<f64, 6, _>(f))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::rng::SplitMix64;
+
+    #[test]
+    fn near_in_shared_branches_is_solve_near_bit_for_bit() {
+        // Random poses of the demo arm (and exact wrist singularities, θ5 = 0, where θ4 comes
+        // from the reference), each configuration from a reference near the pose's joints:
+        // the lockstep answer from branches solved once, for all arms or just the one asked
+        // for, is the one-configuration solve. source: common practice (the one-configuration
+        // solve is the reference).
+        let dir = std::path::Path::new(env!("CARGO_MANIFEST_DIR"));
+        let robot = crate::robot::load_urdf(&dir.join("robots/arm6.urdf"), None).unwrap();
+        let solver = OrthoParallel::from_robot(&robot).unwrap();
+        let mut rng = SplitMix64::new(0x1a4e5);
+        let mut found = 0;
+        for k in 0..2000 {
+            let mut q = robot.random_config(&mut rng);
+            if k % 10 == 0 {
+                q[4] = 0.0;
+            }
+            let target = robot.chain().fk(&q);
+            let q_ref = q.map(|_, v| v + 0.01 * (2.0 * rng.next_f64() - 1.0));
+            let all = solver.branches(&target, ArmSet::ALL);
+            for config in Config::ALL {
+                let one = solver.branches(&target, ArmSet::EMPTY.with(config));
+                let expected = solver.solve_near(&target, &q_ref, config);
+                for b in [&all, &one] {
+                    let got = solver.near_in(b, &target, &q_ref, config);
+                    let bits = |v: Option<Joints>| {
+                        v.map(|j| j.iter().map(|x| x.to_bits()).collect::<Vec<_>>())
+                    };
+                    assert_eq!(bits(got), bits(expected), "pose {k} {config}");
+                }
+                found += usize::from(expected.is_some());
+            }
+        }
+        assert!(found > 4000, "only {found} solutions compared");
+    }
 }
