@@ -12,7 +12,8 @@
 //!   - {name: clamp, frame: work, mesh: {file: clamp.stl, scale: 1}, rpy: [0, 0, 90]}
 //! allowed_contacts:
 //!   - {between: [base_link, table], when: always}
-//!   - {between: [nozzle, rib], when: process}   # only on `process: true` segments
+//!   - {between: [nozzle, rib], when: process, depth: 3}   # only on `process: true`
+//!                                                         # segments, at most 3 deep
 //! never_meet:
 //!   - [link1, link6]
 //! ```
@@ -20,6 +21,10 @@
 //! Sizes and positions are in the file's length unit, angles in its angle unit; `xyz`/`rpy`
 //! (fixed-axis roll, pitch, yaw, as in URDF) place the body's centre in its frame. A mesh's
 //! vertices are taken in the file's length unit times `scale` (one number or three).
+//!
+//! A process contact may sink `depth` (file length unit, default
+//! [`DEFAULT_CONTACT_DEPTH_M`]) into the other body; deeper, it is a collision. An `always`
+//! pair is never measured, so it takes no depth.
 
 use super::shape::Primitive;
 use super::stl::read_stl;
@@ -55,6 +60,15 @@ const MAX_POSITION_M: f64 = 1000.0;
 
 /// Largest absolute angle (rad) accepted in `rpy`: a few turns; more is a mistake.
 const MAX_ANGLE_RAD: f64 = 8.0 * std::f64::consts::PI;
+
+/// How deep (m) a process contact may go when its entry gives no `depth`: 2 mm, the order
+/// of a contact tip's compliance or a nozzle pressed onto the part (common practice); deeper
+/// means the path runs into the part.
+pub const DEFAULT_CONTACT_DEPTH_M: f64 = 0.002;
+
+/// Largest `depth` (m) of a process contact: 100 mm is no contact but a crash, most likely a
+/// unit mistake.
+pub const MAX_CONTACT_DEPTH_M: f64 = 0.1;
 
 /// Where a cell body is placed.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -102,6 +116,9 @@ pub struct AllowedContact {
     pub b: String,
     /// Where on the path the contact is allowed.
     pub when: AllowWhen,
+    /// For a process contact, the deepest penetration allowed (m); deeper is a collision.
+    /// Unused for `Always` (such a pair is never measured).
+    pub depth: f64,
     /// Where the contact was given (`allowed_contacts[2]`), for messages.
     pub field: String,
 }
@@ -191,6 +208,7 @@ enum RawWhen {
 struct RawContact {
     between: [String; 2],
     when: RawWhen,
+    depth: Option<f64>,
 }
 
 #[derive(Debug, Clone, Deserialize)]
@@ -417,16 +435,8 @@ pub fn load_cell(path: &Path) -> Result<CellFile> {
         .allowed_contacts
         .iter()
         .enumerate()
-        .map(|(i, c)| AllowedContact {
-            a: c.between[0].clone(),
-            b: c.between[1].clone(),
-            when: match c.when {
-                RawWhen::Always => AllowWhen::Always,
-                RawWhen::Process => AllowWhen::Process,
-            },
-            field: format!("allowed_contacts[{i}]"),
-        })
-        .collect();
+        .map(|(i, c)| contact(c, i, scale, path))
+        .collect::<Result<_>>()?;
     let never_meet = raw
         .never_meet
         .iter()
@@ -438,6 +448,48 @@ pub fn load_cell(path: &Path) -> Result<CellFile> {
         bodies,
         allowed,
         never_meet,
+    })
+}
+
+/// Converts allowed contact `i`, checking its depth (see [`DEFAULT_CONTACT_DEPTH_M`]).
+fn contact(c: &RawContact, i: usize, scale: Scale, path: &Path) -> Result<AllowedContact> {
+    let field = format!("allowed_contacts[{i}]");
+    let when = match c.when {
+        RawWhen::Always => AllowWhen::Always,
+        RawWhen::Process => AllowWhen::Process,
+    };
+    let depth = match (when, c.depth) {
+        (AllowWhen::Process, None) => DEFAULT_CONTACT_DEPTH_M,
+        (AllowWhen::Process, Some(v)) => {
+            let m = v * scale.m_per_length;
+            if !(0.0..=MAX_CONTACT_DEPTH_M).contains(&m) {
+                return Err(Error::input(
+                    path,
+                    format!("{field}.depth"),
+                    format!(
+                        "is {m} m, outside 0 .. {MAX_CONTACT_DEPTH_M} m: give how deep the contact \
+                         may go in the file's length unit"
+                    ),
+                ));
+            }
+            m
+        }
+        (AllowWhen::Always, None) => f64::INFINITY,
+        (AllowWhen::Always, Some(_)) => {
+            return Err(Error::input(
+                path,
+                format!("{field}.depth"),
+                "applies to `when: process` only (an always-allowed pair is never measured): \
+                 remove depth or write when: process",
+            ))
+        }
+    };
+    Ok(AllowedContact {
+        a: c.between[0].clone(),
+        b: c.between[1].clone(),
+        when,
+        depth,
+        field,
     })
 }
 
@@ -596,7 +648,7 @@ mod tests {
         let p = write(
             dir.path(),
             "c.yaml",
-            "bodies:\n  - {name: table, frame: base, box: [1200, 800, 40], xyz: [900, 0, 210], rpy: [0, 0, 90]}\n  - {name: post, frame: work, cylinder: {radius: 15, length: 200}}\nallowed_contacts:\n  - {between: [base_link, table], when: always}\nnever_meet:\n  - [link1, link6]\n",
+            "bodies:\n  - {name: table, frame: base, box: [1200, 800, 40], xyz: [900, 0, 210], rpy: [0, 0, 90]}\n  - {name: post, frame: work, cylinder: {radius: 15, length: 200}}\nallowed_contacts:\n  - {between: [base_link, table], when: always}\n  - {between: [link6, post], when: process}\n  - {between: [link5, post], when: process, depth: 0.5}\nnever_meet:\n  - [link1, link6]\n",
         );
         let cell = load_cell(&p).unwrap();
         assert_eq!(cell.bodies.len(), 2);
@@ -609,6 +661,9 @@ mod tests {
         assert!((yaw - std::f64::consts::FRAC_PI_2).abs() < 1e-12);
         assert_eq!(cell.bodies[1].anchor, Some(Anchor::Work));
         assert_eq!(cell.allowed[0].when, AllowWhen::Always);
+        // A process contact without depth takes the default; 0.5 mm = 0.0005 m.
+        assert_eq!(cell.allowed[1].depth, DEFAULT_CONTACT_DEPTH_M);
+        assert!((cell.allowed[2].depth - 0.0005).abs() < 1e-15);
         assert_eq!(cell.never_meet[0].2, "never_meet[0]");
     }
 
@@ -627,6 +682,8 @@ mod tests {
             ("bodies:\n  - {name: a, frame: base, cone: 3}\n", "line 2", "unknown field"),
             ("bodies: [[[[[[[[[[[[[[[[[[[[]]]]]]]]]]]]]]]]]]]\n", "line 1", "nest"),
             ("# nothing\n", "file", "empty"),
+            ("bodies:\n  - {name: a, frame: base, box: [1, 1, 1]}\nallowed_contacts:\n  - {between: [a, link6], when: process, depth: -1}\n", "allowed_contacts[0].depth", "outside 0 .. 0.1 m"),
+            ("bodies:\n  - {name: a, frame: base, box: [1, 1, 1]}\nallowed_contacts:\n  - {between: [a, link6], when: always, depth: 1}\n", "allowed_contacts[0].depth", "when: process"),
         ];
         for (text, location, phrase) in cases {
             let p = write(dir.path(), "c.yaml", text);
