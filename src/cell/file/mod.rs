@@ -34,7 +34,11 @@ use nalgebra::{Isometry3, Translation3, Vector3};
 use serde::{Deserialize, Serialize};
 use std::path::{Path, PathBuf};
 
+mod contacts;
 mod write;
+
+use contacts::{contact, RawContact};
+pub use contacts::{AllowWhen, AllowedContact, DEFAULT_CONTACT_DEPTH_M, MAX_CONTACT_DEPTH_M};
 
 /// Largest cell file read (bytes): a cell of a few hundred bodies is a few tens of kB; the
 /// cap keeps a wrong file from being parsed.
@@ -60,15 +64,6 @@ const MAX_POSITION_M: f64 = 1000.0;
 
 /// Largest absolute angle (rad) accepted in `rpy`: a few turns; more is a mistake.
 const MAX_ANGLE_RAD: f64 = 8.0 * std::f64::consts::PI;
-
-/// How deep (m) a process contact may go when its entry gives no `depth`: 2 mm, the order
-/// of a contact tip's compliance or a nozzle pressed onto the part (common practice); deeper
-/// means the path runs into the part.
-pub const DEFAULT_CONTACT_DEPTH_M: f64 = 0.002;
-
-/// Largest `depth` (m) of a process contact: 100 mm is no contact but a crash, most likely a
-/// unit mistake.
-pub const MAX_CONTACT_DEPTH_M: f64 = 0.1;
 
 /// Where a cell body is placed.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -96,31 +91,6 @@ pub struct BodySpec {
     /// For a mesh: its file (as resolved) and the scale factors as written (STL unit to the
     /// file's length unit), so that the body can be written back.
     pub mesh: Option<(PathBuf, Vector3<f64>)>,
-}
-
-/// When an allowed contact applies.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
-pub enum AllowWhen {
-    /// Always: the two bodies may touch anywhere on the path.
-    Always,
-    /// Only at samples of `process: true` segments (a nozzle on the part while it works).
-    Process,
-}
-
-/// A pair of bodies that may touch.
-#[derive(Debug, Clone)]
-pub struct AllowedContact {
-    /// Name of the first body.
-    pub a: String,
-    /// Name of the second body.
-    pub b: String,
-    /// Where on the path the contact is allowed.
-    pub when: AllowWhen,
-    /// For a process contact, the deepest penetration allowed (m); deeper is a collision.
-    /// Unused for `Always` (such a pair is never measured).
-    pub depth: f64,
-    /// Where the contact was given (`allowed_contacts[2]`), for messages.
-    pub field: String,
 }
 
 /// A read cell file, in SI.
@@ -194,21 +164,6 @@ enum RawScale {
 struct RawUnits {
     length: Option<LengthUnit>,
     angle: Option<AngleUnit>,
-}
-
-#[derive(Debug, Clone, Copy, Deserialize)]
-#[serde(rename_all = "snake_case")]
-enum RawWhen {
-    Always,
-    Process,
-}
-
-#[derive(Debug, Clone, Deserialize)]
-#[serde(deny_unknown_fields)]
-struct RawContact {
-    between: [String; 2],
-    when: RawWhen,
-    depth: Option<f64>,
 }
 
 #[derive(Debug, Clone, Deserialize)]
@@ -448,48 +403,6 @@ pub fn load_cell(path: &Path) -> Result<CellFile> {
         bodies,
         allowed,
         never_meet,
-    })
-}
-
-/// Converts allowed contact `i`, checking its depth (see [`DEFAULT_CONTACT_DEPTH_M`]).
-fn contact(c: &RawContact, i: usize, scale: Scale, path: &Path) -> Result<AllowedContact> {
-    let field = format!("allowed_contacts[{i}]");
-    let when = match c.when {
-        RawWhen::Always => AllowWhen::Always,
-        RawWhen::Process => AllowWhen::Process,
-    };
-    let depth = match (when, c.depth) {
-        (AllowWhen::Process, None) => DEFAULT_CONTACT_DEPTH_M,
-        (AllowWhen::Process, Some(v)) => {
-            let m = v * scale.m_per_length;
-            if !(0.0..=MAX_CONTACT_DEPTH_M).contains(&m) {
-                return Err(Error::input(
-                    path,
-                    format!("{field}.depth"),
-                    format!(
-                        "is {m} m, outside 0 .. {MAX_CONTACT_DEPTH_M} m: give how deep the contact \
-                         may go in the file's length unit"
-                    ),
-                ));
-            }
-            m
-        }
-        (AllowWhen::Always, None) => f64::INFINITY,
-        (AllowWhen::Always, Some(_)) => {
-            return Err(Error::input(
-                path,
-                format!("{field}.depth"),
-                "applies to `when: process` only (an always-allowed pair is never measured): \
-                 remove depth or write when: process",
-            ))
-        }
-    };
-    Ok(AllowedContact {
-        a: c.between[0].clone(),
-        b: c.between[1].clone(),
-        when,
-        depth,
-        field,
     })
 }
 
