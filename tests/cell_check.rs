@@ -1,6 +1,7 @@
 //! The collision and clearance check through the binary: the demo rib weld and its colliding
-//! twin, a thin wall between two samples, a process contact's depth bound, the `--cell` flag, the cost-free check without a
-//! cell, and the amended file of `fix` carrying the cell. Answers derived beside each test.
+//! twin, a thin wall between two samples, a process contact's depth bound, the `--cell` flag,
+//! the cost-free check without a cell, and the amended file of `fix` carrying the cell.
+//! Answers derived beside each test.
 #![allow(non_snake_case)]
 
 mod common;
