@@ -90,7 +90,7 @@ const LIMIT: &str =
     "<axis xyz=\"0 0 1\"/><limit lower=\"-1\" upper=\"1\" effort=\"1\" velocity=\"1\"/>";
 
 /// Size of the catalogue when its last case was added; it may only grow.
-const FLOOR: usize = 155;
+const FLOOR: usize = 157;
 
 /// A valid path file head: robot and speed (2 lines), then whatever follows.
 const HEAD: &str = "robot: arm6.urdf\nspeed: 20\n";
@@ -465,6 +465,8 @@ fn cases() -> Vec<Case> {
         case("cell: mesh encloses no volume", vec![cell_path(), text("c.yaml", "bodies:\n  - {name: m, frame: work, mesh: {file: m.stl}}\n"), text("m.stl", "solid t\nfacet normal 0 0 1\nouter loop\nvertex 0 0 0\nvertex 1 0 0\nvertex 0 1 0\nendloop\nendfacet\nendsolid t\n")], &["check", "path.yaml"], &["c.yaml: bodies[0].mesh.file:", "encloses no volume"]),
         case("cell: flat mesh of four triangles", vec![cell_path(), text("c.yaml", "bodies:\n  - {name: sheet, frame: work, mesh: {file: m.stl}}\n"), text("m.stl", "solid t\nfacet normal 0 0 1\nouter loop\nvertex 0 0 0\nvertex 10 0 0\nvertex 0 10 0\nendloop\nendfacet\nfacet normal 0 0 1\nouter loop\nvertex 10 0 0\nvertex 10 10 0\nvertex 0 10 0\nendloop\nendfacet\nfacet normal 0 0 1\nouter loop\nvertex 0 0 0\nvertex 10 0 0\nvertex 0 10 0\nendloop\nendfacet\nfacet normal 0 0 1\nouter loop\nvertex 10 0 0\nvertex 10 10 0\nvertex 0 10 0\nendloop\nendfacet\nendsolid t\n")], &["check", "path.yaml"], &["c.yaml: bodies[0].mesh:", "'sheet' encloses no volume", "closed mesh"]),
         case("cell: allowed contact with an unknown `when`", vec![cell_path(), text("c.yaml", "bodies:\n  - {name: b, frame: base, sphere: {radius: 5}, xyz: [2000, 0, 0]}\nallowed_contacts:\n  - {between: [link6, b], when: sometimes}\n")], &["check", "path.yaml"], &["c.yaml: line 4 column", "unknown variant `sometimes`", "use one of the listed values"]),
+        case("cell: allowed contact depth on an always pair", vec![cell_path(), text("c.yaml", "bodies:\n  - {name: b, frame: base, sphere: {radius: 5}, xyz: [2000, 0, 0]}\nallowed_contacts:\n  - {between: [link6, b], when: always, depth: 2}\n")], &["check", "path.yaml"], &["c.yaml: allowed_contacts[0].depth:", "when: process"]),
+        case("cell: allowed contact depth of a metre", vec![cell_path(), text("c.yaml", "bodies:\n  - {name: b, frame: base, sphere: {radius: 5}, xyz: [2000, 0, 0]}\nallowed_contacts:\n  - {between: [link6, b], when: process, depth: 1000}\n")], &["check", "path.yaml"], &["c.yaml: allowed_contacts[0].depth:", "is 1 m, outside 0 .. 0.1 m"]),
         case("cell: brackets nested too deep", vec![cell_path(), text("c.yaml", format!("bodies: {}{}\n", "[".repeat(40), "]".repeat(40)))], &["check", "path.yaml"], &["c.yaml: line 1:", "nest more than"]),
         case("tool: geometry with a frame", vec![yaml(&format!("{HEAD}tool: {{xyz: [0, 0, 100], geometry: [{{frame: work, sphere: {{radius: 5}}}}]}}\n{TWO}"))], &["check", "path.yaml"], &["path.yaml: tool.geometry[0].frame:", "rides on the tip link"]),
         case("tool: geometry with a zero length", vec![yaml(&format!("{HEAD}tool: {{xyz: [0, 0, 100], geometry: [{{name: neck, cylinder: {{radius: 10, length: 0}}}}]}}\n{TWO}"))], &["check", "path.yaml"], &["path.yaml: tool.geometry[0]:", "length is 0 m"]),

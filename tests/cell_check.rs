@@ -1,6 +1,7 @@
 //! The collision and clearance check through the binary: the demo rib weld and its colliding
-//! twin, a thin wall between two samples, the `--cell` flag, the cost-free check without a
-//! cell, and the amended file of `fix` carrying the cell. Answers derived beside each test.
+//! twin, a thin wall between two samples, a process contact's depth bound, the `--cell` flag,
+//! the cost-free check without a cell, and the amended file of `fix` carrying the cell.
+//! Answers derived beside each test.
 #![allow(non_snake_case)]
 
 mod common;
@@ -76,6 +77,48 @@ fn a_thin_wall_between_two_samples_5_mm_apart_is_found() {
         .contains("found between two samples"));
     // No clearance warning: at every sample the ball is at least 0.5 mm from the wall.
     assert!(findings(&report, "clearance").is_empty(), "{report:#}");
+}
+
+#[test]
+fn a_process_contact_deeper_than_its_depth_is_a_collision() {
+    // A 1 mm ball on the TCP runs along x at z = 500 mm on a process segment over a plate
+    // whose top face is at z = 500.5 mm: its centre is 0.5 mm under the face, so it sinks
+    // 1 + 0.5 = 1.5 mm. Allowed 2 mm deep it passes; allowed 1 mm deep it is a collision of
+    // 1.5 mm.
+    // source: common practice (ball–slab overlap along the slab normal)
+    let dir = tempfile::tempdir().unwrap();
+    let run = |depth: f64| {
+        std::fs::write(
+            dir.path().join("plate.yaml"),
+            format!(
+                "bodies:\n  - {{name: plate, frame: base, box: [400, 200, 20], xyz: [950, 0, 490.5]}}\n\
+                 allowed_contacts:\n  - {{between: [ball, plate], when: process, depth: {depth}}}\n"
+            ),
+        )
+        .unwrap();
+        let yaml = format!(
+            "robot: {}\ncell: plate.yaml\ntool: {{xyz: [0, 0, 180], geometry: [{{name: ball, sphere: {{radius: 1}}, xyz: [0, 0, 180]}}]}}\n\
+             speed: 50\nsampling: {{step: 5}}\nlimits: {{clearance: 0.1}}\n\
+             waypoints:\n  - {{name: a, xyz: [900, 0, 500], rpy: [180, 0, 0]}}\n  - {{name: b, xyz: [1000, 0, 500], rpy: [180, 0, 0], process: true}}\n",
+            arm6()
+        );
+        let file = dir.path().join("path.yaml");
+        std::fs::write(&file, yaml).unwrap();
+        check_json(&file, &[])
+    };
+    let (code, report) = run(2.0);
+    assert_eq!(code, 0, "{report:#}");
+    assert!(findings(&report, "collision").is_empty(), "{report:#}");
+    let (code, report) = run(1.0);
+    assert_eq!(code, 1, "{report:#}");
+    let hits = findings(&report, "collision");
+    assert_eq!(hits.len(), 1, "{report:#}");
+    assert_eq!(hits[0]["bodies"], serde_json::json!(["ball", "plate"]));
+    assert!(
+        (f64_of(&hits[0]["value"]) + 1.5).abs() < 0.01,
+        "{:#}",
+        hits[0]
+    );
 }
 
 #[test]

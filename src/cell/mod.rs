@@ -8,11 +8,15 @@
 //! between-samples rule).
 //!
 //! Boxes, cylinders, spheres and capsules are convex: distances come from GJK, penetration
-//! depths from EPA (parry3d-f64). An STL mesh is its triangle surface (parry's `TriMesh` and
-//! its bounding-volume tree), so concave parts are followed as they are; a closed mesh has an
-//! inside (a body wholly in it is in contact), an open one is a thin sheet.
+//! depths from EPA (parry3d-f64). An STL mesh is its triangle surface, queried through
+//! armpath's own bounding-box tree (`mesh_tree`: branch and bound, no allocation, within
+//! [`MESH_TOLERANCE_M`] of parry's mesh distance where it matters), so concave parts are
+//! followed as they are; a closed mesh has an inside (a body wholly in it is in contact), an
+//! open one is a thin sheet. A process contact may go [`DEFAULT_CONTACT_DEPTH_M`] deep unless
+//! its entry gives another `depth`.
 
 pub mod file;
+mod mesh_tree;
 mod model;
 mod never_meet;
 mod probe;
@@ -22,7 +26,9 @@ mod surface;
 
 pub use file::{
     load_cell, tool_bodies, AllowWhen, AllowedContact, Anchor, BodySpec, CellFile, RawBody, Scale,
+    DEFAULT_CONTACT_DEPTH_M, MAX_CONTACT_DEPTH_M,
 };
+pub use mesh_tree::MESH_TOLERANCE_M;
 pub use model::{
     Body, BodyRole, CellInputs, CellModel, Pair, NEVER_MEET_MARGIN_M, NEVER_MEET_SAMPLES,
 };
@@ -64,3 +70,5 @@ pub(crate) fn read_capped(path: &std::path::Path, cap: u64) -> Result<Vec<u8>, R
 mod tests;
 #[cfg(test)]
 mod tests_mesh;
+#[cfg(test)]
+mod tests_mesh_tree;

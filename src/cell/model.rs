@@ -73,6 +73,19 @@ pub struct Pair {
     pub b: usize,
     /// True when the pair may touch on `process: true` segments (an allowed contact).
     pub allowed_in_process: bool,
+    /// How deep (m) that allowed contact may go; deeper is a collision (see
+    /// [`crate::cell::file::DEFAULT_CONTACT_DEPTH_M`]).
+    pub allowed_depth: f64,
+}
+
+impl Pair {
+    /// True when a distance `d` (m; negative: penetration depth) of this pair raises no
+    /// finding at a sample that is (`process`) or is not on a process segment: the pair is
+    /// an allowed process contact and `d` is no deeper than its bound.
+    #[inline]
+    pub fn allowed_at(&self, process: bool, d: f64) -> bool {
+        process && self.allowed_in_process && d >= -self.allowed_depth
+    }
 }
 
 /// Everything that can collide, and which pairs are tested. See the module doc.
@@ -260,7 +273,7 @@ impl CellModel {
                 let b = find(&c.b, &c.field, &cell.path)?;
                 match c.when {
                     AllowWhen::Always => always.push((a.min(b), a.max(b))),
-                    AllowWhen::Process => in_process.push((a.min(b), a.max(b))),
+                    AllowWhen::Process => in_process.push(((a.min(b), a.max(b)), c.depth)),
                 }
             }
             for (a, b, field) in &cell.never_meet {
@@ -296,10 +309,17 @@ impl CellModel {
                 if robot_pair {
                     self_pairs.push(self.pairs.len());
                 }
+                // A pair listed twice keeps its shallowest bound.
+                let depth = in_process
+                    .iter()
+                    .filter(|(k, _)| *k == (a, b))
+                    .map(|&(_, d)| d)
+                    .reduce(f64::min);
                 self.pairs.push(Pair {
                     a,
                     b,
-                    allowed_in_process: in_process.contains(&(a, b)),
+                    allowed_in_process: depth.is_some(),
+                    allowed_depth: depth.unwrap_or(0.0),
                 });
             }
         }

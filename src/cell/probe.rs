@@ -26,9 +26,25 @@
 //! the bound itself serves the between-samples rule, so the pair is measured again only when
 //! its bound falls below that. Each step costs one product per moving body and one addition
 //! per pair.
+//!
+//! # Meshes
+//!
+//! A convex solid against a mesh is measured on the mesh's own tree (see `mesh_tree`) with a
+//! need of the clearance limit plus twice [`EXACT_MARGIN_M`]: below it the distance is exact
+//! within [`MESH_TOLERANCE_M`] (never above the true distance), beyond it only a lower bound
+//! of at least the need is kept, which serves both the findings and the between-samples rule.
+//! Each (solid, mesh) pair remembers its nearest triangle, the first candidate next time.
+//!
+//! # Allowed process contacts
+//!
+//! On process samples a pair allowed there raises nothing down to its depth bound; the
+//! between-samples rule tests it against that bound instead of 0 (distances shifted by it).
 
+use super::mesh_tree::{Hint, Placed, NO_HINT};
 use super::model::CellModel;
 use super::shape::Solid;
+#[cfg(doc)]
+use super::MESH_TOLERANCE_M;
 use crate::robot::MAX_DOF;
 use nalgebra::{Isometry3, Point3, Unit, Vector3};
 use parry3d_f64::query::gjk::{self, CSOPoint, GJKResult, VoronoiSimplex};
@@ -86,6 +102,10 @@ pub struct CellProbe {
     motion: Vec<f64>,
     /// The last configuration measured, if any.
     last_q: Option<[f64; MAX_DOF]>,
+    /// Per (convex solid, mesh solid) index pair `o * nplaced + m`: the mesh's triangle
+    /// nearest at that pair's last query, the first candidate of the next one.
+    nearest_slot: Vec<Hint>,
+    nplaced: usize,
     /// False where only the sign of an overlap matters (the never-meet filter): overlapping
     /// pairs then give 0 without a penetration depth.
     pub(crate) depth_wanted: bool,
@@ -121,6 +141,8 @@ impl CellProbe {
             step: vec![0.0; model.bodies.len()],
             motion: vec![0.0; model.bodies.len()],
             last_q: None,
+            nearest_slot: vec![NO_HINT; n * n],
+            nplaced: n,
             depth_wanted: true,
             exact_within: model.clearance + EXACT_MARGIN_M,
             evaluations: 0,
@@ -184,7 +206,7 @@ impl CellProbe {
         let d = &self.rows[row * self.npairs..(row + 1) * self.npairs];
         let mut worst: Option<Proximity> = None;
         for (p, (&dist, pair)) in d.iter().zip(&model.pairs).enumerate() {
-            if dist >= model.clearance || (process && pair.allowed_in_process) {
+            if dist >= model.clearance || pair.allowed_at(process, dist) {
                 continue;
             }
             if worst.is_none_or(|w| dist < w.distance) {
@@ -222,8 +244,17 @@ impl CellProbe {
         }
         let n = self.npairs;
         let open = model.pairs.iter().enumerate().any(|(p, pair)| {
-            let (da, db) = (self.rows[ra * n + p], self.rows[rb * n + p]);
-            if da <= 0.0 || db <= 0.0 || (process && pair.allowed_in_process) {
+            // An allowed process contact is refined against its depth bound instead of 0.
+            let allowance = if process && pair.allowed_in_process {
+                pair.allowed_depth
+            } else {
+                0.0
+            };
+            let (da, db) = (
+                self.rows[ra * n + p] + allowance,
+                self.rows[rb * n + p] + allowance,
+            );
+            if da <= 0.0 || db <= 0.0 {
                 return false;
             }
             let bound = self.motion[pair.a] + self.motion[pair.b];
@@ -355,20 +386,45 @@ impl CellProbe {
         }
     }
 
-    /// Distance between two placed solids of which at least one is a mesh surface: parry's
-    /// distance through the mesh's bounding-volume tree, exact to the surface. Crossing
+    /// Distance between two placed solids of which at least one is a mesh surface. Crossing
     /// surfaces read 0 (contact; its depth is not measured on a mesh). A body lying wholly
     /// inside a closed mesh reads minus its distance to the surface: contact, with a depth
     /// that is at least that. Every result is a lower bound on the distance, as the
-    /// between-samples rule needs. Parry's tree traversal allocates its queue on each call:
-    /// the one allocation of the per-sample loop, made only for pairs with a mesh that are
-    /// close enough to be measured.
-    fn mesh_distance(&self, model: &CellModel, i: usize, j: usize) -> f64 {
+    /// between-samples rule needs.
+    ///
+    /// A convex solid against a mesh runs on armpath's own tree (see `mesh_tree`): exact
+    /// within [`MESH_TOLERANCE_M`] below a need of `exact_within` plus [`EXACT_MARGIN_M`]
+    /// and a lower bound of at least that beyond it (such a pair raises no finding, and its
+    /// bound lasts [`EXACT_MARGIN_M`] of motion before it is measured again), starting from the triangle nearest at this pair's previous
+    /// query; it allocates nothing. Two meshes go through parry's distance, whose tree
+    /// traversal allocates its queue on each call: the one allocation left in the
+    /// per-sample loop, made only for mesh–mesh pairs close enough to be measured.
+    fn mesh_distance(&mut self, model: &CellModel, i: usize, j: usize) -> f64 {
         let (si, sj) = (&model.placed[i].solid, &model.placed[j].solid);
-        let (wi, wj) = (&self.world[i], &self.world[j]);
-        // Every pairing of a mesh with a primitive or a mesh is supported; an unsupported one
-        // would be a parry change, and contact is the safe reading.
-        let d = query::distance(wi, si.shape(), wj, sj.shape()).unwrap_or(0.0);
+        let (wi, wj) = (self.world[i], self.world[j]);
+        let convex = match (si.surface(), sj.surface(), si.support(), sj.support()) {
+            (Some(mesh), None, None, Some(support)) => Some((mesh, support, i, j)),
+            (None, Some(mesh), Some(support), None) => Some((mesh, support, j, i)),
+            _ => None,
+        };
+        let mut tree_distance = |need: f64| {
+            let (mesh, support, m, o) = convex?;
+            let solid = Placed {
+                support,
+                ball: model.placed[o].solid.ball_radius(),
+                rounded: model.placed[o].solid.rounded(),
+                mesh_T_shape: self.world[m].inv_mul(&self.world[o]),
+                centre: self.world[m].inverse_transform_point(&self.centres[o]),
+                radius: model.placed[o].solid.radius,
+            };
+            let hint = &mut self.nearest_slot[o * self.nplaced + m];
+            Some(mesh.tree().distance(&solid, need, hint, &mut self.simplex))
+        };
+        let need = self.exact_within + EXACT_MARGIN_M;
+        // Every pairing of two meshes is supported by parry; an unsupported one would be a
+        // parry change, and contact is the safe reading.
+        let d = tree_distance(need)
+            .unwrap_or_else(|| query::distance(&wi, si.shape(), &wj, sj.shape()).unwrap_or(0.0));
         if d <= 0.0 {
             return 0.0;
         }
@@ -379,8 +435,13 @@ impl CellProbe {
                     s.contains(&at.inverse_transform_point(&(other_at * other.inner_point())))
                 })
             };
-        if inside(si, wi, sj, wj) || inside(sj, wj, si, wi) {
-            -d
+        if inside(si, &wi, sj, &wj) || inside(sj, &wj, si, &wi) {
+            // Inside, the depth is reported: a bound beyond the need is made exact.
+            -if d >= need {
+                tree_distance(f64::INFINITY).unwrap_or(d)
+            } else {
+                d
+            }
         } else {
             d
         }

@@ -233,6 +233,26 @@ impl Solid {
         }
     }
 
+    /// The radius (m) of a ball solid (centred on its shape frame's origin); `None` for any
+    /// other solid.
+    #[inline]
+    pub(crate) fn ball_radius(&self) -> Option<f64> {
+        match &self.kind {
+            SolidKind::Ball(b) => Some(b.radius),
+            _ => None,
+        }
+    }
+
+    /// A rounded solid as its core and the radius (m) around it: a capsule's segment;
+    /// `None` for any other solid.
+    #[inline]
+    pub(crate) fn rounded(&self) -> Option<(&dyn SupportMap, f64)> {
+        match &self.kind {
+            SolidKind::Capsule(c) => Some((&c.segment, c.radius)),
+            _ => None,
+        }
+    }
+
     /// The triangle surface of a mesh solid; `None` for a convex primitive.
     #[inline]
     pub(crate) fn surface(&self) -> Option<&Surface> {

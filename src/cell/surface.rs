@@ -7,11 +7,17 @@
 //! angle-weighted pseudo-normals that make point containment exact. Any other mesh (an open
 //! sheet, a T-junction, a non-manifold edge) is a thin surface with no inside: a body passing
 //! through it touches it, a body lying wholly behind it does not.
+//!
+//! The probe's queries run on armpath's own tree over the triangles (`mesh_tree`), which
+//! allocates nothing per query; the containment test there uses the same pseudo-normals as
+//! parry's (the angle-weighted sum of the faces' normals at a corner, the sum of the two
+//! faces' normals on an edge, the face's own normal inside it). Parry's mesh is kept as the
+//! reference of the tests and for the distance between two meshes.
 
+use super::mesh_tree::TriTree;
 use super::stl::MeshPoints;
-use nalgebra::Point3;
-use parry3d_f64::query::PointQuery;
-use parry3d_f64::shape::TriMesh;
+use nalgebra::{Point3, Vector3};
+use parry3d_f64::shape::{TriMesh, Triangle, TrianglePointLocation};
 use std::collections::HashMap;
 
 /// A triangle surface ready for distance and containment queries, in the mesh's own frame.
@@ -19,6 +25,11 @@ use std::collections::HashMap;
 pub struct Surface {
     mesh: TriMesh,
     closed: bool,
+    tree: TriTree,
+    /// Pseudo-normals of a closed surface (empty for an open one): per corner, and per
+    /// triangle for its edges `k → k + 1`.
+    corner_normals: Vec<Vector3<f64>>,
+    edge_normals: Vec<[Vector3<f64>; 3]>,
 }
 
 impl std::fmt::Debug for Surface {
@@ -44,11 +55,28 @@ impl Surface {
                 t.swap(1, 2);
             }
         }
+        let (corner_normals, edge_normals) = if closed {
+            pseudo_normals(&vertices, &indices)
+        } else {
+            (Vec::new(), Vec::new())
+        };
         let mut mesh = TriMesh::new(vertices, indices);
         if closed {
             mesh.compute_pseudo_normals();
         }
-        Some(Surface { mesh, closed })
+        let tree = TriTree::new(mesh.triangles().collect());
+        Some(Surface {
+            mesh,
+            closed,
+            tree,
+            corner_normals,
+            edge_normals,
+        })
+    }
+
+    /// The bounding-box tree the probe's queries run on.
+    pub(crate) fn tree(&self) -> &TriTree {
+        &self.tree
     }
 
     /// The parry mesh (its own frame is the mesh's frame).
@@ -62,10 +90,78 @@ impl Surface {
     }
 
     /// True when `point` (in the mesh's frame) lies inside the closed surface; always false
-    /// for an open one.
+    /// for an open one. The point's projection on the nearest triangle is inside when the
+    /// pseudo-normal of the feature it lands on (corner, edge or face) points away from the
+    /// point; a point on the surface counts as inside. Allocates nothing.
     pub fn contains(&self, point: &Point3<f64>) -> bool {
-        self.closed && self.mesh.contains_local_point(point)
+        if !self.closed {
+            return false;
+        }
+        let (lo, hi) = self.tree.bounds();
+        if (0..3).any(|k| point[k] < lo[k] || point[k] > hi[k]) {
+            return false;
+        }
+        let (t, proj, at) = self.tree.nearest(point);
+        let idx = self.mesh.indices()[t as usize];
+        let normal = match at {
+            TrianglePointLocation::OnVertex(k) => self.corner_normals[idx[k as usize] as usize],
+            TrianglePointLocation::OnEdge(k, _) => self.edge_normals[t as usize][k as usize],
+            TrianglePointLocation::OnFace(..) | TrianglePointLocation::OnSolid => {
+                self.mesh.triangle(t).scaled_normal()
+            }
+        };
+        (point - proj).dot(&normal) <= 0.0
     }
+}
+
+/// Largest corner angle (rad) of a triangle whose normal enters the pseudo-normals: a
+/// sliver with a corner near π has a normal ruined by rounding yet a large angle weight, so
+/// it is left out (0.9 π, as parry's own pseudo-normals do).
+const SLIVER_ANGLE: f64 = 0.9 * std::f64::consts::PI;
+
+/// The pseudo-normals of a closed surface: per corner the angle-weighted sum of its faces'
+/// unit normals, per triangle edge the sum of the unit normals of the faces sharing it.
+/// An edge with no usable face falls back to the triangle's own normal.
+fn pseudo_normals(
+    vertices: &[Point3<f64>],
+    indices: &[[u32; 3]],
+) -> (Vec<Vector3<f64>>, Vec<[Vector3<f64>; 3]>) {
+    let mut corners = vec![Vector3::zeros(); vertices.len()];
+    let mut edges: HashMap<(u32, u32), Vector3<f64>> = HashMap::with_capacity(3 * indices.len());
+    let key = |a: u32, b: u32| (a.min(b), a.max(b));
+    let tri = |t: &[u32; 3]| {
+        let [a, b, c] = t.map(|i| vertices[i as usize]);
+        Triangle::new(a, b, c)
+    };
+    for t in indices {
+        let tr = tri(t);
+        let Some(n) = tr.normal() else { continue };
+        let angles = [
+            (tr.b - tr.a).angle(&(tr.c - tr.a)),
+            (tr.a - tr.b).angle(&(tr.c - tr.b)),
+            (tr.b - tr.c).angle(&(tr.a - tr.c)),
+        ];
+        if angles.iter().any(|&a| a > SLIVER_ANGLE) {
+            continue;
+        }
+        for k in 0..3 {
+            corners[t[k] as usize] += *n * angles[k];
+            *edges.entry(key(t[k], t[(k + 1) % 3])).or_default() += *n;
+        }
+    }
+    let per_tri = indices
+        .iter()
+        .map(|t| {
+            let own = tri(t).scaled_normal();
+            [0, 1, 2].map(|k| {
+                edges
+                    .get(&key(t[k], t[(k + 1) % 3]))
+                    .copied()
+                    .unwrap_or(own)
+            })
+        })
+        .collect();
+    (corners, per_tri)
 }
 
 /// Merges corners with equal coordinates (STL repeats every shared corner) and drops

@@ -319,6 +319,7 @@ fn process_contact_allowed_only_on_process_samples() {
         a: "tip".into(),
         b: "part".into(),
         when: AllowWhen::Process,
+        depth: DEFAULT_CONTACT_DEPTH_M,
         field: "allowed_contacts[0]".into(),
     });
     let model = build(&robot, &tool, Some(&c));
@@ -330,6 +331,12 @@ fn process_contact_allowed_only_on_process_samples() {
     assert!((off.distance + 0.001).abs() < 1e-6, "{off:?}");
     probe.restart();
     assert_eq!(probe.sample(&model, &q, true), None);
+    // Allowed only 0.5 mm deep, the same 1 mm contact is a collision on process samples too.
+    c.allowed[0].depth = 0.0005;
+    let model = build(&robot, &tool, Some(&c));
+    let mut probe = CellProbe::new(&model);
+    let on = probe.sample(&model, &q, true).expect("deeper than allowed");
+    assert!((on.distance + 0.001).abs() < 1e-6, "{on:?}");
 }
 
 #[test]

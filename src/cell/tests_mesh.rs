@@ -195,3 +195,62 @@ fn a_ball_passing_through_a_thin_mesh_wall_between_samples_is_caught() {
     assert!(probe.distance(0) > 0.0, "clear at the second sample itself");
     assert!(second.between && second.distance <= 0.0, "{second:?}");
 }
+
+#[test]
+fn an_allowed_contact_deeper_than_its_bound_between_samples_is_a_collision() {
+    // The slide's 10 mm ball passes over a ridge: a 100 mm cube turned 45° about y, its top
+    // edge along y at z = −7.5 mm. Within the edge's wedge the ball's centre (q, 0, 0) is
+    // sqrt(q² + 0.0075²) from the edge: at q = ±a with a² = 0.009² − 0.0075² it is 9 mm (1 mm
+    // deep, within the default 2 mm allowance); at q = 0 it is 7.5 mm, 2.5 mm deep. Only the
+    // between-samples rule, refined against the allowance, sees the middle.
+    // source: common practice (point–line distance; conservative advancement)
+    let robot = slide(0.01);
+    let bump = BodySpec {
+        name: "bump".into(),
+        anchor: Some(Anchor::Base),
+        primitive: Primitive::Box {
+            size: Vector3::repeat(0.1),
+        },
+        anchor_T_body: Isometry3::from_parts(
+            Translation3::new(0.0, 0.0, -0.0075 - 0.05 * std::f64::consts::SQRT_2),
+            UnitQuaternion::from_axis_angle(&Vector3::y_axis(), std::f64::consts::FRAC_PI_4),
+        ),
+        field: "test bump".into(),
+        mesh: None,
+    };
+    let cell = CellFile {
+        path: PathBuf::from("cell.yaml"),
+        bodies: vec![bump],
+        allowed: vec![AllowedContact {
+            a: "carriage".into(),
+            b: "bump".into(),
+            when: AllowWhen::Process,
+            depth: DEFAULT_CONTACT_DEPTH_M,
+            field: "allowed_contacts[0]".into(),
+        }],
+        never_meet: Vec::new(),
+    };
+    let model = CellModel::build(CellInputs {
+        robot: &robot,
+        tool: &[],
+        cell: Some(&cell),
+        base_T_work: Isometry3::identity(),
+        clearance: 0.001,
+    })
+    .unwrap();
+    let a = (0.009f64.powi(2) - 0.0075f64.powi(2)).sqrt();
+    let mut probe = CellProbe::new(&model);
+    assert_eq!(probe.sample(&model, &[-a], true), None);
+    assert!(
+        (probe.distance(0) + 0.001).abs() < 1e-6,
+        "{}",
+        probe.distance(0)
+    );
+    let found = probe
+        .sample(&model, &[a], true)
+        .expect("2.5 mm deep in between");
+    assert!(found.between, "{found:?}");
+    // The deepest midpoint measured is within the contact resolution of q = 0.
+    assert!(found.distance < -DEFAULT_CONTACT_DEPTH_M, "{found:?}");
+    assert!(found.distance >= -0.0025 - 1e-9, "{found:?}");
+}

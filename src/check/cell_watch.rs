@@ -256,8 +256,7 @@ impl SampleSink for CellWatch<'_> {
             if self.nearest.is_none_or(|(n, _, _)| d < n) {
                 self.nearest = Some((d, p, rec.index));
             }
-            let allowed = self.process && self.model.pairs()[p].allowed_in_process;
-            if d < self.model.clearance() && !allowed {
+            if d < self.model.clearance() && !self.model.pairs()[p].allowed_at(self.process, d) {
                 self.raise(rec, p, d, false);
             }
         }

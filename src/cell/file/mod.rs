@@ -12,7 +12,8 @@
 //!   - {name: clamp, frame: work, mesh: {file: clamp.stl, scale: 1}, rpy: [0, 0, 90]}
 //! allowed_contacts:
 //!   - {between: [base_link, table], when: always}
-//!   - {between: [nozzle, rib], when: process}   # only on `process: true` segments
+//!   - {between: [nozzle, rib], when: process, depth: 3}   # only on `process: true`
+//!                                                         # segments, at most 3 deep
 //! never_meet:
 //!   - [link1, link6]
 //! ```
@@ -20,6 +21,10 @@
 //! Sizes and positions are in the file's length unit, angles in its angle unit; `xyz`/`rpy`
 //! (fixed-axis roll, pitch, yaw, as in URDF) place the body's centre in its frame. A mesh's
 //! vertices are taken in the file's length unit times `scale` (one number or three).
+//!
+//! A process contact may sink `depth` (file length unit, default
+//! [`DEFAULT_CONTACT_DEPTH_M`]) into the other body; deeper, it is a collision. An `always`
+//! pair is never measured, so it takes no depth.
 
 use super::shape::Primitive;
 use super::stl::read_stl;
@@ -29,7 +34,11 @@ use nalgebra::{Isometry3, Translation3, Vector3};
 use serde::{Deserialize, Serialize};
 use std::path::{Path, PathBuf};
 
+mod contacts;
 mod write;
+
+use contacts::{contact, RawContact};
+pub use contacts::{AllowWhen, AllowedContact, DEFAULT_CONTACT_DEPTH_M, MAX_CONTACT_DEPTH_M};
 
 /// Largest cell file read (bytes): a cell of a few hundred bodies is a few tens of kB; the
 /// cap keeps a wrong file from being parsed.
@@ -82,28 +91,6 @@ pub struct BodySpec {
     /// For a mesh: its file (as resolved) and the scale factors as written (STL unit to the
     /// file's length unit), so that the body can be written back.
     pub mesh: Option<(PathBuf, Vector3<f64>)>,
-}
-
-/// When an allowed contact applies.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
-pub enum AllowWhen {
-    /// Always: the two bodies may touch anywhere on the path.
-    Always,
-    /// Only at samples of `process: true` segments (a nozzle on the part while it works).
-    Process,
-}
-
-/// A pair of bodies that may touch.
-#[derive(Debug, Clone)]
-pub struct AllowedContact {
-    /// Name of the first body.
-    pub a: String,
-    /// Name of the second body.
-    pub b: String,
-    /// Where on the path the contact is allowed.
-    pub when: AllowWhen,
-    /// Where the contact was given (`allowed_contacts[2]`), for messages.
-    pub field: String,
 }
 
 /// A read cell file, in SI.
@@ -177,20 +164,6 @@ enum RawScale {
 struct RawUnits {
     length: Option<LengthUnit>,
     angle: Option<AngleUnit>,
-}
-
-#[derive(Debug, Clone, Copy, Deserialize)]
-#[serde(rename_all = "snake_case")]
-enum RawWhen {
-    Always,
-    Process,
-}
-
-#[derive(Debug, Clone, Deserialize)]
-#[serde(deny_unknown_fields)]
-struct RawContact {
-    between: [String; 2],
-    when: RawWhen,
 }
 
 #[derive(Debug, Clone, Deserialize)]
@@ -417,16 +390,8 @@ pub fn load_cell(path: &Path) -> Result<CellFile> {
         .allowed_contacts
         .iter()
         .enumerate()
-        .map(|(i, c)| AllowedContact {
-            a: c.between[0].clone(),
-            b: c.between[1].clone(),
-            when: match c.when {
-                RawWhen::Always => AllowWhen::Always,
-                RawWhen::Process => AllowWhen::Process,
-            },
-            field: format!("allowed_contacts[{i}]"),
-        })
-        .collect();
+        .map(|(i, c)| contact(c, i, scale, path))
+        .collect::<Result<_>>()?;
     let never_meet = raw
         .never_meet
         .iter()
@@ -596,7 +561,7 @@ mod tests {
         let p = write(
             dir.path(),
             "c.yaml",
-            "bodies:\n  - {name: table, frame: base, box: [1200, 800, 40], xyz: [900, 0, 210], rpy: [0, 0, 90]}\n  - {name: post, frame: work, cylinder: {radius: 15, length: 200}}\nallowed_contacts:\n  - {between: [base_link, table], when: always}\nnever_meet:\n  - [link1, link6]\n",
+            "bodies:\n  - {name: table, frame: base, box: [1200, 800, 40], xyz: [900, 0, 210], rpy: [0, 0, 90]}\n  - {name: post, frame: work, cylinder: {radius: 15, length: 200}}\nallowed_contacts:\n  - {between: [base_link, table], when: always}\n  - {between: [link6, post], when: process}\n  - {between: [link5, post], when: process, depth: 0.5}\nnever_meet:\n  - [link1, link6]\n",
         );
         let cell = load_cell(&p).unwrap();
         assert_eq!(cell.bodies.len(), 2);
@@ -609,6 +574,9 @@ mod tests {
         assert!((yaw - std::f64::consts::FRAC_PI_2).abs() < 1e-12);
         assert_eq!(cell.bodies[1].anchor, Some(Anchor::Work));
         assert_eq!(cell.allowed[0].when, AllowWhen::Always);
+        // A process contact without depth takes the default; 0.5 mm = 0.0005 m.
+        assert_eq!(cell.allowed[1].depth, DEFAULT_CONTACT_DEPTH_M);
+        assert!((cell.allowed[2].depth - 0.0005).abs() < 1e-15);
         assert_eq!(cell.never_meet[0].2, "never_meet[0]");
     }
 
@@ -627,6 +595,8 @@ mod tests {
             ("bodies:\n  - {name: a, frame: base, cone: 3}\n", "line 2", "unknown field"),
             ("bodies: [[[[[[[[[[[[[[[[[[[[]]]]]]]]]]]]]]]]]]]\n", "line 1", "nest"),
             ("# nothing\n", "file", "empty"),
+            ("bodies:\n  - {name: a, frame: base, box: [1, 1, 1]}\nallowed_contacts:\n  - {between: [a, link6], when: process, depth: -1}\n", "allowed_contacts[0].depth", "outside 0 .. 0.1 m"),
+            ("bodies:\n  - {name: a, frame: base, box: [1, 1, 1]}\nallowed_contacts:\n  - {between: [a, link6], when: always, depth: 1}\n", "allowed_contacts[0].depth", "when: process"),
         ];
         for (text, location, phrase) in cases {
             let p = write(dir.path(), "c.yaml", text);
