@@ -374,7 +374,9 @@ fn main_figures(
         o,
         &format!("{prefix}-singularity"),
         "<b>Singularity measure</b> (1 = well-conditioned, 0 = singular); below the \
-         threshold the arm is close to losing a direction of motion",
+         threshold the arm is close to losing a direction of motion. Every value at or near the \
+         threshold and the path's smallest value are exact; where the arm is plainly clear of \
+         both, the line may show a proven lower bound instead (the eigen-solve is skipped there)",
         singularity,
     );
     figure(
