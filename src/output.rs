@@ -7,7 +7,7 @@
 //!   directly.
 //! - No output may replace an input or another output ([`refuse_overwrite`]): paths are
 //!   compared after resolving symbolic links, and files by device and inode (hard links).
-//! - Standard output (`-`, and the text reports through [`print`]): a reader that has gone
+//! - Standard output (`-`, and the text reports through [`print()`]): a reader that has gone
 //!   away (a closed pipe) ends the writing quietly; any other write error is an [`Error`].
 
 use crate::error::{Error, Result};

@@ -103,7 +103,7 @@ struct SegmentKeys {
 ///
 /// Layout: the plan keeps nothing per waypoint; it shares the job's waypoints and derives a
 /// waypoint's base-frame pose (`base_T_work * work_T_tcp`, one product) and its
-/// [`SegmentKeys`] when asked. Each [`Segment`] (end poses, length, geodesic, duration,
+/// `SegmentKeys` when asked. Each [`Segment`] (end poses, length, geodesic, duration,
 /// steps) is computed from them by [`Plan::segment`] or [`Plan::segments`], the same way
 /// every time.
 #[derive(Debug, Clone)]

@@ -151,7 +151,7 @@ pub(super) fn effort_problem(e: f64) -> Option<String> {
 }
 
 impl Robot {
-    /// Refuse joint values `q` (SI: rad or m) that lie beyond [`max_position`]; `option`
+    /// Refuse joint values `q` (SI: rad or m) that lie beyond `max_position`; `option`
     /// names where they came from (`--joints`, `--seed`).
     pub fn check_joint_values(&self, option: &str, q: &Joints) -> Result<()> {
         for (i, (j, &v)) in self.joints().iter().zip(q).enumerate() {

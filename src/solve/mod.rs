@@ -15,7 +15,7 @@
 //!   the configuration table's walks in lockstep ([`Walker::walk_lanes`]).
 //! - `jump`: the jump test and the second-order midpoint bound that settles most steps.
 //! - `follow`: how the arm is followed from sample to sample (closed-form branch or numerical
-//!   continuity), one [`follow::Follower`] per walker.
+//!   continuity), one `Follower` per walker.
 //! - `start`: the joints at the first pose, for both solvers, and the [`margin`] score.
 //! - `record`: what a sink sees ([`SampleRecord`]) and the walk's totals.
 

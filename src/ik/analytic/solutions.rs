@@ -49,7 +49,7 @@ pub struct AnalyticSolution {
     /// 2π shift per joint: `joints[i] = principal_i + 2π·winding[i]` with the principal
     /// value in (−π, π].
     pub winding: [i8; 6],
-    /// Every joint within its range. Always true for [`OrthoParallel::solve`].
+    /// Every joint within its range. Always true for [`super::OrthoParallel::solve`].
     pub within_limits: bool,
     /// Special poses (singularities) the solution is at; all false for a regular pose.
     pub special: SpecialPose,
