@@ -23,6 +23,7 @@ use crate::robot::{Joints, Robot, SingularityModel};
 use crate::solve::{
     choose_start, residual, SampleRecord, SampleSink, StartChoice, StartSolver, WalkTotals, Walker,
 };
+use std::sync::atomic::{AtomicBool, Ordering};
 
 /// Settings of a check beyond the job.
 #[derive(Debug, Clone, Copy)]
@@ -56,12 +57,16 @@ impl Default for CheckOptions {
 /// Passes each sample to several sinks.
 struct Fanout<'s, 'a> {
     sinks: &'s mut [&'a mut dyn SampleSink],
+    /// Set (from the thread building the configuration table) when the walk under way
+    /// started from a start the table does not choose: it will be walked again, so it may
+    /// stop now. One relaxed load per sample, no lock.
+    wasted: &'s AtomicBool,
 }
 
 impl SampleSink for Fanout<'_, '_> {
     fn done(&self) -> bool {
-        // The main walk always runs to the end: every sink sees the whole path.
-        false
+        // The walk that counts always runs to the end: every sink sees the whole path.
+        self.wasted.load(Ordering::Relaxed)
     }
     fn begin(&mut self, robot: &Robot, estimated_samples: u64) {
         for s in self.sinks.iter_mut() {
@@ -152,7 +157,11 @@ pub fn check(
     for s in sinks.iter_mut() {
         all.push(&mut **s);
     }
-    let mut fan = Fanout { sinks: &mut all };
+    let wasted = AtomicBool::new(false);
+    let mut fan = Fanout {
+        sinks: &mut all,
+        wasted: &wasted,
+    };
     let main = MainWalk {
         robot: &robot,
         job,
@@ -184,12 +193,20 @@ pub fn check(
                 // stay on this thread.
                 let guess = choose(&Config::ALL);
                 let mut built = Vec::new();
+                let mut chosen = None;
                 let mut totals = rayon::in_place_scope(|scope| {
-                    scope.spawn(|_| built = table_on(options.threads - 1));
+                    scope.spawn(|_| {
+                        built = table_on(options.threads - 1);
+                        let start = choose(&crate::configs::running(&built));
+                        if start.config != guess.config || start.joints[..] != guess.joints[..] {
+                            wasted.store(true, Ordering::Relaxed);
+                        }
+                        chosen = Some(start);
+                    });
                     main.walk(&guess, &mut fan)
                 });
-                let start = choose(&crate::configs::running(&built));
-                if start.config != guess.config || start.joints[..] != guess.joints[..] {
+                let start = chosen.unwrap_or_else(|| choose(&crate::configs::running(&built)));
+                if wasted.swap(false, Ordering::Relaxed) {
                     fan.restart();
                     totals = WalkTotals {
                         discarded_walks: 1,
