@@ -506,6 +506,25 @@ mod tests {
     }
 
     #[test]
+    fn a_rewound_output_holds_only_what_follows() {
+        // source: common practice (truncate and seek to 0 empties a file); a write larger
+        // than the buffer reaches the file before the rewind, a small one stays buffered.
+        let dir = tempfile::tempdir().unwrap();
+        let p = dir.path().join("j.csv");
+        let mut o = OutputFile::create(&p).unwrap();
+        assert!(o.rewindable());
+        o.write_all(&vec![b'x'; 64 * 1024]).unwrap();
+        o.write_all(b"buffered").unwrap();
+        o.rewind().unwrap();
+        o.write_all(b"a,b\n").unwrap();
+        o.commit().unwrap();
+        assert_eq!(std::fs::read_to_string(&p).unwrap(), "a,b\n");
+        let mut out = OutputFile::create(Path::new("-")).unwrap();
+        assert!(!out.rewindable());
+        assert!(out.rewind().is_err());
+    }
+
+    #[test]
     fn overwrite_refusal_sees_through_links_and_unwritten_names() {
         // source: common practice (a file is its device and inode; a name is its resolved path)
         let dir = tempfile::tempdir().unwrap();

@@ -37,8 +37,14 @@ pub struct CheckOptions {
     /// Use the numerical solver even when the arm has a closed-form one (to compare, or to
     /// follow the motion through an exact wrist singularity by continuity).
     pub numeric_only: bool,
-    /// Threads the configuration table's walks may be split over (at least 1; the result
-    /// does not depend on it).
+    /// Threads the check may use (at least 1; the result does not depend on it). With 1,
+    /// the configuration table is built first and the main walk follows. From 2 on, the
+    /// main walk starts at once, from the start chosen as if every configuration reaching
+    /// the first pose ran the whole path, while the table is built on the other threads;
+    /// where the table then chooses another start, the sinks are restarted
+    /// ([`SampleSink::restart`]) and the walk is run again. A sink that cannot restart
+    /// ([`SampleSink::restartable`], e.g. a joint CSV on standard output) keeps the order
+    /// of one thread.
     pub threads: usize,
 }
 

@@ -479,6 +479,29 @@ mod tests {
     use super::*;
 
     #[test]
+    fn a_restarted_collector_is_a_new_one() {
+        // source: common practice (a restart forgets every sample: the collector fed one
+        // path, restarted and fed another equals one fed only the second, field by field)
+        let dir = std::path::Path::new(env!("CARGO_MANIFEST_DIR"));
+        let run = |rel: &str, data: &mut PlotData| {
+            let job = crate::job::load(&dir.join(rel), &Default::default()).unwrap();
+            let robot = crate::robot::load_urdf(&job.robot, job.tip.as_deref()).unwrap();
+            let options = crate::check::CheckOptions::default();
+            crate::check::check(&job, &robot, &options, &mut [data]).unwrap();
+            job
+        };
+        let job = crate::job::load(&dir.join("paths/rib_weld.yaml"), &Default::default()).unwrap();
+        let mut once = PlotData::new(&job);
+        let mut twice = once.clone();
+        run("paths/rib_weld.yaml", &mut once);
+        run("paths/panel_raster.yaml", &mut twice);
+        assert_ne!(format!("{twice:?}"), format!("{once:?}"));
+        twice.restart();
+        run("paths/rib_weld.yaml", &mut twice);
+        assert_eq!(format!("{twice:?}"), format!("{once:?}"));
+    }
+
+    #[test]
     fn trace_is_bounded_and_keeps_corners() {
         // source: common practice (radial-distance thinning; corners of a raster sit at
         // waypoints, which thinning prefers)
