@@ -109,6 +109,9 @@ fn ribbed_plate() -> Vec<[nalgebra::Point3<f64>; 3]> {
 struct Trajectory(Vec<armpath::Joints>);
 
 impl SampleSink for Trajectory {
+    fn restart(&mut self) {
+        self.0.clear();
+    }
     fn sample(&mut self, _robot: &Robot, rec: &SampleRecord) {
         self.0.push(rec.joints);
     }

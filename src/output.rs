@@ -376,6 +376,38 @@ impl OutputFile {
         &self.path
     }
 
+    /// Whether [`OutputFile::rewind`] can take back what was written: only a temporary
+    /// file can be; standard output and a device or pipe given as the output cannot.
+    pub fn rewindable(&self) -> bool {
+        matches!(self.target, Some(Target::Temp { .. }))
+    }
+
+    /// Throw away everything written so far (buffered or in the temporary file) and write
+    /// from the start again. An error when the output is not [`OutputFile::rewindable`] or
+    /// the file cannot be truncated.
+    pub fn rewind(&mut self) -> std::io::Result<()> {
+        use std::io::{Seek, SeekFrom};
+        match self.target.take() {
+            Some(Target::Temp { file, temp }) => {
+                // `into_parts` hands back the unwritten buffer instead of flushing it.
+                let (mut f, _unwritten) = file.into_parts();
+                let cut = f.set_len(0).and_then(|()| f.seek(SeekFrom::Start(0)));
+                self.target = Some(Target::Temp {
+                    file: BufWriter::new(f),
+                    temp,
+                });
+                cut.map(|_| ())
+            }
+            other => {
+                self.target = other;
+                Err(std::io::Error::new(
+                    std::io::ErrorKind::Unsupported,
+                    "this output cannot be rewound",
+                ))
+            }
+        }
+    }
+
     /// Finish: flush and move the data into place.
     pub fn commit(mut self) -> Result<()> {
         let path = self.path.clone();
@@ -471,6 +503,25 @@ mod tests {
         write_all(&p, b"new").unwrap();
         assert_eq!(std::fs::read_to_string(&p).unwrap(), "new");
         assert_eq!(std::fs::read_dir(dir.path()).unwrap().count(), 1);
+    }
+
+    #[test]
+    fn a_rewound_output_holds_only_what_follows() {
+        // source: common practice (truncate and seek to 0 empties a file); a write larger
+        // than the buffer reaches the file before the rewind, a small one stays buffered.
+        let dir = tempfile::tempdir().unwrap();
+        let p = dir.path().join("j.csv");
+        let mut o = OutputFile::create(&p).unwrap();
+        assert!(o.rewindable());
+        o.write_all(&vec![b'x'; 64 * 1024]).unwrap();
+        o.write_all(b"buffered").unwrap();
+        o.rewind().unwrap();
+        o.write_all(b"a,b\n").unwrap();
+        o.commit().unwrap();
+        assert_eq!(std::fs::read_to_string(&p).unwrap(), "a,b\n");
+        let mut out = OutputFile::create(Path::new("-")).unwrap();
+        assert!(!out.rewindable());
+        assert!(out.rewind().is_err());
     }
 
     #[test]

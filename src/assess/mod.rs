@@ -276,6 +276,10 @@ impl<'a> Assessor<'a> {
 }
 
 impl SampleSink for Assessor<'_> {
+    /// Rebuilt as [`Assessor::new`] makes it (input findings included).
+    fn restart(&mut self) {
+        *self = Assessor::new(self.job, self.plan, self.thresholds);
+    }
     fn sample(&mut self, robot: &Robot, rec: &SampleRecord) {
         if let Some(w) = rec.waypoint {
             if let Ok(i) = self.waypoint_sample.binary_search_by_key(&w, |e| e.0) {

@@ -226,6 +226,10 @@ impl<'a> CellWatch<'a> {
 }
 
 impl SampleSink for CellWatch<'_> {
+    /// Rebuilt as [`CellWatch::new`] makes it (the probe's evaluation count too).
+    fn restart(&mut self) {
+        *self = CellWatch::new(self.model, self.job, self.plan);
+    }
     fn sample(&mut self, _robot: &Robot, rec: &SampleRecord) {
         let (model, job, findings) = (self.model, self.job, &mut self.findings);
         if self

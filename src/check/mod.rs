@@ -15,12 +15,15 @@ use crate::assess::Finding;
 use crate::assess::{Assessor, Thresholds};
 use crate::configs::feasibility;
 use crate::error::{Error, Result};
-use crate::ik::analytic::OrthoParallel;
+use crate::ik::analytic::{Config, OrthoParallel};
 use crate::ik::IkOptions;
 use crate::job::{ConfigRequest, Job, StartJoints};
-use crate::plan::{plan, DEFAULT_MAX_SAMPLES};
+use crate::plan::{plan, Plan, DEFAULT_MAX_SAMPLES};
 use crate::robot::{Joints, Robot, SingularityModel};
-use crate::solve::{choose_start, residual, SampleRecord, SampleSink, StartSolver, Walker};
+use crate::solve::{
+    choose_start, residual, SampleRecord, SampleSink, StartChoice, StartSolver, WalkTotals, Walker,
+};
+use std::sync::atomic::{AtomicBool, Ordering};
 
 /// Settings of a check beyond the job.
 #[derive(Debug, Clone, Copy)]
@@ -34,8 +37,14 @@ pub struct CheckOptions {
     /// Use the numerical solver even when the arm has a closed-form one (to compare, or to
     /// follow the motion through an exact wrist singularity by continuity).
     pub numeric_only: bool,
-    /// Threads the configuration table's walks may be split over (at least 1; the result
-    /// does not depend on it).
+    /// Threads the check may use (at least 1; the result does not depend on it). With 1,
+    /// the configuration table is built first and the main walk follows. From 2 on, the
+    /// main walk starts at once, from the start chosen as if every configuration reaching
+    /// the first pose ran the whole path, while the table is built on the other threads;
+    /// where the table then chooses another start, the sinks are restarted
+    /// ([`SampleSink::restart`]) and the walk is run again. A sink that cannot restart
+    /// ([`SampleSink::restartable`], e.g. a joint CSV on standard output) keeps the order
+    /// of one thread.
     pub threads: usize,
 }
 
@@ -54,12 +63,16 @@ impl Default for CheckOptions {
 /// Passes each sample to several sinks.
 struct Fanout<'s, 'a> {
     sinks: &'s mut [&'a mut dyn SampleSink],
+    /// Set (from the thread building the configuration table) when the walk under way
+    /// started from a start the table does not choose: it will be walked again, so it may
+    /// stop now. One relaxed load per sample, no lock.
+    wasted: &'s AtomicBool,
 }
 
 impl SampleSink for Fanout<'_, '_> {
     fn done(&self) -> bool {
-        // The main walk always runs to the end: every sink sees the whole path.
-        false
+        // The walk that counts always runs to the end: every sink sees the whole path.
+        self.wasted.load(Ordering::Relaxed)
     }
     fn begin(&mut self, robot: &Robot, estimated_samples: u64) {
         for s in self.sinks.iter_mut() {
@@ -70,6 +83,14 @@ impl SampleSink for Fanout<'_, '_> {
         for s in self.sinks.iter_mut() {
             s.sample(robot, rec);
         }
+    }
+    fn restart(&mut self) {
+        for s in self.sinks.iter_mut() {
+            s.restart();
+        }
+    }
+    fn restartable(&self) -> bool {
+        self.sinks.iter().all(|s| s.restartable())
     }
 }
 
@@ -122,70 +143,109 @@ pub fn check(
         check_start_joints(job, sj, &robot, q, &first, closed.as_ref().ok())?;
     }
     let mut notes: Vec<Finding> = unit_hint.into_iter().map(note).collect();
-    let (start, table) = match &closed {
-        Ok(solver) => {
-            let table = feasibility(&robot, job, &plan, solver, options.ik, options.threads);
-            let running = crate::configs::running(&table);
-            let start = choose_start(
-                &robot,
-                &model,
-                &first,
-                start_si.as_ref(),
-                StartSolver::ClosedForm {
-                    solver,
-                    request: &job.config,
-                    running: &running,
-                },
-            );
-            (start, Some(table))
+    if let Err(reason) = &closed {
+        if job.config != ConfigRequest::default() {
+            notes.push(note(format!(
+                "config: ignored, the arm has no closed-form solver ({reason}); the first pose's configuration comes from start_joints or the search"
+            )));
         }
-        Err(reason) => {
-            if job.config != ConfigRequest::default() {
-                notes.push(note(format!(
-                    "config: ignored, the arm has no closed-form solver ({reason}); the first pose's configuration comes from start_joints or the search"
-                )));
-            }
-            (
-                choose_start(
-                    &robot,
-                    &model,
-                    &first,
-                    start_si.as_ref(),
-                    StartSolver::Numeric(options.ik),
-                ),
-                None,
-            )
-        }
-    };
-    let mut walker = Walker::new(&robot, job, &plan, options.ik)
-        .with_singularity_threshold(options.thresholds.singularity);
-    if let (Ok(solver), Some(config)) = (&closed, start.config) {
-        walker = walker.with_closed_form(solver, config);
     }
     let mut assessor = Assessor::new(job, &plan, options.thresholds);
     let mut clock = crate::solve::WaypointClock::new(SEGMENT_TABLE_ROWS + 1);
     let cell_model = cell_model(job, &robot)?;
     let mut watch = cell_model.as_ref().map(|m| CellWatch::new(m, job, &plan));
-    let totals = {
-        let mut all: Vec<&mut dyn SampleSink> = Vec::with_capacity(sinks.len() + 3);
-        all.push(&mut assessor);
-        all.push(&mut clock);
-        if let Some(w) = watch.as_mut() {
-            all.push(w);
-        }
-        for s in sinks.iter_mut() {
-            all.push(&mut **s);
-        }
-        let mut fan = Fanout { sinks: &mut all };
-        walker.walk(&start, &mut fan)
+    let mut all: Vec<&mut dyn SampleSink> = Vec::with_capacity(sinks.len() + 3);
+    all.push(&mut assessor);
+    all.push(&mut clock);
+    if let Some(w) = watch.as_mut() {
+        all.push(w);
+    }
+    for s in sinks.iter_mut() {
+        all.push(&mut **s);
+    }
+    let wasted = AtomicBool::new(false);
+    let mut fan = Fanout {
+        sinks: &mut all,
+        wasted: &wasted,
     };
+    let main = MainWalk {
+        robot: &robot,
+        job,
+        plan: &plan,
+        options,
+        closed: closed.as_ref().ok(),
+    };
+    let (start, table, totals) = match &closed {
+        Ok(solver) => {
+            let choose = |running: &[Config]| {
+                choose_start(
+                    &robot,
+                    &model,
+                    &first,
+                    start_si.as_ref(),
+                    StartSolver::ClosedForm {
+                        solver,
+                        request: &job.config,
+                        running,
+                    },
+                )
+            };
+            let table_on =
+                |threads: usize| feasibility(&robot, job, &plan, solver, options.ik, threads);
+            if options.threads >= 2 && fan.restartable() {
+                // The usual answer, known before the table: every configuration that
+                // reaches the first pose runs the whole path (or none does, which chooses
+                // the same). The table is built on a rayon worker meanwhile; the sinks
+                // stay on this thread.
+                let guess = choose(&Config::ALL);
+                let mut built = Vec::new();
+                let mut chosen = None;
+                let mut totals = rayon::in_place_scope(|scope| {
+                    scope.spawn(|_| {
+                        built = table_on(options.threads - 1);
+                        let start = choose(&crate::configs::running(&built));
+                        if start.config != guess.config || start.joints[..] != guess.joints[..] {
+                            wasted.store(true, Ordering::Relaxed);
+                        }
+                        chosen = Some(start);
+                    });
+                    main.walk(&guess, &mut fan)
+                });
+                let start = chosen.unwrap_or_else(|| choose(&crate::configs::running(&built)));
+                if wasted.swap(false, Ordering::Relaxed) {
+                    fan.restart();
+                    totals = WalkTotals {
+                        discarded_walks: 1,
+                        ..main.walk(&start, &mut fan)
+                    };
+                }
+                (start, Some(built), totals)
+            } else {
+                let table = table_on(options.threads);
+                let start = choose(&crate::configs::running(&table));
+                let totals = main.walk(&start, &mut fan);
+                (start, Some(table), totals)
+            }
+        }
+        Err(_) => {
+            let start = choose_start(
+                &robot,
+                &model,
+                &first,
+                start_si.as_ref(),
+                StartSolver::Numeric(options.ik),
+            );
+            let totals = main.walk(&start, &mut fan);
+            (start, None, totals)
+        }
+    };
+    drop(all);
     let cell = watch.map(|w| {
         let (found, summary) = w.finish();
         assessor.add_findings(found);
         summary
     });
     let (mut findings, extremes) = assessor.finish(&robot);
-    drop(walker);
     findings.splice(0..0, notes);
     let advice = table
         .as_deref()
@@ -204,6 +264,29 @@ pub fn check(
         advice,
         cell,
     })
+}
+
+/// What the main walk needs besides its start and sinks.
+struct MainWalk<'a> {
+    /// The robot with the job's tool mounted.
+    robot: &'a Robot,
+    job: &'a Job,
+    plan: &'a Plan,
+    options: &'a CheckOptions,
+    /// The closed-form solver, when the arm has one and it is used.
+    closed: Option<&'a OrthoParallel>,
+}
+
+impl MainWalk<'_> {
+    /// The walk from `start` into `sink`, on the start's configuration with the closed form.
+    fn walk(&self, start: &StartChoice, sink: &mut dyn SampleSink) -> WalkTotals {
+        let mut walker = Walker::new(self.robot, self.job, self.plan, self.options.ik)
+            .with_singularity_threshold(self.options.thresholds.singularity);
+        if let (Some(solver), Some(config)) = (self.closed, start.config) {
+            walker = walker.with_closed_form(solver, config);
+        }
+        walker.walk(start, sink)
+    }
 }
 
 /// The cell model of a job that has a cell file or tool geometry (`robot` with the tool

@@ -21,6 +21,9 @@ impl StopWatch {
 }
 
 impl SampleSink for StopWatch {
+    fn restart(&mut self) {
+        self.first = None;
+    }
     fn done(&self) -> bool {
         self.first.is_some()
     }

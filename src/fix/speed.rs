@@ -87,6 +87,11 @@ impl RatioSink {
 }
 
 impl SampleSink for RatioSink {
+    fn restart(&mut self) {
+        self.worst.fill((0.0, None));
+        self.worst_acceleration.fill((0.0, None));
+        self.prev_s = 0.0;
+    }
     fn sample(&mut self, robot: &Robot, rec: &SampleRecord) {
         let to_cruise = self.to_cruise(rec);
         self.prev_s = rec.s;

@@ -49,6 +49,16 @@ impl JointsCsv {
 }
 
 impl SampleSink for JointsCsv {
+    /// The temporary file is emptied; the header is written again with the next sample.
+    fn restart(&mut self) {
+        self.header_written = false;
+        self.error = self.out.rewind().err();
+    }
+    /// Only a CSV written to a temporary file (not standard output or a device) can be
+    /// taken back.
+    fn restartable(&self) -> bool {
+        self.out.rewindable()
+    }
     fn sample(&mut self, robot: &Robot, rec: &SampleRecord) {
         use std::fmt::Write as _;
         if self.error.is_some() {

@@ -29,6 +29,9 @@ impl WaypointClock {
 }
 
 impl SampleSink for WaypointClock {
+    fn restart(&mut self) {
+        self.times.clear();
+    }
     fn sample(&mut self, _robot: &Robot, rec: &SampleRecord) {
         let Some(w) = rec.waypoint else { return };
         if w >= self.cap {

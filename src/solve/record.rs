@@ -86,6 +86,19 @@ pub trait SampleSink {
     fn done(&self) -> bool {
         false
     }
+    /// Forget every sample taken so far, as if the sink were new: the walk is about to be
+    /// run again from its start ([`SampleSink::begin`] follows). The check walks the path
+    /// while the configuration table is still being built, in the configuration it expects
+    /// to choose, and starts over when the table chooses another; a sink that cannot undo
+    /// what it has passed on says so by [`SampleSink::restartable`].
+    fn restart(&mut self);
+    /// Whether [`SampleSink::restart`] can undo everything the sink has done with the
+    /// samples so far (false, e.g., for rows already written to a stream that cannot be
+    /// rewound). When a sink of the check is not restartable, the check walks the path
+    /// only once its start is final.
+    fn restartable(&self) -> bool {
+        true
+    }
 }
 
 /// Totals of a walk.
@@ -109,4 +122,8 @@ pub struct WalkTotals {
     /// Samples settled by the reach sphere alone ([`crate::robot::Robot::reach_bound`]),
     /// without any solve.
     pub beyond_reach: usize,
+    /// Main walks thrown away by the check: walks begun, before the configuration table was
+    /// complete, in the configuration expected from the first pose alone, where the table
+    /// then chose another start (0 or 1; always 0 for a single walk).
+    pub discarded_walks: usize,
 }

@@ -202,8 +202,9 @@ pub struct SettingFlags {
     /// Refuse paths that would need more samples than N (default 100000000).
     #[arg(long, value_name = "N", allow_negative_numbers = true)]
     pub max_samples: Option<u64>,
-    /// Threads for the configuration table's walks (default: the available cores; the
-    /// result is the same with any number).
+    /// Threads for the check (default: the available cores; the result is the same with
+    /// any number). From 2 on, the main walk runs beside the configuration table, whose
+    /// walks share the other threads.
     #[arg(long, value_name = "N", allow_negative_numbers = true, value_parser = threads)]
     pub threads: Option<usize>,
 }

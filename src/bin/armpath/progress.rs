@@ -39,6 +39,11 @@ impl CheckProgress {
 }
 
 impl SampleSink for CheckProgress {
+    /// The bar is taken off (`begin` draws a new one) and the count starts again.
+    fn restart(&mut self) {
+        self.finish();
+        self.count = 0;
+    }
     fn begin(&mut self, _robot: &Robot, estimated_samples: u64) {
         if estimated_samples >= Self::MIN_SAMPLES {
             self.bar = Some(bar(estimated_samples, "checking", "samples"));

@@ -202,6 +202,9 @@ pub struct PlotData {
     /// Time per sampling step at the programmed speed (s): the time envelope's first width.
     time_step: f64,
     trace: Trace,
+    /// The trace as made, empty: what [`SampleSink::restart`] puts back (thinning changes
+    /// the trace's spacing as it fills).
+    trace_empty: Trace,
     waypoints: Vec<WaypointAt>,
     length: f64,
     duration: f64,
@@ -225,6 +228,9 @@ impl PlotData {
 
     /// As [`PlotData::new`] with other bucket and trace sizes (tests).
     pub fn with_sizes(job: &Job, buckets: usize, trace_points: usize) -> Self {
+        // Half a sampling step: below a pixel on any plotted path, so short paths are
+        // drawn from every sample.
+        let trace = Trace::new(trace_points, job.sampling.step * 1e3 * 0.5);
         PlotData {
             joint_speed_scale: job.limits.joint_speed_scale,
             joint_acceleration_scale: job.limits.joint_acceleration_scale,
@@ -238,9 +244,8 @@ impl PlotData {
             env: None,
             env_t: None,
             time_step: job.sampling.step / job.speed,
-            // Half a sampling step: below a pixel on any plotted path, so short paths are
-            // drawn from every sample.
-            trace: Trace::new(trace_points, job.sampling.step * 1e3 * 0.5),
+            trace_empty: trace.clone(),
+            trace,
             waypoints: Vec::new(),
             length: 0.0,
             duration: 0.0,
@@ -381,6 +386,22 @@ impl PlotData {
 }
 
 impl SampleSink for PlotData {
+    /// Everything taken from samples goes back to its state in [`PlotData::new`]; the
+    /// settings read from the job stay.
+    fn restart(&mut self) {
+        self.joints.clear();
+        self.allowed = Joints::default();
+        self.allowed_acc = Joints::default();
+        self.env = None;
+        self.env_t = None;
+        self.trace = self.trace_empty.clone();
+        self.waypoints.clear();
+        self.length = 0.0;
+        self.duration = 0.0;
+        self.samples = 0;
+        self.poses = PoseKeeper::new(SLIDER_POSES);
+        self.robot = None;
+    }
     fn begin(&mut self, _robot: &Robot, estimated_samples: u64) {
         self.poses.expect(estimated_samples);
     }
@@ -456,6 +477,29 @@ fn add_sample(
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn a_restarted_collector_is_a_new_one() {
+        // source: common practice (a restart forgets every sample: the collector fed one
+        // path, restarted and fed another equals one fed only the second, field by field)
+        let dir = std::path::Path::new(env!("CARGO_MANIFEST_DIR"));
+        let run = |rel: &str, data: &mut PlotData| {
+            let job = crate::job::load(&dir.join(rel), &Default::default()).unwrap();
+            let robot = crate::robot::load_urdf(&job.robot, job.tip.as_deref()).unwrap();
+            let options = crate::check::CheckOptions::default();
+            crate::check::check(&job, &robot, &options, &mut [data]).unwrap();
+            job
+        };
+        let job = crate::job::load(&dir.join("paths/rib_weld.yaml"), &Default::default()).unwrap();
+        let mut once = PlotData::new(&job);
+        let mut twice = once.clone();
+        run("paths/rib_weld.yaml", &mut once);
+        run("paths/panel_raster.yaml", &mut twice);
+        assert_ne!(format!("{twice:?}"), format!("{once:?}"));
+        twice.restart();
+        run("paths/rib_weld.yaml", &mut twice);
+        assert_eq!(format!("{twice:?}"), format!("{once:?}"));
+    }
 
     #[test]
     fn trace_is_bounded_and_keeps_corners() {

@@ -100,6 +100,10 @@ impl SampleSink for HtmlReport {
     fn sample(&mut self, robot: &Robot, rec: &SampleRecord) {
         self.data.sample(robot, rec);
     }
+    /// Nothing is written before [`HtmlReport::finish`]: only the collector starts over.
+    fn restart(&mut self) {
+        self.data.restart();
+    }
 }
 
 #[cfg(test)]
