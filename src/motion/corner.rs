@@ -68,7 +68,9 @@ pub struct Corner {
 /// The size of a blend window, and whether the radius asked for had to shrink.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct Window {
-    /// Half the window (s); 0 for no blend.
+    /// Half the window (s); 0 for no blend. [`Window::new`] gives it at the cruise rates;
+    /// the plan stores the half of the corner as run ([`Corner::slowed`]), longer where the
+    /// corner slows.
     pub half: f64,
     /// Distance from the corner at which the blend leaves the incoming line (m).
     pub radius_in: f64,

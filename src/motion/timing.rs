@@ -196,39 +196,62 @@ mod tests {
         assert!(t.blended_pose(0.99).is_none());
     }
 
-    #[test]
-    fn blended_end_keeps_cruise_into_the_window() {
-        // The same segment with a 10 mm blend at its end (next segment equally fast): the
-        // window's half is 0.1 s, so the ramp covers 0.29 m from rest to cruise
-        // (0.29/0.1 + 0.1/(2·0.5) = 3.0 s) and the segment ends 0.1 s later: 3.1 s.
-        // source: common practice (kinematics of constant acceleration)
+    /// 0.3 m at 0.1 m/s (D = 3 s) with a = 0.5 m/s², ending in a 10 mm right-angle blend
+    /// into an equally fast segment, run at `scale` times the cruise rates.
+    fn ending_in_right_angle(scale: f64) -> SegmentTiming {
         let w = Window::new(0.01, 0.3, 3.0, 0.3, 3.0);
         let corner = Corner::new(
             nalgebra::Isometry3::from_parts(Translation3::new(0.3, 0.0, 0.0), Default::default()),
             (Vector3::x() * 0.1, Vector3::zeros()),
             (Vector3::y() * 0.1, Vector3::zeros()),
             w.half,
-        );
-        let t = SegmentTiming::new(
-            3.0,
-            0.3,
-            u_acceleration(0.3, 0.0, 0.5, 1.0),
-            None,
-            Some(corner),
-        );
-        assert_relative_eq!(t.duration(), 3.1, epsilon = 1e-12);
-        // Continuous time across the window edge, and the speed of the blend there.
+        )
+        .slowed(scale);
+        let u_accel = u_acceleration(0.3, 0.0, 0.5, 1.0);
+        SegmentTiming::new(3.0, 0.3, u_accel, None, Some(corner))
+    }
+
+    /// No step in time across the window edge of [`ending_in_right_angle`] (10 mm before the
+    /// end), and the TCP speed `speed` (m/s) on both sides. source: common practice
+    fn assert_window_edge(t: &SegmentTiming, speed: f64) {
         let edge = 1.0 - 0.01 / 0.3;
         assert_relative_eq!(
             t.time_at(edge - 1e-12),
             t.time_at(edge + 1e-12),
             epsilon = 1e-9
         );
-        assert_relative_eq!(t.tcp_speed(edge - 1e-9), 0.1, epsilon = 1e-9);
-        assert_relative_eq!(t.tcp_speed(edge + 1e-9), 0.1, epsilon = 1e-6);
+        assert_relative_eq!(t.tcp_speed(edge - 1e-9), speed, epsilon = 1e-6);
+        assert_relative_eq!(t.tcp_speed(edge + 1e-9), speed, epsilon = 1e-6);
+    }
+
+    #[test]
+    fn blended_end_keeps_cruise_into_the_window() {
+        // The same segment with a 10 mm blend at its end (next segment equally fast): the
+        // window's half is 0.1 s, so the ramp covers 0.29 m from rest to cruise
+        // (0.29/0.1 + 0.1/(2·0.5) = 3.0 s) and the segment ends 0.1 s later: 3.1 s.
+        // source: common practice (kinematics of constant acceleration)
+        let t = ending_in_right_angle(1.0);
+        assert_relative_eq!(t.duration(), 3.1, epsilon = 1e-12);
+        // Continuous time across the window edge, and the speed of the blend there.
+        assert_window_edge(&t, 0.1);
         // The last sample stands at the blend's middle, not at the corner.
         let mid = t.blended_pose(1.0).unwrap().translation.vector;
         assert!((mid - Vector3::new(0.3, 0.0, 0.0)).norm() > 1e-3);
+    }
+
+    #[test]
+    fn a_slowed_corner_is_entered_at_its_corner_speed() {
+        // The segment above ending in the same corner slowed to half its rates (v_c = 50 mm/s):
+        // the window's half is r/v_c = 0.2 s, and the ramp covers 0.29 m from rest to cruise
+        // and down to v_c: L/v + v/(2a) + (v − v_c)²/(2a·v) = 2.9 + 0.1 + 0.05²/0.1 = 3.025 s,
+        // 3.225 s with the half window. The speed at the window's edge is v_c from both sides.
+        // source: trapezoidal profile (Biagiotti & Melchiorri 2008, §3.2.2; from memory), its
+        // deceleration to v_c from constant-acceleration kinematics (common practice)
+        let t = ending_in_right_angle(0.5);
+        assert_relative_eq!(t.duration(), 3.225, epsilon = 1e-12);
+        assert_window_edge(&t, 0.05);
+        // The blend's middle, reached at the segment's end: v_c·cos 45°.
+        assert_relative_eq!(t.tcp_speed(1.0), 0.05 / 2f64.sqrt(), epsilon = 1e-12);
     }
 
     #[test]
