@@ -45,15 +45,22 @@ fn a_rest_to_rest_line_takes_the_trapezoid_time() {
 }
 
 #[test]
-fn a_blended_right_angle_saves_the_stop_and_slows_the_bead_to_v_over_root_two() {
-    // a → b → c: 200 mm along x, then 200 mm along y, at 100 mm/s with 500 mm/s², blend 10 mm
-    // at b. The blend window lasts 2r/v = 0.2 s. Each segment ramps from rest to cruise (or
-    // back) over its 190 mm outside the window: 190/100 + 100/(2·500) = 2.0 s, plus half the
-    // window: 2.1 s each, 4.2 s in all (4.4 s when stopping at b: 2 × (200/100 + 100/500)).
-    // In the window the velocity moves linearly from v·x̂ to v·ŷ, so at b's sample (the window's
-    // middle) the speed is |v·x̂ + v·ŷ|/2 = v/√2 = 70.71 mm/s, below 95 % of 100 mm/s.
-    // source: trapezoidal profile (Biagiotti & Melchiorri 2008, §3.2.2; from memory);
-    // common practice (the speed of a linear velocity blend)
+fn a_blended_right_angle_saves_the_stop_and_slows_the_bead_to_its_corner_speed() {
+    // a → b → c: 200 mm along x, then 200 mm along y, at v = 100 mm/s with a = 500 mm/s²,
+    // blend r = 10 mm at b. At cruise the blend would turn the velocity by |v·ŷ − v·x̂| = v√2
+    // in 2r/v = 0.2 s: v²·sin 45°/r = 707 mm/s² > a, so the corner slows to
+    // v_c = √(a·r/sin 45°) = √(500·10·√2) = 84.09 mm/s (k = v_c/v = 0.8409) and the window
+    // lasts 2r/v_c: half h = 10/84.09 = 0.11892 s. Each segment covers its 190 mm outside the
+    // window with a trapezoid from rest to v and down to v_c:
+    // T = L/v + v/(2a) + (v − v_c)²/(2a·v) = 1.9 + 0.1 + 15.91²/(2·500·100) = 2.002531 s,
+    // plus h: 2.121452 s each, 4.242904 s in all (4.4 s when stopping at b:
+    // 2 × (200/100 + 100/500)). In the window the velocity moves linearly from v_c·x̂ to v_c·ŷ,
+    // so at b's sample (the window's middle) the speed is v_c/√2 = 59.46 mm/s, below 95 % of
+    // 100 mm/s.
+    // source: trapezoidal profile T = L/v + v/a (Biagiotti & Melchiorri 2008, §3.2.2; from
+    // memory), its deceleration to v_c derived here from constant-acceleration kinematics;
+    // common practice (the speed of a linear velocity blend); the corner speed derived in
+    // src/motion/corner.rs
     let corner = |blend: &str| {
         line_path(
             "tcp_acceleration: 500",
@@ -63,22 +70,26 @@ fn a_blended_right_angle_saves_the_stop_and_slows_the_bead_to_v_over_root_two() 
             ),
         )
     };
+    let (v, a, r) = (100.0f64, 500.0f64, 10.0f64);
+    let v_c = (a * r / 45f64.to_radians().sin()).sqrt();
+    let segment = 190.0 / v + v / (2.0 * a) + (v - v_c).powi(2) / (2.0 * a * v) + r / v_c;
+    assert!((segment - 2.121452).abs() < 1e-6, "{segment}");
     let (_d, file) = path_file(&corner(", blend: 10"));
     let (code, report) = check_json(&file, &[]);
     assert_eq!(code, 0, "{report:#}");
     assert!(
-        (f64_of(&report["summary"]["duration_s"]) - 4.2).abs() < 1e-9,
+        (f64_of(&report["summary"]["duration_s"]) - 2.0 * segment).abs() < 1e-9,
         "{report:#}"
     );
     let per = &report["path"]["segment_durations_s"];
-    assert!((f64_of(&per[0]) - 2.1).abs() < 1e-9 && (f64_of(&per[1]) - 2.1).abs() < 1e-9);
+    assert!((f64_of(&per[0]) - segment).abs() < 1e-9 && (f64_of(&per[1]) - segment).abs() < 1e-9);
     let dips = findings(&report, "process_speed");
     let at_b = dips
         .iter()
         .find(|f| f64_of(&f["s_mm"][0]) <= 200.0 && f64_of(&f["s_mm"][1]) >= 200.0)
         .unwrap_or_else(|| panic!("{report:#}"));
     assert!(
-        (f64_of(&at_b["value"]) - 100.0 / 2f64.sqrt()).abs() < 1e-6,
+        (f64_of(&at_b["value"]) - v_c / 2f64.sqrt()).abs() < 1e-6,
         "{at_b:#}"
     );
     assert!((f64_of(&at_b["limit"]) - 95.0).abs() < 1e-9);
@@ -95,21 +106,17 @@ fn a_blended_right_angle_saves_the_stop_and_slows_the_bead_to_v_over_root_two() 
         .any(|f| f64_of(&f["value"]) == 0.0));
 }
 
-#[test]
-fn a_blended_right_angle_bottoms_out_at_v_cos_45_in_the_joint_csv() {
-    // a → b → c: 200 mm along x, 200 mm along y at v = 100 mm/s, blend 10 mm at b, window
-    // 2h = 2r/v = 0.2 s. Derivation: inside the window the velocity is
-    // v(σ) = v_in + (v_out − v_in)·σ/(2h), σ ∈ [0, 2h], with v_in = v·x̂ and v_out = v·ŷ, so
-    // |v(σ)|² = v²·((1 − λ)² + λ²), λ = σ/(2h): smallest at λ = ½, where it is v²/2, i.e. the
-    // speed is v·cos 45° = 70.711 mm/s (generally v·cos(θ/2) for a turn θ); at the window's
-    // edges it is v. The sample at b is the window's middle. Outside the window (and away
-    // from the rests at a and c) the TCP cruises at v.
-    // source: the velocity of a parabolic blend (a velocity changing linearly in time,
-    // derived here); trapezoidal profile (Biagiotti & Melchiorri 2008, §3.2.2; from memory)
+/// Path distance (mm) and commanded TCP speed (mm/s) of every sample of a → b → c (200 mm
+/// along x, 200 mm along y) at `speed` mm/s with `tcp_acceleration` mm/s² and a blend of
+/// `blend` mm at b, read from the `--joints` CSV.
+fn right_angle_speeds(speed: f64, tcp_acceleration: f64, blend: f64) -> Vec<(f64, f64)> {
     let yaml = line_path(
-        "tcp_acceleration: 500",
-        "  - {name: a, xyz: [-150, -100, 0], rpy: [180, 0, 0]}\n  - {name: b, xyz: [50, -100, 0], rpy: [180, 0, 0], blend: 10}\n  \
-         - {name: c, xyz: [50, 100, 0], rpy: [180, 0, 0]}\n",
+        &format!("tcp_acceleration: {tcp_acceleration}"),
+        &format!(
+            "  - {{name: a, xyz: [-150, -100, 0], rpy: [180, 0, 0], speed: {speed}}}\n  \
+             - {{name: b, xyz: [50, -100, 0], rpy: [180, 0, 0], speed: {speed}, blend: {blend}}}\n  \
+             - {{name: c, xyz: [50, 100, 0], rpy: [180, 0, 0], speed: {speed}}}\n"
+        ),
     );
     let (dir, file) = path_file(&yaml);
     let csv = dir.path().join("joints.csv");
@@ -119,33 +126,90 @@ fn a_blended_right_angle_bottoms_out_at_v_cos_45_in_the_joint_csv() {
     let header: Vec<&str> = rows.lines().next().unwrap().split(',').collect();
     let col = |name: &str| header.iter().position(|h| *h == name).unwrap();
     let (tcp, s_col) = (col("tcp_mm_s"), col("s_mm"));
-    let samples: Vec<(f64, f64)> = rows
-        .lines()
+    rows.lines()
         .skip(1)
         .map(|l| {
             let f: Vec<&str> = l.split(',').collect();
             (f[s_col].parse().unwrap(), f[tcp].parse().unwrap())
         })
-        .collect();
-    // Path distance runs along the straight segments: the window spans 190 … 210 mm.
-    let in_window: Vec<f64> = samples
+        .collect()
+}
+
+/// Speeds of the samples whose path distance lies in `range` (mm).
+fn speeds_in(samples: &[(f64, f64)], range: std::ops::RangeInclusive<f64>) -> Vec<f64> {
+    samples
         .iter()
-        .filter(|(s, _)| (190.0..=210.0).contains(s))
+        .filter(|(s, _)| range.contains(s))
         .map(|&(_, v)| v)
-        .collect();
+        .collect()
+}
+
+/// The 20 mm window of [`right_angle_speeds`] run at corner speed `v_c` (mm/s): the path
+/// distance runs along the straight segments, so the window spans 180 … 220 mm; its speeds
+/// never exceed `v_c` and bottom out at `v_c·cos 45°` (derived in the test below). The CSV
+/// writes speeds with four decimals: half a unit of the last one is the tolerance.
+fn assert_window_speeds(samples: &[(f64, f64)], v_c: f64) {
+    let in_window = speeds_in(samples, 180.0..=220.0);
     assert!(in_window.len() >= 5, "{samples:?}");
     let lowest = in_window.iter().cloned().fold(f64::INFINITY, f64::min);
-    // The CSV writes speeds with four decimals: half a unit of the last one is the tolerance.
     assert!(
-        (lowest - 100.0 * 45f64.to_radians().cos()).abs() <= 5e-5,
+        (lowest - v_c * 45f64.to_radians().cos()).abs() <= 5e-5,
         "{lowest}"
     );
-    assert!(in_window.iter().all(|&v| v <= 100.0 + 1e-9));
-    let cruising = samples
-        .iter()
-        .filter(|(s, _)| (50.0..=180.0).contains(s) || (220.0..=350.0).contains(s));
-    assert!(cruising.clone().count() > 100);
-    assert!(cruising.into_iter().all(|&(_, v)| (v - 100.0).abs() < 1e-9));
+    assert!(in_window.iter().all(|&s| s <= v_c + 5e-5), "{in_window:?}");
+}
+
+#[test]
+fn a_fast_blended_right_angle_slows_to_its_corner_speed_in_the_joint_csv() {
+    // a → b → c at v = 500 mm/s, a = 2000 mm/s², blend r = 20 mm at b (turn θ = 90°).
+    // Derivation: run at corner speed v_c on both sides, the blend's velocity changes
+    // linearly from v_c·x̂ to v_c·ŷ over 2h = 2r/v_c, so its acceleration is
+    // |v_c·ŷ − v_c·x̂|/(2h) = v_c·√2·v_c/(2r) = v_c²·sin(θ/2)/r (√2/2 = sin 45°). At cruise that
+    // is 500²·sin 45°/20 = 8839 mm/s² > a; equal to a for v_c = √(a·r/sin 45°) = 237.84 mm/s.
+    // Inside the window |v(σ)|² = v_c²·((1 − λ)² + λ²), λ = σ/(2h), smallest at λ = ½ (b's
+    // sample): v_c·cos 45° = 168.18 mm/s; at the window's edges v_c. Before the window the
+    // TCP reaches v from rest after v²/(2a) = 62.5 mm and brakes to v_c over
+    // (v² − v_c²)/(2a) = 48.4 mm, so it cruises at v from 62.5 to 131.6 mm.
+    // source: the velocity of a parabolic blend (a velocity changing linearly in time,
+    // derived here); constant-acceleration kinematics (common practice)
+    let (v, a, r) = (500.0f64, 2000.0f64, 20.0f64);
+    let v_c = (a * r / 45f64.to_radians().sin()).sqrt();
+    assert!((v_c - 237.84).abs() < 0.01, "{v_c}");
+    let samples = right_angle_speeds(v, a, r);
+    assert_window_speeds(&samples, v_c);
+    let cruising = speeds_in(&samples, 70.0..=125.0);
+    assert!(cruising.len() > 20);
+    assert!(
+        cruising.iter().all(|&s| (s - v).abs() < 1e-9),
+        "{cruising:?}"
+    );
+    // Braking towards the window: between cruise and v_c, never below v_c.
+    let braking = speeds_in(&samples, 135.0..=179.0);
+    assert!(
+        braking.iter().all(|&s| s >= v_c - 5e-5 && s < v),
+        "{braking:?}"
+    );
+}
+
+#[test]
+fn a_slow_blended_right_angle_keeps_the_cruise_speed_through_the_window() {
+    // The same corner at v = 10 mm/s: at cruise the blend needs v²·sin 45°/r = 3.5 mm/s²,
+    // far below a = 2000 mm/s², so the corner speed is v itself and the window's middle
+    // runs at v·cos 45° = 7.0711 mm/s, its edges and the lines outside at v.
+    // source: the velocity of a parabolic blend (derived in the test above); the corner speed
+    // v_c = min(v, √(a·r/sin(θ/2))) of src/motion/corner.rs
+    let (v, a, r) = (10.0f64, 2000.0f64, 20.0f64);
+    let samples = right_angle_speeds(v, a, r);
+    assert_window_speeds(&samples, v);
+    let cruising: Vec<f64> = speeds_in(&samples, 1.0..=179.0)
+        .into_iter()
+        .chain(speeds_in(&samples, 221.0..=399.0))
+        .collect();
+    assert!(cruising.len() > 100);
+    assert!(
+        cruising.iter().all(|&s| (s - v).abs() < 1e-9),
+        "{cruising:?}"
+    );
 }
 
 /// The roll tests' start: arm in its vertical plane, wrist bent 45°, j6 near zero; the tool

@@ -21,8 +21,11 @@
 //!   both ends of a segment never overlap (then the window is never cut either);
 //! - rounded down to 0.1 mm ([`MIN_BLEND`]), and none where that leaves less;
 //! - at a process corner only where the blend's lowest speed stays within the process speed
-//!   tolerance of the faster of the two programmed speeds: `cos(θ/2) ≥ 1 − tolerance`
-//!   for equal speeds, about 36° for the default 5 %. Off process any turn qualifies.
+//!   tolerance of the faster of the two programmed speeds: `k·cos(θ/2) ≥ 1 − tolerance`
+//!   for equal speeds, about 36° for the default 5 % when the corner keeps its cruise speed
+//!   (`k` is the share of the cruise rates the corner runs at, [`Plan::corner_scale`]: below
+//!   1 where the blend's acceleration at cruise would exceed the job's limits). Off process
+//!   any turn qualifies.
 //!
 //! `fix` keeps the proposed blends only when the re-check is better (see [`super::fix`]).
 
@@ -104,9 +107,10 @@ fn cruise_velocity(seg: &Segment) -> Option<Vector3<f64>> {
     moves.then(|| (seg.end.translation.vector - seg.start.translation.vector) / seg.duration)
 }
 
-/// The blend proposed at the waypoint between `a` and the following `b`, if the rule of the
-/// module doc gives one; `tolerance` is the job's process speed tolerance (a share).
-fn propose(a: &Segment, b: &Segment, tolerance: f64) -> Option<BlendProposal> {
+/// The blend proposed at the waypoint between `a` and the following `b` of `plan`, if the
+/// rule of the module doc gives one; `tolerance` is the job's process speed tolerance (a
+/// share).
+fn propose(plan: &Plan, a: &Segment, b: &Segment, tolerance: f64) -> Option<BlendProposal> {
     let (v_in, v_out) = (cruise_velocity(a)?, cruise_velocity(b)?);
     if a.process != b.process {
         // The process starts or ends here: at rest.
@@ -132,7 +136,7 @@ fn propose(a: &Segment, b: &Segment, tolerance: f64) -> Option<BlendProposal> {
     if radius < MIN_BLEND {
         return None;
     }
-    let lowest = lowest_speed(&v_in, &v_out);
+    let lowest = lowest_speed(&v_in, &v_out) * plan.corner_scale(a, b, radius);
     let reference = if process {
         a.speed.max(b.speed)
     } else {
@@ -162,7 +166,7 @@ pub fn proposals(job: &Job, plan: &Plan) -> Vec<BlendProposal> {
     for seg in plan.segments() {
         if let Some(a) = &before {
             if plan.blend_radius(seg.index) <= 0.0 {
-                out.extend(propose(a, &seg, tolerance));
+                out.extend(propose(plan, a, &seg, tolerance));
             }
         }
         before = Some(seg);
@@ -255,6 +259,35 @@ mod tests {
         assert_eq!(p[0].bound, RadiusBound::ProcessCap);
         assert!((p[0].turn.to_degrees() - 20.0).abs() < 1e-9);
         assert!((p[0].lowest_speed_share - 10f64.to_radians().cos()).abs() < 1e-12);
+    }
+
+    #[test]
+    fn a_fast_process_corner_that_must_slow_keeps_its_stop() {
+        // The 20° process corner above at the default 2000 mm/s², r = 5 mm: at cruise its
+        // blend accelerates by v²·sin 10°/r, which reaches a at v_c = √(a·r/sin 10°) =
+        // 240.0 mm/s. At 200 mm/s the corner keeps that speed and dips to cos 10° (within
+        // 5 %); at 300 mm/s it must slow to 240 mm/s, 0.80·cos 10° = 0.79 of the programmed
+        // speed, so it keeps its stop.
+        // source: the corner speed of src/motion/corner.rs (derived there); v·cos(θ/2)
+        // (module doc); common practice (the 5 % tolerance)
+        let v_c = (2.0 * 0.005 / 10f64.to_radians().sin()).sqrt();
+        assert!((v_c - 0.240).abs() < 1e-3, "{v_c}");
+        let (c20, s20) = (
+            20f64.to_radians().cos() * 100.0,
+            20f64.to_radians().sin() * 100.0,
+        );
+        let at = |speed: f64| {
+            proposed(&format!(
+                "  - {{name: a, xyz: [0, 0, 0], rpy: [180, 0, 0]}}\n\
+                 \x20 - {{name: b, xyz: [100, 0, 0], rpy: [180, 0, 0], process: true, speed: {speed}}}\n\
+                 \x20 - {{name: c, xyz: [{}, {s20}, 0], rpy: [180, 0, 0], process: true, speed: {speed}}}\n",
+                100.0 + c20
+            ))
+        };
+        let p = at(200.0);
+        assert_eq!(p.len(), 1, "{p:?}");
+        assert!((p[0].lowest_speed_share - 10f64.to_radians().cos()).abs() < 1e-12);
+        assert!(at(300.0).is_empty());
     }
 
     #[test]

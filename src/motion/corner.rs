@@ -18,6 +18,33 @@
 //!   `w_out`: no step in angular velocity at either end, and a smooth change between.
 //!
 //! The blend needs no state and no integration: every sample is evaluated in closed form.
+//!
+//! ## Corner speed
+//!
+//! At the cruise rates the blend's acceleration is `(v_out − v_in)/(2h)` with
+//! `h = h₁ = r/max(|v_in|, |v_out|)` (the window at cruise, [`Window::new`]), which for a
+//! tight fast corner far exceeds what the controller allows. A controller slows such a
+//! corner: the blend runs with both sides' rates scaled by one factor `k ∈ (0, 1]`
+//! ([`Corner::slowed`]), velocities `k·v_in`, `k·v_out` (and `k·w_in`, `k·w_out`) and half
+//! window `h₁/k`. The curve is the same (the control points `P ∓ v·h` do not depend on `k`),
+//! so the radius and the tangency hold for every `k`; only the time it takes changes. Its
+//! TCP acceleration becomes `k·|v_out − v_in|/(2h₁/k) = k²·|v_out − v_in|/(2h₁)` and its tool
+//! angular acceleration `k²·|w_out − w_in|/(2h₁)`, so the largest `k` within the limits
+//! `a_max` (m/s²) and `α_max` (rad/s²) is
+//!
+//! `k_acc = min(1, √(2h₁·a_max / |v_out − v_in|), √(2h₁·α_max / |w_out − w_in|))`.
+//!
+//! For equal speeds `v` turning by `θ`, `|v_out − v_in| = 2v·sin(θ/2)` and `h₁ = r/v`, so the
+//! corner speed `v_c = k·v` satisfies `v_c²·sin(θ/2)/r = a_max`: `v_c = √(a_max·r/sin(θ/2))`.
+//! With unequal speeds the faster side runs at `v_c = k·max(|v_in|, |v_out|)` and the slower
+//! in proportion (the ratio of the programmed speeds is kept through the corner).
+//!
+//! The segments on either side ramp to and from the corner's rates ([`super::SegmentTiming`]).
+//! Each corner may count on half of each neighbouring segment for its ramp, where a ramp
+//! from rest reaches `v² = 2·a·(L/2) = a·L` (`a` the segment's acceleration along its line,
+//! `L` its length): `k ≤ √(a·L)/v` on each side ([`corner_scale`]). Two corners sharing a
+//! segment then never ask it for more than its length's worth of speed change; a shorter
+//! ramp left between two windows may still be overdriven ([`super::Ramp::overdriven`]).
 
 use crate::rotation;
 use nalgebra::{Isometry3, Translation3, UnitQuaternion, Vector3};
@@ -34,12 +61,16 @@ pub struct Corner {
     w_out: Vector3<f64>,
     /// Half the blend window (s), > 0.
     half: f64,
+    /// Rates through the corner over the cruise rates, in (0, 1] (see the module doc).
+    scale: f64,
 }
 
 /// The size of a blend window, and whether the radius asked for had to shrink.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct Window {
-    /// Half the window (s); 0 for no blend.
+    /// Half the window (s); 0 for no blend. [`Window::new`] gives it at the cruise rates;
+    /// the plan stores the half of the corner as run ([`Corner::slowed`]), longer where the
+    /// corner slows.
     pub half: f64,
     /// Distance from the corner at which the blend leaves the incoming line (m).
     pub radius_in: f64,
@@ -105,7 +136,40 @@ impl Corner {
             w_in,
             w_out,
             half,
+            scale: 1.0,
         }
+    }
+
+    /// The same corner run with every rate scaled by `scale` (clamped into (0, 1]; a
+    /// non-finite or non-positive value leaves the corner as it is): the same curve in
+    /// `1/scale` times the time, velocities `scale` times, accelerations `scale²` times. Scales
+    /// compose.
+    pub fn slowed(self, scale: f64) -> Corner {
+        if !(scale.is_finite() && scale > 0.0) {
+            return self;
+        }
+        let k = scale.min(1.0);
+        Corner {
+            v_in: self.v_in * k,
+            v_out: self.v_out * k,
+            w_in: self.w_in * k,
+            w_out: self.w_out * k,
+            half: self.half / k,
+            scale: self.scale * k,
+            ..self
+        }
+    }
+
+    /// Rates through the corner over the cruise rates the corner was built with, in (0, 1]:
+    /// 1 unless [`Corner::slowed`].
+    pub fn scale(&self) -> f64 {
+        self.scale
+    }
+
+    /// Tool angular acceleration inside the window (rad/s², base frame, the second
+    /// derivative of the rotation vector `φ`): `(w_out − w_in)/(2h)`.
+    pub fn angular_acceleration(&self) -> Vector3<f64> {
+        (self.w_out - self.w_in) / (2.0 * self.half)
     }
 
     /// Half the blend window (s).
@@ -174,6 +238,48 @@ impl Corner {
     }
 }
 
+/// The largest rate scale `k ∈ (0, 1]` for `corner` (built at the cruise rates) that keeps
+/// its TCP acceleration within `tcp_accel` (m/s²) and its tool angular acceleration within
+/// `tool_accel` (rad/s²), and that the neighbouring segments can reach: `reach_in` /
+/// `reach_out` are the incoming / outgoing segment's [`reach_scale`]. See the module doc for
+/// the derivation. A corner whose velocity and angular velocity do not change (a straight
+/// continuation) is bound by the reach only; a non-positive or NaN limit bounds nothing
+/// (the caller validates limits), and the result is never below the smallest positive bound.
+pub fn corner_scale(
+    corner: &Corner,
+    tcp_accel: f64,
+    tool_accel: f64,
+    reach_in: f64,
+    reach_out: f64,
+) -> f64 {
+    let two_h = 2.0 * corner.half;
+    let bound = |limit: f64, change: f64| {
+        if limit > 0.0 && change > 0.0 {
+            (two_h * limit / change).sqrt()
+        } else {
+            f64::INFINITY
+        }
+    };
+    [
+        bound(tcp_accel, (corner.v_out - corner.v_in).norm()),
+        bound(tool_accel, (corner.w_out - corner.w_in).norm()),
+        reach_in,
+        reach_out,
+    ]
+    .into_iter()
+    .filter(|k| *k > 0.0)
+    .fold(1.0, f64::min)
+}
+
+/// The largest rate scale a segment reaches from rest within half of its length: with `u`
+/// (the segment parameter, length 1) accelerating by `u_accel` (1/s²) and the cruise rate
+/// `1/cruise` (`cruise` in s), `(k/cruise)² ≤ 2·u_accel·½` gives `k ≤ cruise·√u_accel`.
+/// Infinite for an unbounded acceleration; 0 only for a zero input (then
+/// [`corner_scale`] ignores it).
+pub fn reach_scale(u_accel: f64, cruise: f64) -> f64 {
+    cruise * u_accel.sqrt()
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -189,6 +295,22 @@ mod tests {
             (Vector3::y() * v, Vector3::zeros()),
             w.half,
         )
+    }
+
+    /// The window of a [`right_angle`] corner of radius `r` begins `r` before the corner
+    /// along x and ends `r` after it along y. source: common practice (the blend's control
+    /// points `P ∓ v·h`, module doc)
+    fn assert_ends_on_the_lines(c: &Corner, r: f64) {
+        assert_relative_eq!(
+            c.pose_at(-c.half()).translation.vector,
+            Vector3::new(-r, 0.0, 0.0),
+            epsilon = 1e-15
+        );
+        assert_relative_eq!(
+            c.pose_at(c.half()).translation.vector,
+            Vector3::new(0.0, r, 0.0),
+            epsilon = 1e-15
+        );
     }
 
     #[test]
@@ -219,16 +341,7 @@ mod tests {
             let d = c.pose_at(tau).translation.vector.norm();
             assert!(d <= r * (1.0 + 1e-12), "{d} > {r}");
         }
-        assert_relative_eq!(
-            c.pose_at(-c.half()).translation.vector,
-            Vector3::new(-r, 0.0, 0.0),
-            epsilon = 1e-15
-        );
-        assert_relative_eq!(
-            c.pose_at(c.half()).translation.vector,
-            Vector3::new(0.0, r, 0.0),
-            epsilon = 1e-15
-        );
+        assert_ends_on_the_lines(&c, r);
     }
 
     #[test]
@@ -313,6 +426,77 @@ mod tests {
             assert!((now - prev).norm() < 0.01 * total, "step at {tau}");
             prev = now;
         }
+    }
+
+    #[test]
+    fn a_fast_right_angle_slows_to_the_corner_speed_the_tcp_limit_allows() {
+        // 90° at v = 0.5 m/s, r = 20 mm, a = 2 m/s²: at cruise the blend accelerates by
+        // v²·sin 45°/r = 8.84 m/s²; the corner speed v_c = √(a·r/sin 45°) = 0.23784 m/s
+        // brings it to a. Slowed, the window lasts 2r/v_c, the speed in its middle is
+        // v_c·cos 45°, and its ends still lie r along each line.
+        // source: |v_out − v_in| = 2v·sin(θ/2) for equal speeds (common practice); the
+        // acceleration (v_out − v_in)/(2h) of a linear velocity change (module doc)
+        let (v, r, a) = (0.5, 0.02, 2.0);
+        let c = right_angle(v, r);
+        assert_relative_eq!(
+            c.acceleration().norm(),
+            v * v * 45f64.to_radians().sin() / r,
+            epsilon = 1e-12
+        );
+        let v_c = (a * r / 45f64.to_radians().sin()).sqrt();
+        assert_relative_eq!(v_c, 0.23784, epsilon = 1e-5);
+        let k = corner_scale(&c, a, f64::INFINITY, f64::INFINITY, f64::INFINITY);
+        assert_relative_eq!(k * v, v_c, epsilon = 1e-12);
+        let s = c.slowed(k);
+        assert_relative_eq!(s.scale(), k, epsilon = 1e-15);
+        assert_relative_eq!(s.acceleration().norm(), a, epsilon = 1e-12);
+        assert_relative_eq!(s.half(), r / v_c, epsilon = 1e-12);
+        assert_relative_eq!(
+            s.velocity_at(0.0).norm(),
+            v_c * 45f64.to_radians().cos(),
+            epsilon = 1e-12
+        );
+        assert_ends_on_the_lines(&s, r);
+        // Slow enough already: k = 1. A reach bound below the acceleration's wins; a zero or
+        // NaN bound is ignored.
+        // source: common practice (the smallest of the bounds holds them all)
+        let slow = right_angle(0.01, r);
+        assert_eq!(
+            corner_scale(&slow, a, 1.0, f64::INFINITY, f64::INFINITY),
+            1.0
+        );
+        assert_eq!(corner_scale(&c, a, f64::INFINITY, 0.3, 0.4), 0.3);
+        assert_relative_eq!(
+            corner_scale(&c, a, f64::NAN, 0.0, f64::NAN),
+            k,
+            epsilon = 1e-15
+        );
+    }
+
+    #[test]
+    fn a_fast_reorientation_in_a_corner_is_slowed_by_the_tool_limit() {
+        // Straight on at 0.1 m/s (no TCP acceleration), the tool's angular velocity changing
+        // from 0 to 1 rad/s about z over a window of 2h₁ = 0.2 s: 5 rad/s² at cruise. With
+        // α = 0.5 rad/s², k² = 2h₁·α/|Δw| = 0.2·0.5/1 = 0.1, and the slowed corner's angular
+        // acceleration k·|Δw|/(2h₁/k) is α.
+        // source: the angular part of the corner speed (module doc, derived there)
+        let c = Corner::new(
+            Isometry3::identity(),
+            (Vector3::x() * 0.1, Vector3::zeros()),
+            (Vector3::x() * 0.1, Vector3::z()),
+            0.1,
+        );
+        assert_relative_eq!(c.angular_acceleration().norm(), 5.0, epsilon = 1e-12);
+        let k = corner_scale(&c, 2.0, 0.5, f64::INFINITY, f64::INFINITY);
+        assert_relative_eq!(k, 0.1f64.sqrt(), epsilon = 1e-12);
+        let s = c.slowed(k);
+        assert_relative_eq!(s.angular_acceleration().norm(), 0.5, epsilon = 1e-12);
+        assert_relative_eq!(s.acceleration().norm(), 0.0, epsilon = 1e-15);
+        // The same rotation at the window's end: slowing changes time, not the path.
+        assert!(
+            rotation::angle_between(&s.pose_at(s.half()).rotation, &c.pose_at(c.half()).rotation)
+                < 1e-14
+        );
     }
 
     #[test]

@@ -11,7 +11,7 @@ mod ramp;
 mod sync;
 mod timing;
 
-pub use corner::{Corner, Window};
+pub use corner::{corner_scale, reach_scale, Corner, Window};
 pub use ramp::Ramp;
 pub use sync::SyncedMove;
 pub use timing::{u_acceleration, SegmentTiming};

@@ -4,9 +4,11 @@
 //!
 //! The segment's clock starts at the nominal time of its start waypoint: the stop there,
 //! or the middle of the blend window around it (the corner time of the unblended path).
-//! Inside a blend window the segment runs at its cruise rate `1/D` (`D` = the time the
-//! segment takes at the programmed speed), which is what the blend's geometry assumes;
-//! the ramp covers the rest, starting at cruise after a blend and from rest after a stop.
+//! Inside a blend window the segment runs at the corner's rate `k/D` (`D` = the time the
+//! segment takes at the programmed speed, `k` = [`Corner::scale`], 1 unless the corner's
+//! accelerations slowed it), which is what the blend's geometry assumes; the ramp covers the
+//! rest, starting at the corner's rate after a blend and from rest after a stop, and ending
+//! likewise.
 
 use super::{Corner, Ramp};
 use nalgebra::Isometry3;
@@ -35,6 +37,9 @@ pub struct SegmentTiming {
     /// Blends around the start and end waypoints, if any.
     blend_in: Option<Corner>,
     blend_out: Option<Corner>,
+    /// Rates of `u` (1/s) inside the windows in and out: the corners' rates (0 without).
+    rate_in: f64,
+    rate_out: f64,
     /// Profile of `u` over `[u_a, u_b]`.
     ramp: Ramp,
     u_a: f64,
@@ -44,8 +49,10 @@ pub struct SegmentTiming {
 impl SegmentTiming {
     /// Timing of a segment of `length` (m) that takes `cruise` (s) at its programmed speed,
     /// with `u` accelerating by at most `u_accel` (1/s², see [`u_acceleration`]), and blends
-    /// `blend_in` / `blend_out` (their half windows must not exceed `cruise / 2`, as
-    /// [`super::Window`] ensures). A segment without blends starts and ends at rest.
+    /// `blend_in` / `blend_out` (each covering at most half of the segment, as
+    /// [`super::Window`] ensures). Inside a window `u` runs at the corner's rate
+    /// `scale/cruise` ([`Corner::scale`]); the ramp between the windows starts and ends at
+    /// those rates, and a segment without blends starts and ends at rest.
     pub fn new(
         cruise: f64,
         length: f64,
@@ -54,24 +61,36 @@ impl SegmentTiming {
         blend_out: Option<Corner>,
     ) -> SegmentTiming {
         let rate = if cruise > 0.0 { 1.0 / cruise } else { 0.0 };
+        let rate_in = blend_in.map_or(0.0, |c| c.scale() * rate);
+        let rate_out = blend_out.map_or(0.0, |c| c.scale() * rate);
         let h_in = blend_in.map_or(0.0, |c| c.half());
         let h_out = blend_out.map_or(0.0, |c| c.half());
         let (u_a, u_b) = if cruise > 0.0 {
-            let a = (h_in * rate).min(0.5);
-            (a, (1.0 - h_out * rate).max(a))
+            let a = (h_in * rate_in).min(0.5);
+            (a, (1.0 - h_out * rate_out).max(a))
         } else {
             (0.0, 1.0)
         };
-        let v0 = if blend_in.is_some() { rate } else { 0.0 };
-        let v1 = if blend_out.is_some() { rate } else { 0.0 };
         SegmentTiming {
             cruise,
             length,
             blend_in,
             blend_out,
-            ramp: Ramp::new(u_b - u_a, v0, rate, v1, u_accel),
+            rate_in,
+            rate_out,
+            ramp: Ramp::new(u_b - u_a, rate_in, rate, rate_out, u_accel),
             u_a,
             u_b,
+        }
+    }
+
+    /// Time (s) from the corner's middle to parameter distance `du` into its window at
+    /// `rate` (1/s); 0 for a zero rate (no window).
+    fn window_time(du: f64, rate: f64) -> f64 {
+        if rate > 0.0 {
+            du / rate
+        } else {
+            0.0
         }
     }
 
@@ -111,12 +130,12 @@ impl SegmentTiming {
         let u = u.clamp(0.0, 1.0);
         let (h_in, _) = self.halves();
         if u < self.u_a {
-            return u * self.cruise;
+            return Self::window_time(u, self.rate_in);
         }
         if u <= self.u_b {
             return h_in + self.ramp.t_at(u - self.u_a);
         }
-        h_in + self.ramp.duration() + (u - self.u_b) * self.cruise
+        h_in + self.ramp.duration() + Self::window_time(u - self.u_b, self.rate_out)
     }
 
     /// The blended pose at parameter `u`, when `u` lies in a blend window; `None` where the
@@ -124,12 +143,12 @@ impl SegmentTiming {
     pub fn blended_pose(&self, u: f64) -> Option<Isometry3<f64>> {
         if let Some(c) = &self.blend_in {
             if u < self.u_a {
-                return Some(c.pose_at(u * self.cruise));
+                return Some(c.pose_at(Self::window_time(u, self.rate_in)));
             }
         }
         if let Some(c) = &self.blend_out {
             if u > self.u_b {
-                return Some(c.pose_at((u - 1.0) * self.cruise));
+                return Some(c.pose_at(-Self::window_time(1.0 - u, self.rate_out)));
             }
         }
         None
@@ -141,12 +160,14 @@ impl SegmentTiming {
         let u = u.clamp(0.0, 1.0);
         if let Some(c) = &self.blend_in {
             if u < self.u_a {
-                return c.velocity_at(u * self.cruise).norm();
+                return c.velocity_at(Self::window_time(u, self.rate_in)).norm();
             }
         }
         if let Some(c) = &self.blend_out {
             if u > self.u_b {
-                return c.velocity_at((u - 1.0) * self.cruise).norm();
+                return c
+                    .velocity_at(-Self::window_time(1.0 - u, self.rate_out))
+                    .norm();
             }
         }
         let (h_in, _) = self.halves();
@@ -175,39 +196,62 @@ mod tests {
         assert!(t.blended_pose(0.99).is_none());
     }
 
-    #[test]
-    fn blended_end_keeps_cruise_into_the_window() {
-        // The same segment with a 10 mm blend at its end (next segment equally fast): the
-        // window's half is 0.1 s, so the ramp covers 0.29 m from rest to cruise
-        // (0.29/0.1 + 0.1/(2·0.5) = 3.0 s) and the segment ends 0.1 s later: 3.1 s.
-        // source: common practice (kinematics of constant acceleration)
+    /// 0.3 m at 0.1 m/s (D = 3 s) with a = 0.5 m/s², ending in a 10 mm right-angle blend
+    /// into an equally fast segment, run at `scale` times the cruise rates.
+    fn ending_in_right_angle(scale: f64) -> SegmentTiming {
         let w = Window::new(0.01, 0.3, 3.0, 0.3, 3.0);
         let corner = Corner::new(
             nalgebra::Isometry3::from_parts(Translation3::new(0.3, 0.0, 0.0), Default::default()),
             (Vector3::x() * 0.1, Vector3::zeros()),
             (Vector3::y() * 0.1, Vector3::zeros()),
             w.half,
-        );
-        let t = SegmentTiming::new(
-            3.0,
-            0.3,
-            u_acceleration(0.3, 0.0, 0.5, 1.0),
-            None,
-            Some(corner),
-        );
-        assert_relative_eq!(t.duration(), 3.1, epsilon = 1e-12);
-        // Continuous time across the window edge, and the speed of the blend there.
+        )
+        .slowed(scale);
+        let u_accel = u_acceleration(0.3, 0.0, 0.5, 1.0);
+        SegmentTiming::new(3.0, 0.3, u_accel, None, Some(corner))
+    }
+
+    /// No step in time across the window edge of [`ending_in_right_angle`] (10 mm before the
+    /// end), and the TCP speed `speed` (m/s) on both sides. source: common practice
+    fn assert_window_edge(t: &SegmentTiming, speed: f64) {
         let edge = 1.0 - 0.01 / 0.3;
         assert_relative_eq!(
             t.time_at(edge - 1e-12),
             t.time_at(edge + 1e-12),
             epsilon = 1e-9
         );
-        assert_relative_eq!(t.tcp_speed(edge - 1e-9), 0.1, epsilon = 1e-9);
-        assert_relative_eq!(t.tcp_speed(edge + 1e-9), 0.1, epsilon = 1e-6);
+        assert_relative_eq!(t.tcp_speed(edge - 1e-9), speed, epsilon = 1e-6);
+        assert_relative_eq!(t.tcp_speed(edge + 1e-9), speed, epsilon = 1e-6);
+    }
+
+    #[test]
+    fn blended_end_keeps_cruise_into_the_window() {
+        // The same segment with a 10 mm blend at its end (next segment equally fast): the
+        // window's half is 0.1 s, so the ramp covers 0.29 m from rest to cruise
+        // (0.29/0.1 + 0.1/(2·0.5) = 3.0 s) and the segment ends 0.1 s later: 3.1 s.
+        // source: common practice (kinematics of constant acceleration)
+        let t = ending_in_right_angle(1.0);
+        assert_relative_eq!(t.duration(), 3.1, epsilon = 1e-12);
+        // Continuous time across the window edge, and the speed of the blend there.
+        assert_window_edge(&t, 0.1);
         // The last sample stands at the blend's middle, not at the corner.
         let mid = t.blended_pose(1.0).unwrap().translation.vector;
         assert!((mid - Vector3::new(0.3, 0.0, 0.0)).norm() > 1e-3);
+    }
+
+    #[test]
+    fn a_slowed_corner_is_entered_at_its_corner_speed() {
+        // The segment above ending in the same corner slowed to half its rates (v_c = 50 mm/s):
+        // the window's half is r/v_c = 0.2 s, and the ramp covers 0.29 m from rest to cruise
+        // and down to v_c: L/v + v/(2a) + (v − v_c)²/(2a·v) = 2.9 + 0.1 + 0.05²/0.1 = 3.025 s,
+        // 3.225 s with the half window. The speed at the window's edge is v_c from both sides.
+        // source: trapezoidal profile (Biagiotti & Melchiorri 2008, §3.2.2; from memory), its
+        // deceleration to v_c from constant-acceleration kinematics (common practice)
+        let t = ending_in_right_angle(0.5);
+        assert_relative_eq!(t.duration(), 3.225, epsilon = 1e-12);
+        assert_window_edge(&t, 0.05);
+        // The blend's middle, reached at the segment's end: v_c·cos 45°.
+        assert_relative_eq!(t.tcp_speed(1.0), 0.05 / 2f64.sqrt(), epsilon = 1e-12);
     }
 
     #[test]
