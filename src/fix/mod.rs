@@ -283,7 +283,7 @@ pub fn fix(job: &Job, out: &Path, options: &CheckOptions) -> Result<FixReport> {
     }
 
     // Blends last: they reshape the timing around corners only, and the speeds above stand
-    // (a blend runs at the cruise rate, which the speed proposals bound).
+    // (a blend runs at most at the cruise rate, which the speed proposals bound).
     let amended_so_far = !changes.is_empty();
     let (blends, blend_note) =
         try_blends(&mut amended, &before, amended_so_far, options, &mut changes)?;
