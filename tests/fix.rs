@@ -564,3 +564,67 @@ fn fix_does_not_apply_a_tool_spin_that_drives_the_tool_into_the_cell() {
         "{stdout}"
     );
 }
+
+#[test]
+fn fix_leaves_out_a_blend_whose_cut_corner_runs_into_the_cell() {
+    // The bead of the tests above (no kink), with a 1 mm ball on the TCP and a 15.2 mm knob
+    // inside the travel corner at `leave`. There the path turns from straight up,
+    // d_in = (0, 0, 1), toward `last`, d_out = (0.3328, 0.7898, 0.5152) (from the waypoints:
+    // leave = (−32.297, 73.348, 50), last = (0, 150, 100) mm), a turn of θ = 58.99°. fix
+    // proposes the 20 mm travel cap there; at 100 mm/s (v_c = v: 2h₁·a/|Δv| =
+    // 0.4·500/98.47 > 1) the parabolic blend's middle lies |Δv|·h/4 = 98.47·0.2/4 = 4.92 mm
+    // from the corner along the inner bisector u = (d_out − d_in)/|d_out − d_in|. The knob
+    // sits 20 mm from the corner along u: the sharp path passes it at 20·sin(60.5°) =
+    // 17.41 mm from its centre (a clearance of 17.41 − 15.2 − 1 = 1.21 mm, a warning), the
+    // blended one at 20 − 4.92 = 15.08 mm (1.12 mm deep: a collision; the parabola's radius
+    // of curvature at its middle, v²/|a| = 100²/246 = 40.6 mm, is larger than 15.08 mm, so
+    // the middle is its nearest point). So the full set of blends is refused, the blend at
+    // `leave` is left out, and the bead's blends are kept.
+    // source: the blend geometry of src/motion/corner.rs (parabola A + v_in·σ + Δv·σ²/(4h));
+    // point-to-line distance (common practice)
+    let (yaml, _) = polyline_bead(false);
+    let yaml = yaml.replace(
+        "tool: {xyz: [0, 0, 180], rpy: [0, 0, 0]}",
+        "cell: knob.yaml\ntool: {xyz: [0, 0, 180], rpy: [0, 0, 0], geometry: [{name: ball, sphere: {radius: 1}, xyz: [0, 0, 180]}]}",
+    );
+    let (dir, file) = path_file(&yaml);
+    std::fs::write(
+        dir.path().join("knob.yaml"),
+        "units: {length: mm, angle: deg}\nbodies:\n  - {name: knob, frame: work, sphere: {radius: 15.2}, xyz: [-25.5374, 89.3903, 40.1532]}\n",
+    )
+    .unwrap();
+    let (code0, before) = check_json(&file, &[]);
+    assert_eq!(code0, 0, "{before:#}");
+    assert!(findings(&before, "collision").is_empty(), "{before:#}");
+    let near: Vec<_> = findings(&before, "clearance")
+        .into_iter()
+        .filter(|f| f["bodies"][1] == "knob" || f["bodies"][0] == "knob")
+        .collect();
+    assert!(!near.is_empty(), "{before:#}");
+    for f in &near {
+        assert!((f64_of(&f["value"]) - 1.21).abs() < 0.05, "{f:#}");
+    }
+    // The blend at `leave` alone drives the ball into the knob (the scenario is real).
+    let blended = yaml.replace("name: leave, xyz: [", "name: leave, blend: 20, xyz: [");
+    assert_ne!(blended, yaml);
+    let (_d2, file2) = path_file(&blended);
+    std::fs::copy(dir.path().join("knob.yaml"), _d2.path().join("knob.yaml")).unwrap();
+    let (code2, hit) = check_json(&file2, &[]);
+    assert_eq!(code2, 1, "{hit:#}");
+    let depth = -f64_of(&findings(&hit, "collision")[0]["value"]);
+    assert!((depth - 1.12).abs() < 0.05, "{depth}");
+
+    let (out, r, _stdout) = fix_into(&file, dir.path(), "fixed");
+    let names: Vec<String> = blends_of(&r).into_iter().map(|(n, _)| n).collect();
+    let want: Vec<String> = (1..=12).map(|i| format!("p{i}")).collect();
+    assert_eq!(names, want, "{r:#}");
+    let note = r["blend_note"].as_str().unwrap_or_default();
+    assert!(note.contains("left out at leave"), "{r:#}");
+    let (code1, after) = check_json(&out, &[]);
+    assert_eq!(code1, 0, "{after:#}");
+    assert!(findings(&after, "collision").is_empty(), "{after:#}");
+    assert!(
+        f64_of(&after["summary"]["warnings"]) < f64_of(&before["summary"]["warnings"]),
+        "{after:#}"
+    );
+}
