@@ -273,6 +273,10 @@ impl SampleSink for CellWatch<'_> {
     }
 }
 
+/// Smallest collision depth (m) the message states as a number: half the last digit shown
+/// (0.01 mm).
+const SHOWN_DEPTH: f64 = 0.005e-3;
+
 /// The finding of a closed run of `model`'s pair, with its message.
 fn finding(model: &CellModel, job: &Job, run: &Run<(Kind, usize), Approach>) -> Finding {
     let ((kind, pair), near) = (run.key, run.worst);
@@ -285,12 +289,20 @@ fn finding(model: &CellModel, job: &Job, run: &Run<(Kind, usize), Approach>) -> 
     } else {
         ""
     };
+    // A depth that prints as 0.00 mm is a touch, or a body crossing an STL surface, whose
+    // crossing depth reads 0 (see `cell::surface`): "up to 0.00 mm deep" would read as no
+    // contact at all.
+    let how = if -near.distance < SHOWN_DEPTH {
+        " (they touch, or one crosses the other's mesh surface, where no depth is measured)"
+            .to_string()
+    } else {
+        format!(", up to {} deep", mm(-near.distance))
+    };
     let message = match kind {
         Kind::Collision => format!(
-            "{a} and {b} collide between {from} and {to}, up to {} deep{found}: move the part or \
+            "{a} and {b} collide between {from} and {to}{how}{found}: move the part or \
              fixture, change the tool orientation or the approach, or list the pair under \
-             allowed_contacts in the cell file if the contact is intended",
-            mm(-near.distance)
+             allowed_contacts in the cell file if the contact is intended"
         ),
         _ => format!(
             "{a} comes within {} of {b} between {from} and {to} (clearance {}){found}: \

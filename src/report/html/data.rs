@@ -51,6 +51,8 @@ pub struct Trace {
     last: Option<TracePoint>,
     /// Smallest distance between kept points (mm), waypoints aside.
     tol: f64,
+    /// `tol` as made: thinning doubles `tol`, [`Trace::clear`] puts this back.
+    first_tol: f64,
     cap: usize,
 }
 
@@ -58,16 +60,25 @@ impl Trace {
     /// An empty trace keeping at most `cap` points (at least 4), first `tol_mm` apart; a
     /// tolerance that is not a positive number becomes 1 mm.
     pub fn new(cap: usize, tol_mm: f64) -> Self {
+        let tol = if tol_mm.is_finite() && tol_mm > 0.0 {
+            tol_mm
+        } else {
+            1.0
+        };
         Trace {
             points: Vec::new(),
             last: None,
-            tol: if tol_mm.is_finite() && tol_mm > 0.0 {
-                tol_mm
-            } else {
-                1.0
-            },
+            tol,
+            first_tol: tol,
             cap: cap.max(4),
         }
+    }
+
+    /// Empty the trace and restore its first tolerance, keeping its storage.
+    pub fn clear(&mut self) {
+        self.points.clear();
+        self.last = None;
+        self.tol = self.first_tol;
     }
 
     /// Adds the next point in path order; points with a non-finite coordinate are ignored.
@@ -202,9 +213,6 @@ pub struct PlotData {
     /// Time per sampling step at the programmed speed (s): the time envelope's first width.
     time_step: f64,
     trace: Trace,
-    /// The trace as made, empty: what [`SampleSink::restart`] puts back (thinning changes
-    /// the trace's spacing as it fills).
-    trace_empty: Trace,
     waypoints: Vec<WaypointAt>,
     length: f64,
     duration: f64,
@@ -244,7 +252,6 @@ impl PlotData {
             env: None,
             env_t: None,
             time_step: job.sampling.step / job.speed,
-            trace_empty: trace.clone(),
             trace,
             waypoints: Vec::new(),
             length: 0.0,
@@ -394,7 +401,7 @@ impl SampleSink for PlotData {
         self.allowed_acc = Joints::default();
         self.env = None;
         self.env_t = None;
-        self.trace = self.trace_empty.clone();
+        self.trace.clear();
         self.waypoints.clear();
         self.length = 0.0;
         self.duration = 0.0;
@@ -540,5 +547,11 @@ mod tests {
         }
         let mid = position_at(&pts, pts[10].s).unwrap();
         assert_eq!(mid, pts[10].p);
+        // Cleared (a walk started over), the trace is as made: empty, first tolerance.
+        // source: common practice
+        assert!(t.tolerance() > 0.05);
+        t.clear();
+        assert!(t.points().is_empty());
+        assert_eq!(t.tolerance(), 0.05);
     }
 }
