@@ -21,7 +21,8 @@ use crate::job::{ConfigRequest, Job, StartJoints};
 use crate::plan::{plan, Plan, DEFAULT_MAX_SAMPLES};
 use crate::robot::{Joints, Robot, SingularityModel};
 use crate::solve::{
-    choose_start, residual, SampleRecord, SampleSink, StartChoice, StartSolver, WalkTotals, Walker,
+    choose_start, chunk_grid, residual, walk_in_chunks, Boundary, SampleRecord, SampleSink,
+    StartChoice, StartSolver, WalkTotals, Walker, CHUNK_SAMPLES,
 };
 use std::sync::atomic::{AtomicBool, Ordering};
 
@@ -44,8 +45,14 @@ pub struct CheckOptions {
     /// where the table then chooses another start, the sinks are restarted
     /// ([`SampleSink::restart`]) and the walk is run again. A sink that cannot restart
     /// ([`SampleSink::restartable`], e.g. a joint CSV on standard output) keeps the order
-    /// of one thread.
+    /// of one thread. The main walk itself is cut into chunks walked on these threads
+    /// ([`crate::solve::walk_in_chunks`]), with the samples of one walk.
     pub threads: usize,
+    /// Samples per chunk of the main walk ([`CHUNK_SAMPLES`]; at least 1). The singularity
+    /// screen restarts at every chunk on any number of threads, so the report does not depend
+    /// on the thread count; the plots' screened values (proven lower bounds, see
+    /// [`SampleRecord::singularity`]) may depend on this.
+    pub chunk_samples: usize,
 }
 
 impl Default for CheckOptions {
@@ -56,6 +63,7 @@ impl Default for CheckOptions {
             max_samples: DEFAULT_MAX_SAMPLES,
             numeric_only: false,
             threads: 1,
+            chunk_samples: CHUNK_SAMPLES,
         }
     }
 }
@@ -168,12 +176,14 @@ pub fn check(
         sinks: &mut all,
         wasted: &wasted,
     };
+    let grid = chunk_grid(&plan, options.chunk_samples);
     let main = MainWalk {
         robot: &robot,
         job,
         plan: &plan,
         options,
         closed: closed.as_ref().ok(),
+        grid: &grid,
     };
     let (start, table, totals) = match &closed {
         Ok(solver) => {
@@ -275,17 +285,31 @@ struct MainWalk<'a> {
     options: &'a CheckOptions,
     /// The closed-form solver, when the arm has one and it is used.
     closed: Option<&'a OrthoParallel>,
+    /// Where the walk's chunks begin.
+    grid: &'a [Boundary],
 }
 
 impl MainWalk<'_> {
-    /// The walk from `start` into `sink`, on the start's configuration with the closed form.
+    /// The walk from `start` into `sink`, on the start's configuration with the closed form,
+    /// in chunks on the check's threads.
     fn walk(&self, start: &StartChoice, sink: &mut dyn SampleSink) -> WalkTotals {
-        let mut walker = Walker::new(self.robot, self.job, self.plan, self.options.ik)
-            .with_singularity_threshold(self.options.thresholds.singularity);
-        if let (Some(solver), Some(config)) = (self.closed, start.config) {
-            walker = walker.with_closed_form(solver, config);
+        let walker = Walker::new(self.robot, self.job, self.plan, self.options.ik)
+            .with_singularity_threshold(self.options.thresholds.singularity)
+            .with_grid(self.grid);
+        match (self.closed, start.config) {
+            (Some(solver), Some(config)) => walk_in_chunks(
+                walker.with_closed_form(solver, config),
+                solver,
+                config,
+                start,
+                sink,
+                self.options.threads,
+            ),
+            _ => {
+                let mut walker = walker;
+                walker.walk(start, sink)
+            }
         }
-        walker.walk(start, sink)
     }
 }
 

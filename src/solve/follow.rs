@@ -97,6 +97,15 @@ pub(crate) trait Follower {
 
     /// A sample was emitted; `last_good` are the last reached joints.
     fn settle(&mut self, _last_good: &Joints) {}
+
+    /// The configuration followed now, for a follower on the closed form's branches.
+    fn branch(&self) -> Option<Config> {
+        None
+    }
+
+    /// Follow configuration `config` from here on (a walk resumed mid-path); a follower
+    /// without branches ignores it.
+    fn set_branch(&mut self, _config: Config) {}
 }
 
 /// Numerical continuity: the position-unlimited tracker warm-started from the previous
@@ -251,6 +260,14 @@ pub(super) fn move_end_pick<'s>(
 impl Follower for ClosedBranch<'_> {
     fn begin(&mut self, start: &StartChoice) {
         self.config = start.config.unwrap_or(self.start_config);
+    }
+
+    fn branch(&self) -> Option<Config> {
+        Some(self.config)
+    }
+
+    fn set_branch(&mut self, config: Config) {
+        self.config = config;
     }
 
     fn sample(

@@ -32,7 +32,9 @@ pub use start::{
     best_in_config, choose_start, limit_ratio, margin, pose_margin, StartChoice, StartMethod,
     StartSolver, WELL_CONDITIONED_MEASURE,
 };
-pub use walk::{LaneStop, StopKind, Walker};
+pub use walk::{
+    chunk_grid, walk_in_chunks, Boundary, LaneStop, Pos, StopKind, Walker, CHUNK_SAMPLES,
+};
 
 use crate::robot::{Joints, Robot};
 use crate::rotation;

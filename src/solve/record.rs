@@ -126,4 +126,8 @@ pub struct WalkTotals {
     /// complete, in the configuration expected from the first pose alone, where the table
     /// then chose another start (0 or 1; always 0 for a single walk).
     pub discarded_walks: usize,
+    /// Chunks of a main walk on several threads walked a second time, on the calling thread,
+    /// because the state guessed at their start was not where the previous chunk ended
+    /// ([`crate::solve::walk_in_chunks`]); 0 on one thread.
+    pub rewalked_chunks: usize,
 }

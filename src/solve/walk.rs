@@ -2,8 +2,12 @@
 //! [`Follower`], joint moves interpolated in joint space, the jump test, speeds and the
 //! hand-off to the sinks. Only the previous sample is kept; the loop allocates nothing.
 
+mod chunks;
 mod lanes;
+mod state;
+pub use chunks::{chunk_grid, walk_in_chunks, Boundary, Pos, CHUNK_SAMPLES};
 pub use lanes::{LaneStop, StopKind};
+use state::State;
 
 use super::follow::{ClosedBranch, Follower, NumericContinuity, Solved};
 use super::jump::JumpTest;
@@ -14,7 +18,7 @@ use crate::ik::IkOptions;
 use crate::job::{Job, Motion};
 use crate::motion::SyncedMove;
 use crate::plan::{Plan, Segment};
-use crate::robot::{Jacobian, Joints, Robot, SingularityModel, SingularityScreen};
+use crate::robot::{Jacobian, Joints, Robot, SingularityModel};
 use crate::rotation;
 use nalgebra::{Isometry3, Vector3};
 
@@ -37,6 +41,9 @@ pub struct Walker<'a> {
     /// Sphere the TCP never leaves ([`Robot::reach_bound`]): centre (base frame) and radius.
     reach_centre: Vector3<f64>,
     reach_radius: f64,
+    /// Where the main walk's chunks begin ([`chunk_grid`]): the singularity screen restarts
+    /// there, so that a chunk walked on its own measures what the whole walk measures.
+    grid: &'a [Boundary],
 }
 
 impl<'a> Walker<'a> {
@@ -55,7 +62,15 @@ impl<'a> Walker<'a> {
             class_below: crate::robot::DEFAULT_SINGULARITY_THRESHOLD,
             reach_centre,
             reach_radius,
+            grid: &[],
         }
+    }
+
+    /// Restart the singularity screen at each of `grid`'s boundaries (in path order), as the
+    /// main walk does whether or not it is walked in chunks ([`chunk_grid`]).
+    pub fn with_grid(mut self, grid: &'a [Boundary]) -> Self {
+        self.grid = grid;
+        self
     }
 
     /// The singularity warning threshold, below which each sample's class is named.
@@ -88,22 +103,17 @@ impl<'a> Walker<'a> {
 
     /// Walk the whole path from the given start joints (the solution at waypoint 0).
     pub fn walk(&mut self, start: &StartChoice, sink: &mut dyn SampleSink) -> WalkTotals {
-        let mut state = State {
-            prev: None,
-            min_measure: f64::INFINITY,
-            index: 0,
-            s: 0.0,
-            t: 0.0,
-            last_good: start.joints,
-            unreachable_run: 0,
-            probe: (0.0, 0.0),
-            work: WalkTotals::default(),
-            prev_speed_valid: false,
-            screen: SingularityScreen::new(),
-        };
+        let mut state = self.begin(start, sink);
+        self.walk_between(&mut state, Pos::FIRST, 0.0, None, sink);
+        state.totals()
+    }
+
+    /// Set up a walk from `start` and emit its first sample (waypoint 0): the follower on the
+    /// start's configuration, the sink told the plan's size.
+    fn begin(&mut self, start: &StartChoice, sink: &mut dyn SampleSink) -> State {
+        let mut state = State::resumed(start.joints);
         self.follower.begin(start);
         sink.begin(self.robot, self.plan.estimated_samples);
-        // The first sample: waypoint 0.
         let first_target = self.plan.first_base();
         let reach = if start.method == StartMethod::Unreachable {
             Reach::Unreachable
@@ -132,47 +142,83 @@ impl<'a> Walker<'a> {
                 from_rest: false,
             },
         );
+        state
+    }
+
+    /// Walk on from sample `from` (`s0`: the path distance at the start of its segment; a
+    /// sample inside a segment only on a straight-line one) up to, not including, sample
+    /// `until`, or to the end of the path. True when it stopped at `until`.
+    fn walk_between(
+        &mut self,
+        state: &mut State,
+        from: Pos,
+        s0: f64,
+        until: Option<Pos>,
+        sink: &mut dyn SampleSink,
+    ) -> bool {
         // Path distance at each segment's start: the sum of the straight-line lengths before
         // it, joint moves included, so that the distance of every waypoint is fixed by the
         // path alone and agrees across walks in different configurations.
-        let mut s0 = 0.0;
-        for seg in self.plan.segments() {
+        let mut s0 = s0;
+        for k in from.seg..self.plan.segment_count() {
+            let Some(seg) = self.plan.segment(k) else {
+                continue;
+            };
             if sink.done() {
-                break;
+                return false;
             }
+            let first = if k == from.seg { from.step } else { 1 };
             match seg.motion {
-                Motion::Linear => self.walk_linear(&seg, s0, &mut state, sink),
-                Motion::Joint => self.walk_joint(&seg, s0, &mut state, sink),
+                Motion::Linear => {
+                    if self.walk_linear(&seg, s0, first, until, state, sink) {
+                        return true;
+                    }
+                }
+                Motion::Joint => self.walk_joint(&seg, s0, state, sink),
             }
             s0 += seg.length;
         }
-        WalkTotals {
-            samples: state.index,
-            length: state.s,
-            duration: state.t,
-            ..state.work
-        }
+        false
     }
 
-    /// A linear segment starting at path distance `s0`.
+    /// A linear segment starting at path distance `s0`, from its sample `first` (1 for the
+    /// whole segment), stopping before sample `until` if it lies in the segment (then true).
     fn walk_linear(
         &mut self,
         seg: &Segment,
         s0: f64,
+        first: usize,
+        until: Option<Pos>,
         state: &mut State,
         sink: &mut dyn SampleSink,
-    ) {
+    ) -> bool {
         let steps = seg.steps;
         if steps == 0 {
             // A repeated waypoint: the previous sample already stands there.
-            return;
+            return false;
         }
-        // Samples stay evenly spaced in u; their times follow the segment's profile.
+        // Samples stay evenly spaced in u; their times follow the segment's profile. Resumed
+        // inside the segment, the previous sample's time is computed as the loop would have.
         let timing = &seg.timing;
-        let mut t_prev = 0.0;
-        for i in 1..=steps {
+        let mut t_prev = if first > 1 {
+            timing.time_at((first - 1) as f64 / steps as f64)
+        } else {
+            0.0
+        };
+        for i in first..=steps {
             if sink.done() {
-                return;
+                return false;
+            }
+            let here = Pos {
+                seg: seg.index,
+                step: i,
+            };
+            if until == Some(here) {
+                return true;
+            }
+            if self.grid.get(state.grid_next).map(|b| b.pos) == Some(here) {
+                state.restart_screen();
+                state.grid_next += 1;
             }
             let u = i as f64 / steps as f64;
             let t_now = timing.time_at(u);
@@ -197,6 +243,7 @@ impl<'a> Walker<'a> {
             );
             t_prev = t_now;
         }
+        false
     }
 
     /// How far `base_T_target` lies outside the reach sphere, if it does: then nothing needs
@@ -502,36 +549,6 @@ fn acceleration_between(
 struct JointMoveTiming {
     steps: usize,
     synced: SyncedMove,
-}
-
-/// What the walk keeps between samples.
-struct State {
-    prev: Option<SampleRecord>,
-    /// Smallest singularity measure so far.
-    min_measure: f64,
-    index: usize,
-    s: f64,
-    t: f64,
-    last_good: Joints,
-    /// Unreachable samples since the last reached one.
-    unreachable_run: usize,
-    /// Distance (position m, orientation rad) of the last measured unreachable sample.
-    probe: (f64, f64),
-    /// The work counters of [`WalkTotals`] (its other fields stay zero here).
-    work: WalkTotals,
-    /// The previous sample's joint speeds are known (see [`acceleration_between`]).
-    prev_speed_valid: bool,
-    /// The singularity measure's screen (its anchor is this walk's last exact sample).
-    screen: SingularityScreen,
-}
-
-impl State {
-    /// Count one solve handed to the follower.
-    fn count(&mut self, solved: &Solved) {
-        self.work.ik_solves += 1;
-        self.work.full_searches += usize::from(solved.full_search);
-        self.work.restarts += solved.restarts as usize;
-    }
 }
 
 /// One sample to emit: where it is on the path and what was solved there.

@@ -1,0 +1,631 @@
+//! The main walk in chunks on several threads, with the results of one thread.
+//!
+//! The path is cut at fixed samples ([`chunk_grid`]: about every [`CHUNK_SAMPLES`] samples,
+//! inside straight-line segments; a function of the plan alone). Chunk 0 is walked from the
+//! start; every other chunk, on a rayon worker, from a guess of the walk's state where it
+//! begins: the joints one sample before [`PRIME`] priming samples, solved in a quick pass
+//! from boundary to boundary along the path ([`guesses`]), on the configuration that pass
+//! follows there. The priming samples are walked but not kept. What a walk carries into the
+//! chunk's first sample (the previous sample, the last reached joints, the configuration
+//! followed, the unreachable run and its measured distance) is then compared, bit for bit,
+//! with the state the previous chunk really ended in. Equal, the chunk's samples are the
+//! single walk's: the walker is a function of that state and the path from there on, because
+//! the singularity screen restarts at every boundary in every walk
+//! ([`super::Walker::with_grid`]). Different (a winding or configuration the guess got wrong,
+//! an unreachable stretch across the boundary), the chunk is walked again on the calling
+//! thread from the real state. The calling thread hands the samples to the sinks in path
+//! order, numbered and timed as the single walk does; the sinks stay on that thread.
+//!
+//! The numerical follower is not chunked: its warm start carries more than this state.
+//! Memory: at most two chunks per thread are held, each about [`CHUNK_SAMPLES`] samples plus
+//! the joint moves inside it.
+
+use super::super::follow::{ClosedBranch, Follower};
+use super::super::{Reach, SampleRecord, SampleSink, StartChoice, WalkTotals};
+use super::{State, Walker};
+use crate::ik::analytic::{Config, OrthoParallel};
+use crate::job::Motion;
+use crate::plan::Plan;
+use crate::robot::{Joints, Robot};
+use nalgebra::Isometry3;
+use std::panic::{catch_unwind, AssertUnwindSafe};
+use std::sync::atomic::{AtomicBool, Ordering};
+use std::sync::mpsc;
+
+/// Samples per chunk of the main walk. A chunk costs a few milliseconds to walk, so handing
+/// it between threads is cheap beside it, and two chunks per thread in flight keep the memory
+/// of the samples held at about a megabyte per thread.
+pub const CHUNK_SAMPLES: usize = 2048;
+
+/// Samples walked before a chunk's first sample and thrown away: the first finds the joints
+/// from the guess, the second has a previous sample, so that after it the state carried into
+/// the chunk (joint speeds included) is complete.
+const PRIME: usize = 2;
+
+/// A sample on the path: sample `step` of segment `seg` (1 up to the segment's steps; the
+/// first sample of the path, waypoint 0, comes before every segment).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct Pos {
+    /// Segment index.
+    pub seg: usize,
+    /// Sample of the segment, from 1.
+    pub step: usize,
+}
+
+impl Pos {
+    /// The first sample after waypoint 0.
+    pub const FIRST: Pos = Pos { seg: 0, step: 1 };
+}
+
+/// Where a chunk of the main walk begins.
+#[derive(Debug, Clone, Copy)]
+pub struct Boundary {
+    /// The chunk's first sample, on a straight-line segment, at least [`PRIME`] + 1 samples
+    /// into it.
+    pub pos: Pos,
+    /// Path distance at the start of the sample's segment (m), summed as the walk sums it.
+    pub s0: f64,
+}
+
+/// The chunk boundaries of `plan`: inside straight-line segments, the first where the samples
+/// since the last boundary (joint moves counted by the plan's estimate) reach `chunk`, then
+/// every `chunk` samples. A straight-line segment too short to hold the priming samples holds
+/// no boundary; so does a joint move.
+pub fn chunk_grid(plan: &Plan, chunk: usize) -> Vec<Boundary> {
+    let chunk = chunk.max(1);
+    let mut grid = Vec::new();
+    // Samples since the last boundary, the boundary's own included: the path's first.
+    let mut since = 1usize;
+    let mut s0 = 0.0;
+    for k in 0..plan.segment_count() {
+        let Some(seg) = plan.segment(k) else {
+            continue;
+        };
+        if seg.motion == Motion::Linear {
+            let mut next = (chunk + 1).saturating_sub(since).max(PRIME + 1);
+            let mut last = None;
+            while next <= seg.steps {
+                grid.push(Boundary {
+                    pos: Pos { seg: k, step: next },
+                    s0,
+                });
+                last = Some(next);
+                next = next.saturating_add(chunk);
+            }
+            since = match last {
+                Some(b) => seg.steps - b + 1,
+                None => since.saturating_add(seg.steps),
+            };
+        } else {
+            since = since.saturating_add(seg.steps);
+        }
+        s0 += seg.length;
+    }
+    grid
+}
+
+/// What each chunk's walker is made of: the main walker's settings on the closed form.
+struct Parts<'a> {
+    walker: WalkerParts<'a>,
+    solver: &'a OrthoParallel,
+}
+
+/// A [`Walker`] without its follower and jump test (which each walker makes for itself).
+#[derive(Clone)]
+struct WalkerParts<'a> {
+    robot: &'a Robot,
+    job: &'a crate::job::Job,
+    plan: &'a Plan,
+    model: crate::robot::SingularityModel,
+    options: crate::ik::IkOptions,
+    class_below: f64,
+    reach_centre: nalgebra::Vector3<f64>,
+    reach_radius: f64,
+    grid: &'a [Boundary],
+}
+
+impl<'a> Walker<'a> {
+    /// The settings of this walker, to make walkers for chunks of its walk on the closed form
+    /// `solver` ([`walk_in_chunks`]).
+    fn parts(&self, solver: &'a OrthoParallel) -> Parts<'a> {
+        Parts {
+            walker: WalkerParts {
+                robot: self.robot,
+                job: self.job,
+                plan: self.plan,
+                model: self.model.clone(),
+                options: self.options,
+                class_below: self.class_below,
+                reach_centre: self.reach_centre,
+                reach_radius: self.reach_radius,
+                grid: self.grid,
+            },
+            solver,
+        }
+    }
+}
+
+impl<'a> Parts<'a> {
+    /// A walker like the main one, following configuration `config`.
+    fn walker(&self, config: Config) -> Walker<'a> {
+        let w = self.walker.clone();
+        Walker {
+            robot: w.robot,
+            job: w.job,
+            plan: w.plan,
+            model: w.model,
+            options: w.options,
+            jump: super::JumpTest::new(w.robot, w.options),
+            follower: Box::new(super::NumericContinuity::new(w.robot, w.options)),
+            light: false,
+            class_below: w.class_below,
+            reach_centre: w.reach_centre,
+            reach_radius: w.reach_radius,
+            grid: w.grid,
+        }
+        .with_closed_form(self.solver, config)
+    }
+}
+
+/// A guessed state at a chunk's start: joints one sample before its priming samples, and
+/// the configuration followed there.
+#[derive(Debug, Clone, Copy)]
+struct Guess {
+    q: Joints,
+    config: Config,
+}
+
+/// One closed-form step of the guess pass: `q` moves to the solution of `target` if it is
+/// reached.
+fn guess_step(f: &mut ClosedBranch, target: &Isometry3<f64>, q: &mut Joints) -> bool {
+    let mut probe = (0.0, 0.0);
+    let solved = f.sample(target, q, false, &mut probe);
+    if solved.reach == Reach::Reached {
+        *q = solved.q;
+    }
+    solved.reach == Reach::Reached
+}
+
+/// The guessed state at each boundary of `grid`, `None` where the guess pass found the pose
+/// out of reach: one solve per boundary and per segment end, each from the previous one's
+/// joints, so windings follow the path as long as no joint turns half a turn between two
+/// of them (where one does, the chunk is walked again).
+fn guesses(parts: &Parts, start: &StartChoice, config: Config) -> Vec<Option<Guess>> {
+    let w = &parts.walker;
+    let mut f = ClosedBranch::new(w.robot, parts.solver, config, w.options);
+    f.begin(start);
+    let mut q = start.joints;
+    let mut out = Vec::with_capacity(w.grid.len());
+    for k in 0..w.plan.segment_count() {
+        if out.len() == w.grid.len() {
+            break;
+        }
+        let Some(seg) = w.plan.segment(k) else {
+            continue;
+        };
+        match seg.motion {
+            Motion::Linear if seg.steps > 0 => {
+                while let Some(b) = w.grid.get(out.len()).filter(|b| b.pos.seg == k) {
+                    let i = b.pos.step - PRIME - 1;
+                    let target = seg.run_pose_at(i as f64 / seg.steps as f64);
+                    let reached = guess_step(&mut f, &target, &mut q);
+                    out.push(reached.then(|| Guess {
+                        q,
+                        config: f.branch().unwrap_or(config),
+                    }));
+                }
+                guess_step(&mut f, &seg.run_pose_at(1.0), &mut q);
+            }
+            Motion::Linear => {}
+            Motion::Joint => {
+                let end = f.move_end(&seg.end, &q);
+                if end.reach == Reach::Reached {
+                    q = end.q;
+                }
+            }
+        }
+    }
+    out.resize(w.grid.len(), None);
+    out
+}
+
+/// Equal bit for bit.
+fn same(a: f64, b: f64) -> bool {
+    a.to_bits() == b.to_bits()
+}
+
+fn same_joints(a: &Joints, b: &Joints) -> bool {
+    a.len() == b.len() && a.iter().zip(b.iter()).all(|(x, y)| same(*x, *y))
+}
+
+fn same_pose(a: &Isometry3<f64>, b: &Isometry3<f64>) -> bool {
+    let (ta, tb) = (&a.translation.vector, &b.translation.vector);
+    let (qa, qb) = (&a.rotation.coords, &b.rotation.coords);
+    ta.iter().zip(tb.iter()).all(|(x, y)| same(*x, *y))
+        && qa.iter().zip(qb.iter()).all(|(x, y)| same(*x, *y))
+}
+
+/// The parts of a sample record the next sample is computed from, and the rest of what the
+/// single walk would have (not the singularity measure, which restarts at a boundary, nor
+/// the accelerations, which need the sample before).
+fn same_record(a: &SampleRecord, b: &SampleRecord) -> bool {
+    let same_jump = match (&a.jump, &b.jump) {
+        (None, None) => true,
+        (Some(x), Some(y)) => same_joints(&x.delta, &y.delta) && x.config_change == y.config_change,
+        _ => false,
+    };
+    a.segment == b.segment
+        && a.waypoint == b.waypoint
+        && a.motion == b.motion
+        && same(a.s, b.s)
+        && same(a.dt, b.dt)
+        && same_pose(&a.target, &b.target)
+        && a.reach == b.reach
+        && same(a.position_error, b.position_error)
+        && same(a.orientation_error, b.orientation_error)
+        && same_joints(&a.joints, &b.joints)
+        && same_joints(&a.joint_speed, &b.joint_speed)
+        && same(a.tcp_speed, b.tcp_speed)
+        && same(a.tool_angular_speed, b.tool_angular_speed)
+        && same_jump
+}
+
+/// A walk's state between two samples with the configuration it follows.
+struct Carried {
+    state: State,
+    branch: Option<Config>,
+}
+
+impl Carried {
+    /// Whether a walk in state `self` goes on exactly as one in `other` (see the module
+    /// documentation for what is compared and why that is enough).
+    fn continues_as(&self, other: &Carried) -> bool {
+        let (a, b) = (&self.state, &other.state);
+        let same_prev = match (&a.prev, &b.prev) {
+            (None, None) => true,
+            (Some(x), Some(y)) => same_record(x, y),
+            _ => false,
+        };
+        self.branch == other.branch
+            && a.grid_next == b.grid_next
+            && a.unreachable_run == b.unreachable_run
+            && a.prev_speed_valid == b.prev_speed_valid
+            && same(a.probe.0, b.probe.0)
+            && same(a.probe.1, b.probe.1)
+            && same_joints(&a.last_good, &b.last_good)
+            && same_prev
+    }
+}
+
+/// A chunk walked on a worker.
+struct Walked {
+    /// The state after the priming samples (for chunks after the first).
+    entered: Option<Carried>,
+    /// The state after the chunk's last sample.
+    exit: Carried,
+}
+
+/// A worker's message: chunk `chunk`'s samples and how it ended (`None`: the walk panicked,
+/// and the calling thread walks the chunk itself).
+struct Done {
+    chunk: usize,
+    records: Vec<SampleRecord>,
+    walked: Option<Walked>,
+}
+
+/// Keeps the samples of a chunk (or throws away priming samples, without `records`); stops
+/// when the whole walk stops.
+struct Keep<'r> {
+    records: Option<&'r mut Vec<SampleRecord>>,
+    stop: &'r AtomicBool,
+}
+
+impl SampleSink for Keep<'_> {
+    fn sample(&mut self, _robot: &Robot, rec: &SampleRecord) {
+        if let Some(r) = self.records.as_mut() {
+            r.push(*rec);
+        }
+    }
+    fn done(&self) -> bool {
+        self.stop.load(Ordering::Relaxed)
+    }
+    fn restart(&mut self) {
+        if let Some(r) = self.records.as_mut() {
+            r.clear();
+        }
+    }
+}
+
+/// Passes samples on numbered and timed as one walk over the whole path numbers and times
+/// them (chunks count from their own start).
+struct Renumber<'s> {
+    sink: &'s mut dyn SampleSink,
+    index: usize,
+    t: f64,
+    s: f64,
+}
+
+impl SampleSink for Renumber<'_> {
+    fn sample(&mut self, robot: &Robot, rec: &SampleRecord) {
+        let mut r = *rec;
+        r.index = self.index;
+        // The same sum, in the same order, as the single walk's clock.
+        self.t += r.dt;
+        r.t = self.t;
+        self.s = r.s;
+        self.index += 1;
+        self.sink.sample(robot, &r);
+    }
+    fn done(&self) -> bool {
+        self.sink.done()
+    }
+    fn restart(&mut self) {
+        self.sink.restart();
+    }
+    fn restartable(&self) -> bool {
+        self.sink.restartable()
+    }
+}
+
+impl Walker<'_> {
+    /// Walk chunk `c` (from boundary `c - 1`, or the start, up to boundary `c` or the end)
+    /// into `sink`. `from`: the state where the previous chunk ended, or a guess to prime.
+    fn walk_chunk(
+        &mut self,
+        start: &StartChoice,
+        c: usize,
+        from: ChunkFrom,
+        sink: &mut dyn SampleSink,
+        stop: &AtomicBool,
+    ) -> Walked {
+        let until = self.grid.get(c).map(|b| b.pos);
+        let (entered, mut state) = match from {
+            ChunkFrom::Start => (None, self.begin(start, sink)),
+            ChunkFrom::State(carried) => {
+                let Carried { state, branch } = *carried;
+                let mut state = state;
+                if let Some(config) = branch {
+                    self.follower.set_branch(config);
+                }
+                state.work = WalkTotals::default();
+                (None, state)
+            }
+            ChunkFrom::Guess(g) => {
+                let b = self.grid[c - 1];
+                let mut state = State::resumed(g.q);
+                state.grid_next = c - 1;
+                self.follower.set_branch(g.config);
+                let prime_from = Pos {
+                    seg: b.pos.seg,
+                    step: b.pos.step - PRIME,
+                };
+                let mut discard = Keep {
+                    records: None,
+                    stop,
+                };
+                self.walk_between(&mut state, prime_from, b.s0, Some(b.pos), &mut discard);
+                let entered = Carried {
+                    state: state.clone(),
+                    branch: self.follower.branch(),
+                };
+                state.work = WalkTotals::default();
+                (Some(entered), state)
+            }
+        };
+        if c > 0 {
+            let b = self.grid[c - 1];
+            self.walk_between(&mut state, b.pos, b.s0, until, sink);
+        } else {
+            self.walk_between(&mut state, Pos::FIRST, 0.0, until, sink);
+        }
+        Walked {
+            entered,
+            exit: Carried {
+                state,
+                branch: self.follower.branch(),
+            },
+        }
+    }
+}
+
+/// Where a chunk's walk starts from.
+enum ChunkFrom {
+    Start,
+    State(Box<Carried>),
+    Guess(Guess),
+}
+
+/// Totals of the work counters of `a` and `b`.
+fn add_work(a: &mut WalkTotals, b: &WalkTotals) {
+    a.ik_solves += b.ik_solves;
+    a.full_searches += b.full_searches;
+    a.restarts += b.restarts;
+    a.beyond_reach += b.beyond_reach;
+}
+
+/// The main walk from `start` into `sink` by `home` (a walker on the closed form `solver`,
+/// following `config`, the start's configuration), in chunks on up to `threads` threads (the
+/// calling thread feeds the sinks), with the samples and totals of [`Walker::walk`]. On one
+/// thread, or when called from a rayon worker (whose waiting could hold up the chunks' own
+/// workers), it is that walk.
+pub fn walk_in_chunks(
+    mut home: Walker<'_>,
+    solver: &OrthoParallel,
+    config: Config,
+    start: &StartChoice,
+    sink: &mut dyn SampleSink,
+    threads: usize,
+) -> WalkTotals {
+    let grid = home.grid;
+    if threads < 2 || grid.is_empty() || rayon::current_thread_index().is_some() {
+        return home.walk(start, sink);
+    }
+    let parts = &home.parts(solver);
+    let n = grid.len() + 1;
+    let guessed = guesses(parts, start, config);
+    sink.begin(parts.walker.robot, parts.walker.plan.estimated_samples);
+    let mut out = Renumber {
+        sink,
+        index: 0,
+        t: 0.0,
+        s: 0.0,
+    };
+    let mut work = WalkTotals::default();
+    let stop_flag = AtomicBool::new(false);
+    let stop = &stop_flag;
+    let window = 2 * threads;
+    let (tx, rx) = mpsc::channel::<Done>();
+    // Chunk c's message once received, and whether it was sent to a worker, in slot
+    // c % window: the chunks in flight are never more than `window` apart.
+    let mut arrived: Vec<Option<Done>> = (0..window).map(|_| None).collect();
+    let mut launched = vec![false; window];
+    let mut spare: Vec<Vec<SampleRecord>> = Vec::new();
+    let robot = parts.walker.robot;
+    rayon::in_place_scope(|scope| {
+        let spawn = |c: usize, mut records: Vec<SampleRecord>| -> bool {
+            let from = match c {
+                0 => ChunkFrom::Start,
+                _ => match guessed[c - 1] {
+                    Some(g) => ChunkFrom::Guess(g),
+                    None => return false,
+                },
+            };
+            let tx = tx.clone();
+            scope.spawn(move |_| {
+                records.clear();
+                let walked = catch_unwind(AssertUnwindSafe(|| {
+                    let mut w = parts.walker(config);
+                    let mut keep = Keep {
+                        records: Some(&mut records),
+                        stop,
+                    };
+                    w.walk_chunk(start, c, from, &mut keep, stop)
+                }))
+                .ok();
+                // The receiver outlives every worker of the scope.
+                let _ = tx.send(Done {
+                    chunk: c,
+                    records,
+                    walked,
+                });
+            });
+            true
+        };
+        let mut next = 0;
+        while next < n.min(window) {
+            launched[next % window] = spawn(next, Vec::with_capacity(CHUNK_SAMPLES + PRIME));
+            next += 1;
+        }
+        let mut carried: Option<Carried> = None;
+        for c in 0..n {
+            if out.done() {
+                break;
+            }
+            let mut done = None;
+            if launched[c % window] {
+                while arrived[c % window].is_none() {
+                    match rx.recv() {
+                        Ok(d) => {
+                            let k = d.chunk % window;
+                            arrived[k] = Some(d);
+                        }
+                        Err(_) => break,
+                    }
+                }
+                done = arrived[c % window].take();
+            }
+            let mut took = None;
+            if let Some(Done {
+                records,
+                walked: Some(walked),
+                ..
+            }) = done
+            {
+                let fits = match (&walked.entered, &carried) {
+                    (None, None) => c == 0,
+                    (Some(e), Some(real)) => e.continues_as(real),
+                    _ => false,
+                };
+                if fits {
+                    for r in &records {
+                        out.sample(robot, r);
+                    }
+                    took = Some(walked.exit);
+                }
+                spare.push(records);
+            } else if let Some(d) = done {
+                spare.push(d.records);
+            }
+            let exit = match took {
+                Some(exit) => exit,
+                None => {
+                    // The guess did not meet the real state (or there was none): walk the
+                    // chunk here from where the previous one ended.
+                    let from = match carried.take() {
+                        Some(state) => ChunkFrom::State(Box::new(state)),
+                        None => ChunkFrom::Start,
+                    };
+                    if c > 0 {
+                        work.rewalked_chunks += 1;
+                    }
+                    home.walk_chunk(start, c, from, &mut out, stop).exit
+                }
+            };
+            add_work(&mut work, &exit.state.work);
+            carried = Some(exit);
+            if next < n {
+                let records = spare.pop().unwrap_or_default();
+                launched[next % window] = spawn(next, records);
+                next += 1;
+            }
+        }
+        // Stopped early (the sinks are done): the workers still walking stop too.
+        stop.store(true, Ordering::Relaxed);
+    });
+    WalkTotals {
+        samples: out.index,
+        length: out.s,
+        duration: out.t,
+        ..work
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn boundaries_lie_inside_straight_lines_a_chunk_apart() {
+        // source: common practice (the grid's own definition, counted sample by sample).
+        let dir = std::path::Path::new(env!("CARGO_MANIFEST_DIR"));
+        let job = crate::job::load(
+            &dir.join("paths/rib_weld.yaml"),
+            &crate::job::Overrides::default(),
+        )
+        .unwrap();
+        let plan = crate::plan::plan(&job, u64::MAX).unwrap();
+        for chunk in [1, 5, 64, 300] {
+            let grid = chunk_grid(&plan, chunk);
+            assert!(!grid.is_empty(), "chunk {chunk}");
+            // Walk every sample position in order, counting samples since the last boundary.
+            let (mut since, mut s0, mut b) = (1usize, 0.0f64, 0);
+            for k in 0..plan.segment_count() {
+                let seg = plan.segment(k).unwrap();
+                for i in 1..=seg.steps {
+                    let here = Pos { seg: k, step: i };
+                    if grid.get(b).map(|g| g.pos) == Some(here) {
+                        assert_eq!(seg.motion, Motion::Linear, "chunk {chunk}");
+                        assert!(i > PRIME, "room for the priming samples");
+                        assert!(since >= chunk, "chunk {chunk}: {since} samples");
+                        assert_eq!(grid[b].s0.to_bits(), s0.to_bits());
+                        since = 0;
+                        b += 1;
+                    }
+                    since += 1;
+                }
+                s0 += seg.length;
+            }
+            assert_eq!(b, grid.len(), "chunk {chunk}: every boundary met in order");
+        }
+    }
+}
