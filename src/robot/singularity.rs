@@ -125,14 +125,15 @@ impl SingularityModel {
     /// axis 1 over the reach).
     pub fn classify(&self, chain: &Chain, q: &Joints) -> Option<SingularityClass> {
         let (wrist, elbow, shoulder) = self.class_distances(chain, q)?;
-        let class = if wrist <= elbow && wrist <= shoulder {
-            SingularityClass::Wrist
-        } else if elbow <= shoulder {
-            SingularityClass::Elbow
-        } else {
-            SingularityClass::Shoulder
-        };
-        Some(class)
+        Some(nearest_class(wrist, elbow, shoulder))
+    }
+
+    /// [`classify`](Self::classify) from distances found elsewhere (the closed form's
+    /// `singular_distances`): wrist and elbow sines, the wrist centre's distance from axis 1
+    /// in m (divided here by the reach). `None` where the arm is not in the classified family.
+    pub fn class_from(&self, wrist: f64, elbow: f64, shoulder_m: f64) -> Option<SingularityClass> {
+        self.wrist_centre_in_j4?;
+        Some(nearest_class(wrist, elbow, shoulder_m / self.length_scale))
     }
 
     /// The three normalised distances used by [`classify`](Self::classify): (wrist, elbow,
@@ -158,6 +159,17 @@ impl SingularityModel {
         let r = wc - origin(0);
         let shoulder = (r - z1 * z1.dot(&r)).norm() / self.length_scale;
         Some((wrist, elbow, shoulder))
+    }
+}
+
+/// The class whose normalised distance is smallest (ties: wrist, then elbow).
+fn nearest_class(wrist: f64, elbow: f64, shoulder: f64) -> SingularityClass {
+    if wrist <= elbow && wrist <= shoulder {
+        SingularityClass::Wrist
+    } else if elbow <= shoulder {
+        SingularityClass::Elbow
+    } else {
+        SingularityClass::Shoulder
     }
 }
 

@@ -44,6 +44,8 @@ pub struct Walker<'a> {
     /// Where the main walk's chunks begin ([`chunk_grid`]): the singularity screen restarts
     /// there, so that a chunk walked on its own measures what the whole walk measures.
     grid: &'a [Boundary],
+    /// The closed-form solver followed, whose angles name the nearest singularity.
+    closed: Option<&'a OrthoParallel>,
 }
 
 impl<'a> Walker<'a> {
@@ -63,6 +65,7 @@ impl<'a> Walker<'a> {
             reach_centre,
             reach_radius,
             grid: &[],
+            closed: None,
         }
     }
 
@@ -83,6 +86,7 @@ impl<'a> Walker<'a> {
     /// (the start's, see [`StartChoice::config`]).
     pub fn with_closed_form(mut self, solver: &'a OrthoParallel, config: Config) -> Self {
         self.follower = Box::new(ClosedBranch::new(self.robot, solver, config, self.options));
+        self.closed = Some(solver);
         let p = solver.parameters();
         self.jump = self
             .jump
@@ -431,7 +435,14 @@ impl<'a> Walker<'a> {
             // The class is read where a finding or the path's minimum needs it: below the
             // warning threshold or at a new smallest measure.
             let class = if m < self.class_below || m < state.min_measure {
-                self.model.classify(self.robot.chain(), &q)
+                match self.closed {
+                    // From the closed form's angles and the pose at hand: no frames pass.
+                    Some(solver) => {
+                        let (w, e, s) = solver.singular_distances(&q, &base_T_tcp);
+                        self.model.class_from(w, e, s)
+                    }
+                    None => self.model.classify(self.robot.chain(), &q),
+                }
             } else {
                 None
             };

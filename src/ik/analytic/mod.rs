@@ -49,6 +49,7 @@ mod branches;
 mod config;
 mod detect;
 mod geometry;
+mod singular;
 mod solutions;
 
 pub use config::{Config, Elbow, Shoulder, Wrist};

@@ -162,6 +162,7 @@ impl<'a> Parts<'a> {
             reach_centre: w.reach_centre,
             reach_radius: w.reach_radius,
             grid: w.grid,
+            closed: None,
         }
         .with_closed_form(self.solver, config)
     }
