@@ -143,3 +143,29 @@ fn a_long_raster_in_default_chunks_needs_no_chunk_walked_twice() {
     let job = load("paths/panel_raster.yaml", Some(0.25));
     assert_eq!(compare("panel_raster at 0.25 mm", &job, 2048), 0);
 }
+
+#[test]
+fn a_chunk_too_long_for_a_worker_is_streamed_by_the_calling_thread_to_the_same_samples() {
+    // source: common practice. A seam, a joint move swinging the arm far round (hundreds of
+    // joint-space samples, against the plan's estimate of a few: boundaries fall only in
+    // straight lines), and a second seam. With 8-sample chunks the chunk holding the joint
+    // move outgrows its cap (twice the chunk size) on the worker and is walked again, streamed,
+    // on the calling thread; the samples are still the single walk's.
+    let yaml = format!(
+        "units: {{length: mm, angle: deg}}
+robot: {}
+tool: {{xyz: [0, 0, 180], rpy: [0, 0, 0]}}
+work_frame: {{xyz: [850, -150, 250], rpy: [0, 0, 0]}}
+speed: 50
+waypoints:
+  - {{name: a, xyz: [0, 0, 0], rpy: [180, 45, 0]}}
+  - {{name: b, xyz: [0, 60, 0], rpy: [180, 45, 0]}}
+  - {{name: c, xyz: [-500, 500, 0], rpy: [180, 45, 90], motion: joint}}
+  - {{name: d, xyz: [-500, 560, 0], rpy: [180, 45, 90]}}
+",
+        arm6()
+    );
+    let (_dir, file) = path_file(&yaml);
+    let job = armpath::job::load(&file, &Default::default()).unwrap();
+    assert!(compare("joint move between seams", &job, 8) > 0);
+}

@@ -304,6 +304,7 @@ impl MainWalk<'_> {
                 start,
                 sink,
                 self.options.threads,
+                self.options.chunk_samples,
             ),
             _ => {
                 let mut walker = walker;

@@ -17,8 +17,9 @@
 //! order, numbered and timed as the single walk does; the sinks stay on that thread.
 //!
 //! The numerical follower is not chunked: its warm start carries more than this state.
-//! Memory: at most two chunks per thread are held, each about [`CHUNK_SAMPLES`] samples plus
-//! the joint moves inside it.
+//! Memory: at most two chunks per thread are held, each of at most twice the chunk size; a
+//! longer one (joint moves, or straight lines too short to hold a boundary, between two
+//! boundaries) is abandoned by its worker and streamed by the calling thread instead.
 
 use super::super::follow::{ClosedBranch, Follower};
 use super::super::{Reach, SampleRecord, SampleSink, StartChoice, WalkTotals};
@@ -315,10 +316,19 @@ struct Done {
 }
 
 /// Keeps the samples of a chunk (or throws away priming samples, without `records`); stops
-/// when the whole walk stops.
+/// when the whole walk stops, or once it holds more than `cap` samples (the chunk is then
+/// walked on the calling thread, which streams it: memory stays bounded however unevenly
+/// the plan lets the boundaries fall).
 struct Keep<'r> {
     records: Option<&'r mut Vec<SampleRecord>>,
     stop: &'r AtomicBool,
+    cap: usize,
+}
+
+impl Keep<'_> {
+    fn overflowed(&self) -> bool {
+        self.records.as_ref().is_some_and(|r| r.len() > self.cap)
+    }
 }
 
 impl SampleSink for Keep<'_> {
@@ -328,7 +338,7 @@ impl SampleSink for Keep<'_> {
         }
     }
     fn done(&self) -> bool {
-        self.stop.load(Ordering::Relaxed)
+        self.stop.load(Ordering::Relaxed) || self.overflowed()
     }
     fn restart(&mut self) {
         if let Some(r) = self.records.as_mut() {
@@ -403,6 +413,7 @@ impl Walker<'_> {
                 let mut discard = Keep {
                     records: None,
                     stop,
+                    cap: 0,
                 };
                 self.walk_between(&mut state, prime_from, b.s0, Some(b.pos), &mut discard);
                 let entered = Carried {
@@ -445,8 +456,9 @@ fn add_work(a: &mut WalkTotals, b: &WalkTotals) {
 }
 
 /// The main walk from `start` into `sink` by `home` (a walker on the closed form `solver`,
-/// following `config`, the start's configuration), in chunks on up to `threads` threads (the
-/// calling thread feeds the sinks), with the samples and totals of [`Walker::walk`]. On one
+/// following `config`, the start's configuration), in chunks (`chunk`: the samples per chunk
+/// its grid was made with) on up to `threads` threads (the calling thread feeds the sinks),
+/// with the samples and totals of [`Walker::walk`]. On one
 /// thread, or when called from a rayon worker (whose waiting could hold up the chunks' own
 /// workers), it is that walk.
 pub fn walk_in_chunks(
@@ -456,8 +468,12 @@ pub fn walk_in_chunks(
     start: &StartChoice,
     sink: &mut dyn SampleSink,
     threads: usize,
+    chunk: usize,
 ) -> WalkTotals {
     let grid = home.grid;
+    // A chunk holding more samples than this (joint moves, or straight lines too short for a
+    // boundary, between two boundaries) is walked on the calling thread instead.
+    let cap = 2 * chunk.max(1) + PRIME;
     if threads < 2 || grid.is_empty() || rayon::current_thread_index().is_some() {
         return home.walk(start, sink);
     }
@@ -499,10 +515,13 @@ pub fn walk_in_chunks(
                     let mut keep = Keep {
                         records: Some(&mut records),
                         stop,
+                        cap,
                     };
-                    w.walk_chunk(start, c, from, &mut keep, stop)
+                    let walked = w.walk_chunk(start, c, from, &mut keep, stop);
+                    (!keep.overflowed()).then_some(walked)
                 }))
-                .ok();
+                .ok()
+                .flatten();
                 // The receiver outlives every worker of the scope.
                 let _ = tx.send(Done {
                     chunk: c,
@@ -514,7 +533,7 @@ pub fn walk_in_chunks(
         };
         let mut next = 0;
         while next < n.min(window) {
-            launched[next % window] = spawn(next, Vec::with_capacity(CHUNK_SAMPLES + PRIME));
+            launched[next % window] = spawn(next, Vec::with_capacity(chunk + PRIME));
             next += 1;
         }
         let mut carried: Option<Carried> = None;
