@@ -3,9 +3,11 @@
 //! hand-off to the sinks. Only the previous sample is kept; the loop allocates nothing.
 
 mod chunks;
+mod grid;
 mod lanes;
 mod state;
-pub use chunks::{chunk_grid, walk_in_chunks, Boundary, Pos, CHUNK_SAMPLES};
+pub use chunks::walk_in_chunks;
+pub use grid::{chunk_grid, Boundary, Pos, CHUNK_SAMPLES};
 pub use lanes::{LaneStop, StopKind};
 use state::State;
 
@@ -146,6 +148,8 @@ impl<'a> Walker<'a> {
                 from_rest: false,
             },
         );
+        // The first sample is measured exactly: its measure is the first floor.
+        state.floor = state.min_measure;
         state
     }
 
@@ -221,7 +225,8 @@ impl<'a> Walker<'a> {
                 return true;
             }
             if self.grid.get(state.grid_next).map(|b| b.pos) == Some(here) {
-                state.restart_screen();
+                // Boundary b begins chunk b + 1.
+                state.enter_chunk(state.grid_next + 1);
                 state.grid_next += 1;
             }
             let u = i as f64 / steps as f64;
@@ -427,10 +432,12 @@ impl<'a> Walker<'a> {
                 position_error = (base_T_tcp.translation.vector - target.translation.vector).norm();
                 orientation_error = rotation::angle_between(&base_T_tcp.rotation, &target.rotation);
             }
-            // Below the warning threshold or at a new smallest measure the value must be
-            // exact (a finding's worst value, the path's minimum); elsewhere a proven lower
-            // bound above both serves, and the plots show it.
-            let level = self.class_below.max(state.min_measure);
+            // Below the warning threshold or where it could be the path's smallest measure
+            // the value must be exact (a finding's worst value, the path's minimum);
+            // elsewhere a proven lower bound above both serves, and the plots show it. The
+            // floor and the chunk's smallest are both measures of samples of the path, so
+            // the path's smallest is at most either.
+            let level = self.class_below.max(state.floor.min(state.min_measure));
             let m = state.screen.measure(&self.model, &jac, n, level).value;
             // The class is read where a finding or the path's minimum needs it: below the
             // warning threshold or at a new smallest measure.

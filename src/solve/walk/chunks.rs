@@ -11,7 +11,8 @@
 //! with the state the previous chunk really ended in. Equal, the chunk's samples are the
 //! single walk's: the walker is a function of that state and the path from there on, because
 //! the singularity screen restarts at every boundary in every walk
-//! ([`super::Walker::with_grid`]). Different (a winding or configuration the guess got wrong,
+//! ([`super::Walker::with_grid`]) with a floor known before the chunk is walked
+//! ([`State::floor`], handed to the chunk's walker). Different (a winding or configuration the guess got wrong,
 //! an unreachable stretch across the boundary), the chunk is walked again on the calling
 //! thread from the real state. The calling thread hands the samples to the sinks in path
 //! order, numbered and timed as the single walk does; the sinks stay on that thread.
@@ -21,89 +22,17 @@
 //! longer one (joint moves, or straight lines too short to hold a boundary, between two
 //! boundaries) is abandoned by its worker and streamed by the calling thread instead.
 
-use super::super::follow::{ClosedBranch, Follower};
-use super::super::{Reach, SampleRecord, SampleSink, StartChoice, WalkTotals};
+use super::super::{SampleRecord, SampleSink, StartChoice, WalkTotals};
+use super::grid::{guesses, Boundary, Guess, Pos, PRIME};
+use super::state::FLOOR_LAG;
 use super::{State, Walker};
 use crate::ik::analytic::{Config, OrthoParallel};
-use crate::job::Motion;
 use crate::plan::Plan;
 use crate::robot::{Joints, Robot};
 use nalgebra::Isometry3;
 use std::panic::{catch_unwind, AssertUnwindSafe};
 use std::sync::atomic::{AtomicBool, Ordering};
 use std::sync::mpsc;
-
-/// Samples per chunk of the main walk. A chunk costs a few milliseconds to walk, so handing
-/// it between threads is cheap beside it, and two chunks per thread in flight keep the memory
-/// of the samples held at about a megabyte per thread.
-pub const CHUNK_SAMPLES: usize = 2048;
-
-/// Samples walked before a chunk's first sample and thrown away: the first finds the joints
-/// from the guess, the second has a previous sample, so that after it the state carried into
-/// the chunk (joint speeds included) is complete.
-const PRIME: usize = 2;
-
-/// A sample on the path: sample `step` of segment `seg` (1 up to the segment's steps; the
-/// first sample of the path, waypoint 0, comes before every segment).
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
-pub struct Pos {
-    /// Segment index.
-    pub seg: usize,
-    /// Sample of the segment, from 1.
-    pub step: usize,
-}
-
-impl Pos {
-    /// The first sample after waypoint 0.
-    pub const FIRST: Pos = Pos { seg: 0, step: 1 };
-}
-
-/// Where a chunk of the main walk begins.
-#[derive(Debug, Clone, Copy)]
-pub struct Boundary {
-    /// The chunk's first sample, on a straight-line segment, at least [`PRIME`] + 1 samples
-    /// into it.
-    pub pos: Pos,
-    /// Path distance at the start of the sample's segment (m), summed as the walk sums it.
-    pub s0: f64,
-}
-
-/// The chunk boundaries of `plan`: inside straight-line segments, the first where the samples
-/// since the last boundary (joint moves counted by the plan's estimate) reach `chunk`, then
-/// every `chunk` samples. A straight-line segment too short to hold the priming samples holds
-/// no boundary; so does a joint move.
-pub fn chunk_grid(plan: &Plan, chunk: usize) -> Vec<Boundary> {
-    let chunk = chunk.max(1);
-    let mut grid = Vec::new();
-    // Samples since the last boundary, the boundary's own included: the path's first.
-    let mut since = 1usize;
-    let mut s0 = 0.0;
-    for k in 0..plan.segment_count() {
-        let Some(seg) = plan.segment(k) else {
-            continue;
-        };
-        if seg.motion == Motion::Linear {
-            let mut next = (chunk + 1).saturating_sub(since).max(PRIME + 1);
-            let mut last = None;
-            while next <= seg.steps {
-                grid.push(Boundary {
-                    pos: Pos { seg: k, step: next },
-                    s0,
-                });
-                last = Some(next);
-                next = next.saturating_add(chunk);
-            }
-            since = match last {
-                Some(b) => seg.steps - b + 1,
-                None => since.saturating_add(seg.steps),
-            };
-        } else {
-            since = since.saturating_add(seg.steps);
-        }
-        s0 += seg.length;
-    }
-    grid
-}
 
 /// What each chunk's walker is made of: the main walker's settings on the closed form.
 struct Parts<'a> {
@@ -167,68 +96,6 @@ impl<'a> Parts<'a> {
         }
         .with_closed_form(self.solver, config)
     }
-}
-
-/// A guessed state at a chunk's start: joints one sample before its priming samples, and
-/// the configuration followed there.
-#[derive(Debug, Clone, Copy)]
-struct Guess {
-    q: Joints,
-    config: Config,
-}
-
-/// One closed-form step of the guess pass: `q` moves to the solution of `target` if it is
-/// reached.
-fn guess_step(f: &mut ClosedBranch, target: &Isometry3<f64>, q: &mut Joints) -> bool {
-    let mut probe = (0.0, 0.0);
-    let solved = f.sample(target, q, false, &mut probe);
-    if solved.reach == Reach::Reached {
-        *q = solved.q;
-    }
-    solved.reach == Reach::Reached
-}
-
-/// The guessed state at each boundary of `grid`, `None` where the guess pass found the pose
-/// out of reach: one solve per boundary and per segment end, each from the previous one's
-/// joints, so windings follow the path as long as no joint turns half a turn between two
-/// of them (where one does, the chunk is walked again).
-fn guesses(parts: &Parts, start: &StartChoice, config: Config) -> Vec<Option<Guess>> {
-    let w = &parts.walker;
-    let mut f = ClosedBranch::new(w.robot, parts.solver, config, w.options);
-    f.begin(start);
-    let mut q = start.joints;
-    let mut out = Vec::with_capacity(w.grid.len());
-    for k in 0..w.plan.segment_count() {
-        if out.len() == w.grid.len() {
-            break;
-        }
-        let Some(seg) = w.plan.segment(k) else {
-            continue;
-        };
-        match seg.motion {
-            Motion::Linear if seg.steps > 0 => {
-                while let Some(b) = w.grid.get(out.len()).filter(|b| b.pos.seg == k) {
-                    let i = b.pos.step - PRIME - 1;
-                    let target = seg.run_pose_at(i as f64 / seg.steps as f64);
-                    let reached = guess_step(&mut f, &target, &mut q);
-                    out.push(reached.then(|| Guess {
-                        q,
-                        config: f.branch().unwrap_or(config),
-                    }));
-                }
-                guess_step(&mut f, &seg.run_pose_at(1.0), &mut q);
-            }
-            Motion::Linear => {}
-            Motion::Joint => {
-                let end = f.move_end(&seg.end, &q);
-                if end.reach == Reach::Reached {
-                    q = end.q;
-                }
-            }
-        }
-    }
-    out.resize(w.grid.len(), None);
-    out
 }
 
 /// Equal bit for bit.
@@ -381,11 +248,14 @@ impl SampleSink for Renumber<'_> {
 impl Walker<'_> {
     /// Walk chunk `c` (from boundary `c - 1`, or the start, up to boundary `c` or the end)
     /// into `sink`. `from`: the state where the previous chunk ended, or a guess to prime.
+    /// `floor`: the singularity screen's floor for the chunk ([`State::floor`]; for chunks
+    /// after the first).
     fn walk_chunk(
         &mut self,
         start: &StartChoice,
         c: usize,
         from: ChunkFrom,
+        floor: f64,
         sink: &mut dyn SampleSink,
         stop: &AtomicBool,
     ) -> Walked {
@@ -426,6 +296,8 @@ impl Walker<'_> {
         };
         if c > 0 {
             let b = self.grid[c - 1];
+            state.floor = floor;
+            state.floor_given = true;
             self.walk_between(&mut state, b.pos, b.s0, until, sink);
         } else {
             self.walk_between(&mut state, Pos::FIRST, 0.0, until, sink);
@@ -445,6 +317,24 @@ enum ChunkFrom {
     Start,
     State(Box<Carried>),
     Guess(Guess),
+}
+
+/// The floor of chunk `c` ([`State::floor`]) from `floors` (see [`walk_in_chunks`]): the
+/// first sample's measure and the smallest of every chunk `FLOOR_LAG` or more back.
+fn floor_of(c: usize, floors: &[f64], first: f64) -> f64 {
+    match c.checked_sub(FLOOR_LAG) {
+        Some(k) => floors[k],
+        None => first,
+    }
+}
+
+/// The exact singularity measure of the first sample, as the walk computes it there.
+fn first_measure(w: &Walker, q: &Joints) -> f64 {
+    let mut jac = crate::robot::Jacobian::zeros();
+    w.robot.chain().fk_jacobian(q, &mut jac);
+    crate::robot::SingularityScreen::new()
+        .measure(&w.model, &jac, w.robot.dof(), f64::INFINITY)
+        .value
 }
 
 /// Totals of the work counters of `a` and `b`.
@@ -479,7 +369,7 @@ pub fn walk_in_chunks(
     }
     let parts = &home.parts(solver);
     let n = grid.len() + 1;
-    let guessed = guesses(parts, start, config);
+    let guessed = guesses(&home, solver, start, config);
     sink.begin(parts.walker.robot, parts.walker.plan.estimated_samples);
     let mut out = Renumber {
         sink,
@@ -490,7 +380,12 @@ pub fn walk_in_chunks(
     let mut work = WalkTotals::default();
     let stop_flag = AtomicBool::new(false);
     let stop = &stop_flag;
-    let window = 2 * threads;
+    // Never more chunks in flight than the floor lags: a chunk's floor needs the smallest
+    // measures of the chunks FLOOR_LAG back, which the calling thread has handed on by then.
+    let window = (2 * threads).min(FLOOR_LAG);
+    let first = first_measure(&home, &start.joints);
+    // floors[k]: the first sample's measure and the smallest of chunks 0..=k, in order.
+    let mut floors: Vec<f64> = Vec::with_capacity(n);
     let (tx, rx) = mpsc::channel::<Done>();
     // Chunk c's message once received, and whether it was sent to a worker, in slot
     // c % window: the chunks in flight are never more than `window` apart.
@@ -499,7 +394,7 @@ pub fn walk_in_chunks(
     let mut spare: Vec<Vec<SampleRecord>> = Vec::new();
     let robot = parts.walker.robot;
     rayon::in_place_scope(|scope| {
-        let spawn = |c: usize, mut records: Vec<SampleRecord>| -> bool {
+        let spawn = |c: usize, mut records: Vec<SampleRecord>, floors: &[f64]| -> bool {
             let from = match c {
                 0 => ChunkFrom::Start,
                 _ => match guessed[c - 1] {
@@ -508,6 +403,7 @@ pub fn walk_in_chunks(
                 },
             };
             let tx = tx.clone();
+            let floor = floor_of(c, floors, first);
             scope.spawn(move |_| {
                 records.clear();
                 let walked = catch_unwind(AssertUnwindSafe(|| {
@@ -517,7 +413,7 @@ pub fn walk_in_chunks(
                         stop,
                         cap,
                     };
-                    let walked = w.walk_chunk(start, c, from, &mut keep, stop);
+                    let walked = w.walk_chunk(start, c, from, floor, &mut keep, stop);
                     (!keep.overflowed()).then_some(walked)
                 }))
                 .ok()
@@ -533,7 +429,7 @@ pub fn walk_in_chunks(
         };
         let mut next = 0;
         while next < n.min(window) {
-            launched[next % window] = spawn(next, Vec::with_capacity(chunk + PRIME));
+            launched[next % window] = spawn(next, Vec::with_capacity(chunk + PRIME), &floors);
             next += 1;
         }
         let mut carried: Option<Carried> = None;
@@ -588,14 +484,17 @@ pub fn walk_in_chunks(
                     if c > 0 {
                         work.rewalked_chunks += 1;
                     }
-                    home.walk_chunk(start, c, from, &mut out, stop).exit
+                    home.walk_chunk(start, c, from, floor_of(c, &floors, first), &mut out, stop)
+                        .exit
                 }
             };
             add_work(&mut work, &exit.state.work);
+            let before = floors.last().copied().unwrap_or(first);
+            floors.push(before.min(exit.state.min_measure));
             carried = Some(exit);
             if next < n {
                 let records = spare.pop().unwrap_or_default();
-                launched[next % window] = spawn(next, records);
+                launched[next % window] = spawn(next, records, &floors);
                 next += 1;
             }
         }
@@ -607,45 +506,5 @@ pub fn walk_in_chunks(
         length: out.s,
         duration: out.t,
         ..work
-    }
-}
-
-#[cfg(test)]
-mod tests {
-    use super::*;
-
-    #[test]
-    fn boundaries_lie_inside_straight_lines_a_chunk_apart() {
-        // source: common practice (the grid's own definition, counted sample by sample).
-        let dir = std::path::Path::new(env!("CARGO_MANIFEST_DIR"));
-        let job = crate::job::load(
-            &dir.join("paths/rib_weld.yaml"),
-            &crate::job::Overrides::default(),
-        )
-        .unwrap();
-        let plan = crate::plan::plan(&job, u64::MAX).unwrap();
-        for chunk in [1, 5, 64, 300] {
-            let grid = chunk_grid(&plan, chunk);
-            assert!(!grid.is_empty(), "chunk {chunk}");
-            // Walk every sample position in order, counting samples since the last boundary.
-            let (mut since, mut s0, mut b) = (1usize, 0.0f64, 0);
-            for k in 0..plan.segment_count() {
-                let seg = plan.segment(k).unwrap();
-                for i in 1..=seg.steps {
-                    let here = Pos { seg: k, step: i };
-                    if grid.get(b).map(|g| g.pos) == Some(here) {
-                        assert_eq!(seg.motion, Motion::Linear, "chunk {chunk}");
-                        assert!(i > PRIME, "room for the priming samples");
-                        assert!(since >= chunk, "chunk {chunk}: {since} samples");
-                        assert_eq!(grid[b].s0.to_bits(), s0.to_bits());
-                        since = 0;
-                        b += 1;
-                    }
-                    since += 1;
-                }
-                s0 += seg.length;
-            }
-            assert_eq!(b, grid.len(), "chunk {chunk}: every boundary met in order");
-        }
     }
 }

@@ -5,12 +5,28 @@ use super::super::WalkTotals;
 use crate::robot::{Joints, SingularityScreen};
 use crate::solve::SampleRecord;
 
+/// Chunks by which the screen's floor lags ([`State::floor`]): the walk in chunks knows the
+/// smallest measures of the chunks this far back when it sends a chunk to a worker, so it
+/// keeps at most this many chunks in flight.
+pub(super) const FLOOR_LAG: usize = 8;
+
 /// What the walk keeps between samples.
 #[derive(Clone)]
 pub(super) struct State {
     pub(super) prev: Option<SampleRecord>,
-    /// Smallest singularity measure so far.
+    /// Smallest singularity measure so far in the chunk (see [`super::Walker::with_grid`]).
     pub(super) min_measure: f64,
+    /// A singularity measure that some sample of the walk has, at most that of the path's
+    /// first sample and of every chunk at least [`FLOOR_LAG`] chunks back: the smallest
+    /// measure of the whole path is at most this, so a sample proven above it (and above the
+    /// chunk's own smallest) cannot be the path's smallest. It depends on the path alone, not
+    /// on how the walk is split over threads.
+    pub(super) floor: f64,
+    /// The smallest measure of each of the last [`FLOOR_LAG`] chunks, by chunk index modulo
+    /// the lag (folded into `floor` once it lags enough).
+    pub(super) recent: [f64; FLOOR_LAG],
+    /// `floor` was set for this chunk by the walk in chunks and is not folded at its start.
+    pub(super) floor_given: bool,
     pub(super) index: usize,
     pub(super) s: f64,
     pub(super) t: f64,
@@ -46,12 +62,23 @@ impl State {
             prev_speed_valid: false,
             screen: SingularityScreen::new(),
             grid_next: 0,
+            floor: f64::INFINITY,
+            recent: [f64::INFINITY; FLOOR_LAG],
+            floor_given: false,
         }
     }
 
-    /// Start the singularity screen afresh, as at a walk's start: the next sample is measured
-    /// exactly and the smallest measure so far is forgotten.
-    pub(super) fn restart_screen(&mut self) {
+    /// Enter chunk `c` (at its first sample): the chunk `c - FLOOR_LAG` now lags enough to
+    /// lower the floor, the chunk just ended is remembered, and the singularity screen starts
+    /// afresh: the next sample is measured exactly and the chunk's smallest measure is
+    /// forgotten.
+    pub(super) fn enter_chunk(&mut self, c: usize) {
+        if !self.floor_given {
+            if c >= FLOOR_LAG {
+                self.floor = self.floor.min(self.recent[c % FLOOR_LAG]);
+            }
+            self.recent[(c - 1) % FLOOR_LAG] = self.min_measure;
+        }
         self.screen = SingularityScreen::new();
         self.min_measure = f64::INFINITY;
     }
