@@ -1,6 +1,7 @@
 //! The closed-form branches: from a TCP pose to the (at most eight) canonical solutions,
 //! each labelled with its configuration and special-pose flags.
 
+use super::arctan::atan2;
 use super::{Config, Elbow, OrthoParallel, Shoulder, SpecialPose, Wrist};
 use nalgebra::Isometry3;
 use std::f64::consts::{PI, TAU};
@@ -117,8 +118,9 @@ impl OrthoParallel {
     /// Every closed-form solution of `base_T_tcp` in canonical angles, in configuration order.
     ///
     /// Sines and cosines of θ1, θ2 and θ2 + θ3 are formed algebraically from the wrist centre
-    /// (no trigonometric calls besides the atan2 that yields each output angle and one acos
-    /// per shoulder branch): that is what keeps all eight solutions near a microsecond.
+    /// (no trigonometric calls besides the atan2 that yields each output angle, the solver's
+    /// own [`atan2`], and one acos per shoulder branch): that is what keeps all eight
+    /// solutions near a microsecond.
     /// `arms`: compute just these shoulder and elbow branches (both wrist solutions of each
     /// come along; they cost nothing extra), as path following needs.
     pub(super) fn raw(
@@ -179,7 +181,7 @@ impl OrthoParallel {
                 let norm = (c * c + s * s).sqrt();
                 (c / norm, s / norm)
             };
-            let theta1 = s1.atan2(c1);
+            let theta1 = atan2(s1, c1);
             let px = x1 - g.a1;
             let p2 = px * px + pz * pz;
             let cos3 = (p2 - g.c2 * g.c2 - g.k * g.k) / two_c2k;
@@ -220,7 +222,7 @@ impl OrthoParallel {
                         (0.0, 1.0)
                     }
                 };
-                let theta2 = st2.atan2(ct2);
+                let theta2 = atan2(st2, ct2);
                 let theta3 = sigma * phi3 - g.psi;
                 let (ct3, st3) = (cos3 * cos_psi + sp * sin_psi, sp * cos_psi - cos3 * sin_psi);
                 let s23 = st2 * ct3 + ct2 * st3;
@@ -234,19 +236,19 @@ impl OrthoParallel {
                 let (m00, m10, m20) = (dot(&k0, 0), dot(&k1, 0), dot(&k2, 0));
                 let (m02, m12, m22) = (dot(&k0, 2), dot(&k1, 2), dot(&k2, 2));
                 let h = (m02 * m02 + m12 * m12).sqrt();
-                let theta5 = h.atan2(m22);
+                let theta5 = atan2(h, m22);
                 let free_wrist = h <= FREE_CHOICE;
                 let (theta4, s4, c4) = if free_wrist {
                     let (s, c) = free.theta4.sin_cos();
                     (free.theta4, s, c)
                 } else {
-                    (m12.atan2(m02), m12 / h, m02 / h)
+                    (atan2(m12, m02), m12 / h, m02 / h)
                 };
                 // θ6 from what Rz(θ4)·Ry(θ5) leaves of the wrist rotation, so that the three
                 // angles reproduce it exactly even where θ4 is poorly conditioned.
                 let a = c4 * m00 + s4 * m10;
                 let bb = -s4 * m00 + c4 * m10;
-                let theta6 = bb.atan2(m22 * a - h * m20);
+                let theta6 = atan2(bb, m22 * a - h * m20);
                 let special = SpecialPose {
                     wrist_singular: h <= SPECIAL,
                     ..special_arm
