@@ -114,6 +114,14 @@ pub(super) fn wrap(x: f64) -> f64 {
     y
 }
 
+/// Sine and cosine of an angle taken where it is free (rare): out of line so that the
+/// compiler does not compute it ahead of the test on every call, which it did inline.
+#[cold]
+#[inline(never)]
+fn sin_cos_cold(angle: f64) -> (f64, f64) {
+    angle.sin_cos()
+}
+
 impl OrthoParallel {
     /// Every closed-form solution of `base_T_tcp` in canonical angles, in configuration order.
     ///
@@ -152,7 +160,7 @@ impl OrthoParallel {
         // Wrist centre on axis 1 (only reachable with b = 0): θ1 is free.
         let free_shoulder = rho2 <= free_tol2;
         let (fs, fc) = if free_shoulder {
-            free.theta1.sin_cos()
+            sin_cos_cold(free.theta1)
         } else {
             (0.0, 1.0)
         };
@@ -161,7 +169,7 @@ impl OrthoParallel {
         let two_c2k = 2.0 * g.c2 * g.k;
         let (sin_psi, cos_psi) = (g.a2 / g.k, g.c3 / g.k);
         let mut n = 0;
-        for shoulder in [Shoulder::Front, Shoulder::Back] {
+        for &shoulder in &[Shoulder::Front, Shoulder::Back] {
             if !arms.has_shoulder(shoulder) {
                 continue;
             }
@@ -199,11 +207,11 @@ impl OrthoParallel {
             };
             // Up is the positive elbow angle at the front, the negative one at the back (see
             // `config`); list up first.
-            let sigmas = match shoulder {
-                Shoulder::Front => [1.0, -1.0],
-                Shoulder::Back => [-1.0, 1.0],
+            let up_sigma = match shoulder {
+                Shoulder::Front => 1.0,
+                Shoulder::Back => -1.0,
             };
-            for (sigma, elbow) in sigmas.into_iter().zip([Elbow::Up, Elbow::Down]) {
+            for &(sigma, elbow) in &[(up_sigma, Elbow::Up), (-up_sigma, Elbow::Down)] {
                 if !arms.has(shoulder, elbow) {
                     continue;
                 }
@@ -239,7 +247,7 @@ impl OrthoParallel {
                 let theta5 = atan2(h, m22);
                 let free_wrist = h <= FREE_CHOICE;
                 let (theta4, s4, c4) = if free_wrist {
-                    let (s, c) = free.theta4.sin_cos();
+                    let (s, c) = sin_cos_cold(free.theta4);
                     (free.theta4, s, c)
                 } else {
                     (atan2(m12, m02), m12 / h, m02 / h)
