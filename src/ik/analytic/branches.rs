@@ -140,7 +140,10 @@ impl OrthoParallel {
     ) -> usize {
         let g = &self.model.geometry;
         let (t, q) = (&base_T_tcp.translation.vector, base_T_tcp.rotation.coords);
-        if !(t.iter().all(|v| v.is_finite()) && q.iter().all(|v| v.is_finite())) {
+        // x·0 is zero for finite x and NaN for an infinity or NaN: one sum tests all seven.
+        let probe =
+            (t.x * 0.0 + t.y * 0.0 + t.z * 0.0) + (q.x * 0.0 + q.y * 0.0) + (q.z * 0.0 + q.w * 0.0);
+        if probe != 0.0 {
             return 0;
         }
         let C_T_flange = self.C_T_base * base_T_tcp * self.tcp_T_flange;
