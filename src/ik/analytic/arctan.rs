@@ -1,6 +1,6 @@
 //! The closed form's own two-argument arctangent: the solver forms five to eighteen angles
-//! per pose with it, and the system library's `atan2` (with its error-handling wrapper) cost
-//! about three times as many instructions as this table-and-polynomial version.
+//! per pose with it, and the system library's `atan2` (with its error-handling wrapper) took
+//! over three times as many instructions as this table-and-polynomial version.
 //!
 //! Accuracy: within 2 ulp of the library's (correctly rounded or nearly so) result on finite
 //! inputs; the test below checks that on over a million inputs. The solver's answers move
@@ -11,8 +11,9 @@
 //! the first two breakpoints use c = 0 (then r = t exactly, |r| < 3/64), because a reduction
 //! against c = 1/32 would carry the rounding of r into a result no larger than r. atan r is
 //! its Taylor series to r¹¹, whose remainder (< r¹³/13) stays below 10⁻¹⁷·|r| for
-//! |r| < 3/64: under a tenth of the result's last unit. atan c is stored as a rounded value plus its remainder, and so are π/2 and π
-//! for the octant and quadrant shifts, so that the shifts add only the final rounding.
+//! |r| < 3/64: under a tenth of the result's last unit. atan c is stored as a rounded value
+//! plus its remainder, and so are π/2 and π for the octant and quadrant shifts, so that the
+//! shifts add only the final rounding.
 
 use std::f64::consts::{FRAC_PI_2, FRAC_PI_4, PI};
 
@@ -74,8 +75,8 @@ const INDEXER: f64 = 6_755_399_441_055_744.0;
 
 /// Angle (rad) of the point (x, y) from the positive x axis, in [−π, π], for finite `y`, `x`:
 /// the same contract as `f64::atan2`, signed zeros included (atan2(±0, −0) = ±π,
-/// atan2(±0, +0) = ±0), within 2 ulp of it. Not for infinite inputs (both infinite give NaN);
-/// NaN in gives NaN out.
+/// atan2(±0, +0) = ±0), within 2 ulp of it. Infinite or NaN inputs give an unspecified value
+/// (NaN for most), never a panic; the solver tests its target for them first.
 #[inline]
 pub(super) fn atan2(y: f64, x: f64) -> f64 {
     let (ax, ay) = (x.abs(), y.abs());
