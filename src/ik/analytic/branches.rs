@@ -1,6 +1,7 @@
 //! The closed-form branches: from a TCP pose to the (at most eight) canonical solutions,
 //! each labelled with its configuration and special-pose flags.
 
+use super::arctan::atan2;
 use super::{Config, Elbow, OrthoParallel, Shoulder, SpecialPose, Wrist};
 use nalgebra::Isometry3;
 use std::f64::consts::{PI, TAU};
@@ -84,20 +85,19 @@ pub(super) struct Free {
     pub(super) theta4: f64,
 }
 
-/// Nearest whole number to `x` (ties away from zero not guaranteed), as f64. The solver's
-/// hot loops avoid `f64::round`/`floor`, which are library calls on baseline x86-64 and showed
-/// up in profiles; a truncating cast is one instruction. Saturates beyond ±9.2e18, where f64
-/// has no fraction anyway.
+/// Adding and subtracting this (1.5·2⁵²) rounds an f64 of magnitude below 2⁵¹ to a whole
+/// number: the sum lies in [2⁵², 2⁵³), where the spacing of f64 is exactly 1, so the addition
+/// itself does the rounding (to nearest, ties to even) and the subtraction is exact.
+const ROUNDER: f64 = 6_755_399_441_055_744.0;
+
+/// Nearest whole number to `x` (ties to even), as f64. The solver's hot loops avoid
+/// `f64::round`/`floor`, which are library calls on baseline x86-64 and showed up in
+/// profiles, and a saturating cast, which costs several compares; this is two additions.
+/// Exact for |x| < 2⁵¹; beyond that `x` is whole or nearly so and the result stays within
+/// one unit of it (finite for finite `x`).
 #[inline]
 pub(super) fn nearest_int(x: f64) -> f64 {
-    let f = x + 0.5;
-    let t = f as i64 as f64;
-    // Truncation rounds negative values up: step back where it did.
-    if t > f {
-        t - 1.0
-    } else {
-        t
-    }
+    (x + ROUNDER) - ROUNDER
 }
 
 /// Angle brought to (−π, π].
@@ -114,12 +114,21 @@ pub(super) fn wrap(x: f64) -> f64 {
     y
 }
 
+/// Sine and cosine of an angle taken where it is free (rare): out of line so that the
+/// compiler does not compute it ahead of the test on every call, which it did inline.
+#[cold]
+#[inline(never)]
+fn sin_cos_cold(angle: f64) -> (f64, f64) {
+    angle.sin_cos()
+}
+
 impl OrthoParallel {
     /// Every closed-form solution of `base_T_tcp` in canonical angles, in configuration order.
     ///
     /// Sines and cosines of θ1, θ2 and θ2 + θ3 are formed algebraically from the wrist centre
-    /// (no trigonometric calls besides the atan2 that yields each output angle and one acos
-    /// per shoulder branch): that is what keeps all eight solutions near a microsecond.
+    /// (no trigonometric calls besides the atan2 that yields each output angle, the solver's
+    /// own [`atan2`], and one acos per shoulder branch): that is what keeps all eight
+    /// solutions near a microsecond.
     /// `arms`: compute just these shoulder and elbow branches (both wrist solutions of each
     /// come along; they cost nothing extra), as path following needs.
     pub(super) fn raw(
@@ -131,7 +140,10 @@ impl OrthoParallel {
     ) -> usize {
         let g = &self.model.geometry;
         let (t, q) = (&base_T_tcp.translation.vector, base_T_tcp.rotation.coords);
-        if !(t.iter().all(|v| v.is_finite()) && q.iter().all(|v| v.is_finite())) {
+        // x·0 is zero for finite x and NaN for an infinity or NaN: one sum tests all seven.
+        let probe =
+            (t.x * 0.0 + t.y * 0.0 + t.z * 0.0) + (q.x * 0.0 + q.y * 0.0) + (q.z * 0.0 + q.w * 0.0);
+        if probe != 0.0 {
             return 0;
         }
         let C_T_flange = self.C_T_base * base_T_tcp * self.tcp_T_flange;
@@ -151,7 +163,7 @@ impl OrthoParallel {
         // Wrist centre on axis 1 (only reachable with b = 0): θ1 is free.
         let free_shoulder = rho2 <= free_tol2;
         let (fs, fc) = if free_shoulder {
-            free.theta1.sin_cos()
+            sin_cos_cold(free.theta1)
         } else {
             (0.0, 1.0)
         };
@@ -160,7 +172,7 @@ impl OrthoParallel {
         let two_c2k = 2.0 * g.c2 * g.k;
         let (sin_psi, cos_psi) = (g.a2 / g.k, g.c3 / g.k);
         let mut n = 0;
-        for shoulder in [Shoulder::Front, Shoulder::Back] {
+        for &shoulder in &[Shoulder::Front, Shoulder::Back] {
             if !arms.has_shoulder(shoulder) {
                 continue;
             }
@@ -180,7 +192,7 @@ impl OrthoParallel {
                 let norm = (c * c + s * s).sqrt();
                 (c / norm, s / norm)
             };
-            let theta1 = s1.atan2(c1);
+            let theta1 = atan2(s1, c1);
             let px = x1 - g.a1;
             let p2 = px * px + pz * pz;
             let cos3 = (p2 - g.c2 * g.c2 - g.k * g.k) / two_c2k;
@@ -198,11 +210,11 @@ impl OrthoParallel {
             };
             // Up is the positive elbow angle at the front, the negative one at the back (see
             // `config`); list up first.
-            let sigmas = match shoulder {
-                Shoulder::Front => [1.0, -1.0],
-                Shoulder::Back => [-1.0, 1.0],
+            let up_sigma = match shoulder {
+                Shoulder::Front => 1.0,
+                Shoulder::Back => -1.0,
             };
-            for (sigma, elbow) in sigmas.into_iter().zip([Elbow::Up, Elbow::Down]) {
+            for &(sigma, elbow) in &[(up_sigma, Elbow::Up), (-up_sigma, Elbow::Down)] {
                 if !arms.has(shoulder, elbow) {
                     continue;
                 }
@@ -221,7 +233,7 @@ impl OrthoParallel {
                         (0.0, 1.0)
                     }
                 };
-                let theta2 = st2.atan2(ct2);
+                let theta2 = atan2(st2, ct2);
                 let theta3 = sigma * phi3 - g.psi;
                 let (ct3, st3) = (cos3 * cos_psi + sp * sin_psi, sp * cos_psi - cos3 * sin_psi);
                 let s23 = st2 * ct3 + ct2 * st3;
@@ -235,19 +247,19 @@ impl OrthoParallel {
                 let (m00, m10, m20) = (dot(&k0, 0), dot(&k1, 0), dot(&k2, 0));
                 let (m02, m12, m22) = (dot(&k0, 2), dot(&k1, 2), dot(&k2, 2));
                 let h = (m02 * m02 + m12 * m12).sqrt();
-                let theta5 = h.atan2(m22);
+                let theta5 = atan2(h, m22);
                 let free_wrist = h <= FREE_CHOICE;
                 let (theta4, s4, c4) = if free_wrist {
-                    let (s, c) = free.theta4.sin_cos();
+                    let (s, c) = sin_cos_cold(free.theta4);
                     (free.theta4, s, c)
                 } else {
-                    (m12.atan2(m02), m12 / h, m02 / h)
+                    (atan2(m12, m02), m12 / h, m02 / h)
                 };
                 // θ6 from what Rz(θ4)·Ry(θ5) leaves of the wrist rotation, so that the three
                 // angles reproduce it exactly even where θ4 is poorly conditioned.
                 let a = c4 * m00 + s4 * m10;
                 let bb = -s4 * m00 + c4 * m10;
-                let theta6 = bb.atan2(m22 * a - h * m20);
+                let theta6 = atan2(bb, m22 * a - h * m20);
                 let special = SpecialPose {
                     wrist_singular: h <= SPECIAL,
                     ..special_arm
@@ -296,5 +308,28 @@ mod tests {
         assert_eq!(nearest_int(-2.4), -2.0);
         assert_eq!(nearest_int(2.6), 3.0);
         assert_eq!(nearest_int(-0.2), 0.0);
+    }
+
+    #[test]
+    fn nearest_int_rounds_to_the_nearest_whole_number() {
+        // source: IEEE 754-2008 §4.3.1 (round to nearest, ties to even); the reference is
+        // f64::round_ties_even of Rust's standard library (1.77 and later) away from ties.
+        for x in [0.5, 1.5, 2.5, -0.5, -1.5, -2.5] {
+            assert_eq!(nearest_int(x), x.round_ties_even(), "{x}");
+        }
+        let mut rng = crate::rng::SplitMix64::new(0x71e5);
+        for _ in 0..100_000 {
+            // Magnitudes from 1e-3 to 1e15, both signs.
+            let mag = 10f64.powf(-3.0 + 18.0 * rng.next_f64());
+            let x = if rng.next_f64() < 0.5 { -mag } else { mag };
+            assert_eq!(nearest_int(x), x.round_ties_even(), "{x}");
+        }
+        // Largest exact magnitude and beyond: whole, within one unit.
+        let big = 2f64.powi(51) - 0.5;
+        assert_eq!(nearest_int(big), big.round_ties_even());
+        for x in [3e15, -3e15, 1e18, -1e300, 1e300] {
+            let r = nearest_int(x);
+            assert!(r.is_finite() && (r - x).abs() <= 1.0f64.max(x.abs() * f64::EPSILON));
+        }
     }
 }

@@ -45,6 +45,7 @@
 //!
 //! All solving is allocation-free; results live in a fixed-capacity [`Solutions`].
 
+mod arctan;
 mod branches;
 mod config;
 mod detect;
@@ -64,6 +65,10 @@ use std::f64::consts::{PI, TAU};
 
 /// Most windings kept per joint: a range of up to three full turns (±540°) has at most four.
 const MAX_WINDINGS: usize = 4;
+
+/// 1/2π, so that turns are counted with a multiplication: the quotient differs from a
+/// division by 2π by at most one ulp, which can move only an exact half-turn tie.
+const INV_TAU: f64 = 1.0 / TAU;
 
 /// Joint values up to this far (rad) outside a limit count as inside, as in
 /// [`crate::robot::JointInfo::contains`]: it absorbs rounding at a limit reached exactly.
@@ -308,11 +313,20 @@ impl OrthoParallel {
         Some(self.windings_near(sol, q_ref))
     }
 
-    /// `sol` with each joint on the winding nearest `q_ref`.
+    /// `sol` with each joint on the winding nearest `q_ref` (URDF joints, rad, six finite
+    /// values): `v + 2πk` for the URDF value `v` of the canonical angle and the whole `k`
+    /// nearest `(q_ref − v)/2π`. The result is the one winding within half a turn of the
+    /// reference (either one at an exact half turn); it equals the principal value shifted by
+    /// whole turns up to the rounding of one addition, so no separate wrap to (−π, π] is
+    /// needed.
     #[inline]
     fn windings_near(&self, sol: &Raw, q_ref: &Joints) -> Joints {
-        let base = self.principal(&sol.theta);
-        six(|i| base[i] + TAU * nearest_int((q_ref[i] - base[i]) / TAU))
+        let mut out = [0.0; 6];
+        for (i, o) in out.iter_mut().enumerate() {
+            let v = self.model.sign[i] * (sol.theta[i] - self.model.offset[i]);
+            *o = v + TAU * nearest_int((q_ref[i] - v) * INV_TAU);
+        }
+        Joints::from(out)
     }
 
     /// The branches `arms` of `base_T_tcp` solved once, for following several configurations
