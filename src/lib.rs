@@ -25,6 +25,7 @@
 #![warn(missing_docs)]
 #![allow(non_snake_case)]
 
+mod arctan;
 pub mod assess;
 pub mod cell;
 pub mod check;

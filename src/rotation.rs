@@ -85,7 +85,7 @@ pub fn log(r: &UnitQuaternion<f64>) -> Vector3<f64> {
 pub fn angle_between(a: &UnitQuaternion<f64>, b: &UnitQuaternion<f64>) -> f64 {
     let q = (a.inverse() * b).into_inner();
     // 2·atan2(|v|, |w|) is accurate at every angle, unlike 2·acos(|w|) near zero.
-    2.0 * q.imag().norm().atan2(q.w.abs())
+    2.0 * crate::arctan::atan2(q.imag().norm(), q.w.abs())
 }
 
 /// The shortest rotation path from `start` to `end`, precomputed for repeated evaluation.

@@ -1,8 +1,8 @@
 //! The closed-form branches: from a TCP pose to the (at most eight) canonical solutions,
 //! each labelled with its configuration and special-pose flags.
 
-use super::arctan::atan2;
 use super::{Config, Elbow, OrthoParallel, Shoulder, SpecialPose, Wrist};
+use crate::arctan::atan2;
 use nalgebra::Isometry3;
 use std::f64::consts::{PI, TAU};
 

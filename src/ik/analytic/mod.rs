@@ -45,7 +45,6 @@
 //!
 //! All solving is allocation-free; results live in a fixed-capacity [`Solutions`].
 
-mod arctan;
 mod branches;
 mod config;
 mod detect;

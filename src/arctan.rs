@@ -1,6 +1,8 @@
-//! The closed form's own two-argument arctangent: the solver forms five to eighteen angles
-//! per pose with it, and the system library's `atan2` (with its error-handling wrapper) took
-//! over three times as many instructions as this table-and-polynomial version.
+//! armpath's own two-argument arctangent, for the per-sample loop: the closed-form solver
+//! forms five to eighteen angles per pose with it, and the walk measures the tool's turn
+//! between samples with it ([`crate::rotation::angle_between`]). The system library's
+//! `atan2` (with its error-handling wrapper) took over three times as many instructions as
+//! this table-and-polynomial version.
 //!
 //! Accuracy: within 2 ulp of the library's (correctly rounded or nearly so) result on finite
 //! inputs; the test below checks that on over a million inputs. The solver's answers move
@@ -78,7 +80,7 @@ const INDEXER: f64 = 6_755_399_441_055_744.0;
 /// atan2(±0, +0) = ±0), within 2 ulp of it. Infinite or NaN inputs give an unspecified value
 /// (NaN for most), never a panic; the solver tests its target for them first.
 #[inline]
-pub(super) fn atan2(y: f64, x: f64) -> f64 {
+pub(crate) fn atan2(y: f64, x: f64) -> f64 {
     let (ax, ay) = (x.abs(), y.abs());
     let steep = ay > ax;
     let (num, den) = if steep { (ax, ay) } else { (ay, ax) };
