@@ -368,6 +368,9 @@ impl<'a> Walker<'a> {
         let JointMoveTiming { steps, synced } = self.joint_move_timing(seg, &q0, &q1);
         let mut t_prev = 0.0;
         for i in 1..=steps {
+            if sink.done() {
+                return;
+            }
             let u = i as f64 / steps as f64;
             let t_now = synced.ramp.t_at(u);
             let dt = t_now - t_prev;

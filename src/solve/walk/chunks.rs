@@ -200,7 +200,8 @@ impl Keep<'_> {
 
 impl SampleSink for Keep<'_> {
     fn sample(&mut self, _robot: &Robot, rec: &SampleRecord) {
-        if let Some(r) = self.records.as_mut() {
+        let cap = self.cap;
+        if let Some(r) = self.records.as_mut().filter(|r| r.len() <= cap) {
             r.push(*rec);
         }
     }
@@ -506,5 +507,62 @@ pub fn walk_in_chunks(
         length: out.s,
         duration: out.t,
         ..work
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn a_worker_keeps_no_more_than_its_cap_and_then_asks_to_stop() {
+        // source: common practice (the cap is what bounds a worker's memory: a chunk holding a
+        // long joint move must not be buffered whole).
+        let dir = std::path::Path::new(env!("CARGO_MANIFEST_DIR"));
+        let robot = crate::robot::load_urdf(&dir.join("robots/arm6.urdf"), None).unwrap();
+        let stop = AtomicBool::new(false);
+        let mut records = Vec::new();
+        let mut keep = Keep {
+            records: Some(&mut records),
+            stop: &stop,
+            cap: 3,
+        };
+        let q = Joints::zeros(6);
+        let rec = SampleRecord {
+            index: 0,
+            segment: 0,
+            waypoint: None,
+            motion: crate::job::Motion::Joint,
+            s: 0.0,
+            t: 0.0,
+            dt: 0.0,
+            target: Isometry3::identity(),
+            reach: crate::solve::Reach::Reached,
+            position_error: 0.0,
+            orientation_error: 0.0,
+            joints: q,
+            joint_speed: q,
+            joint_acceleration: q,
+            tcp_speed: 0.0,
+            tool_angular_speed: 0.0,
+            singularity: 1.0,
+            singularity_class: None,
+            jump: None,
+        };
+        for k in 0..10 {
+            assert_eq!(keep.done(), k > 3, "after {k} samples");
+            keep.sample(&robot, &rec);
+        }
+        assert!(keep.overflowed());
+        assert_eq!(records.len(), 4);
+        // The whole walk stopping stops every worker, full or not.
+        let mut spare = Vec::new();
+        let keep = Keep {
+            records: Some(&mut spare),
+            stop: &stop,
+            cap: 3,
+        };
+        stop.store(true, Ordering::Relaxed);
+        assert!(keep.done() && !keep.overflowed());
     }
 }
