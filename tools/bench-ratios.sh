@@ -27,6 +27,7 @@ pairs=(
   "closed form, one branch vs one k solve|ik_arm6/closed_form_one_branch_near|ik_arm6/k_jacobian_one_solve_near_seed"
   "numerical IK, one solve vs one k solve|ik_arm6/numeric_one_solve_near_seed|ik_arm6/k_jacobian_one_solve_near_seed"
   "whole check vs plain k IK loop|check_30k/armpath check (all findings)|check_30k/k IK loop (IK only)"
+  "whole check on two threads vs plain k IK loop|check_30k/armpath check (all findings, 2 threads)|check_30k/k IK loop (IK only)"
   "whole check, two threads vs one|check_30k/armpath check (all findings, 2 threads)|check_30k/armpath check (all findings)"
 )
 
