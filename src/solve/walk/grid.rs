@@ -38,7 +38,7 @@ impl Pos {
 /// Where a chunk of the main walk begins.
 #[derive(Debug, Clone, Copy)]
 pub struct Boundary {
-    /// The chunk's first sample, on a straight-line segment, at least [`PRIME`] + 1 samples
+    /// The chunk's first sample, on a straight-line segment, at least three samples
     /// into it.
     pub pos: Pos,
     /// Path distance at the start of the sample's segment (m), summed as the walk sums it.
