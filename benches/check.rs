@@ -1,5 +1,5 @@
-//! The whole check on a path of 30,000+ samples (on one thread, and on two: the main walk
-//! beside the configuration table), next to a plain `k` IK loop over the same sample poses
+//! The whole check on a path of 30,000+ samples (on one thread, and on two: the main walk in
+//! chunks on both, beside the configuration table), next to a plain `k` IK loop over the same sample poses
 //! (warm-started from the previous solution) in the same run.
 //!
 //! Run: `cargo bench --bench check`
@@ -84,8 +84,9 @@ fn bench(c: &mut Criterion) {
             black_box(Report::from_outcome(&outcome).unwrap())
         })
     });
-    // The same check on two threads: the main walk starts at once on this thread while the
-    // configuration table is built on a rayon worker (the demo seam's first guess holds).
+    // The same check on two threads: the main walk starts at once, in chunks walked on the
+    // rayon workers and handed on in order by this thread, while the configuration table is
+    // built on a worker too (the demo seam's first guess holds).
     let two = CheckOptions {
         threads: 2,
         ..options
