@@ -169,3 +169,42 @@ waypoints:
     let job = armpath::job::load(&file, &Default::default()).unwrap();
     assert!(compare("joint move between seams", &job, 8) > 0);
 }
+
+proptest::proptest! {
+    #![proptest_config(proptest::prelude::ProptestConfig::with_cases(24))]
+
+    #[test]
+    fn random_paths_in_random_chunks_give_the_single_walks_samples(
+        points in proptest::collection::vec(
+            (-500.0f64..500.0, -400.0f64..700.0, -150.0f64..700.0,
+             140.0f64..220.0, 0.0f64..90.0, -180.0f64..180.0, proptest::bool::weighted(0.25)),
+            2..6,
+        ),
+        step in 0.5f64..4.0,
+        chunk in 3usize..300,
+    ) {
+        // source: common practice (the single walk is the reference, bit for bit). Waypoints
+        // anywhere around the demo cell, some out of reach, a quarter reached by joint moves,
+        // at random steps and chunk sizes.
+        let mut yaml = format!(
+            "units: {{length: mm, angle: deg}}
+robot: {}
+tool: {{xyz: [0, 0, 180], rpy: [0, 0, 0]}}
+work_frame: {{xyz: [850, -150, 250], rpy: [0, 0, 0]}}
+speed: 100
+sampling: {{step: {step}}}
+waypoints:
+",
+            arm6()
+        );
+        for (k, (x, y, z, rx, ry, rz, joint)) in points.iter().enumerate() {
+            let motion = if *joint && k > 0 { ", motion: joint" } else { "" };
+            yaml.push_str(&format!(
+                "  - {{xyz: [{x:.1}, {y:.1}, {z:.1}], rpy: [{rx:.1}, {ry:.1}, {rz:.1}]{motion}}}\n"
+            ));
+        }
+        let (_dir, file) = path_file(&yaml);
+        let job = armpath::job::load(&file, &Default::default()).unwrap();
+        compare("random path", &job, chunk);
+    }
+}
