@@ -349,9 +349,8 @@ fn add_work(a: &mut WalkTotals, b: &WalkTotals) {
 /// The main walk from `start` into `sink` by `home` (a walker on the closed form `solver`,
 /// following `config`, the start's configuration), in chunks (`chunk`: the samples per chunk
 /// its grid was made with) on up to `threads` threads (the calling thread feeds the sinks),
-/// with the samples and totals of [`Walker::walk`]. On one
-/// thread, or when called from a rayon worker (whose waiting could hold up the chunks' own
-/// workers), it is that walk.
+/// with the samples and totals of [`Walker::walk`]. On one thread, or when called from a
+/// rayon worker (whose waiting could hold up the chunks' own workers), it is that walk.
 pub fn walk_in_chunks(
     mut home: Walker<'_>,
     solver: &OrthoParallel,
