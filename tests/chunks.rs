@@ -146,11 +146,37 @@ fn a_long_raster_in_default_chunks_needs_no_chunk_walked_twice() {
 
 #[test]
 fn a_chunk_too_long_for_a_worker_is_streamed_by_the_calling_thread_to_the_same_samples() {
-    // source: common practice. A seam, a joint move swinging the arm far round (hundreds of
-    // joint-space samples, against the plan's estimate of a few: boundaries fall only in
-    // straight lines), and a second seam. With 8-sample chunks the chunk holding the joint
-    // move outgrows its cap (twice the chunk size) on the worker and is walked again, streamed,
-    // on the calling thread; the samples are still the single walk's.
+    // source: common practice. The wrist-crossing pass with a 20 mm joint move across the
+    // point where axes 4 and 6 line up: the plan counts that move's samples by its 20 mm
+    // (boundaries fall by that count), but joints 4 and 6 swing about half a turn in it,
+    // hundreds of half-degree samples. With 8-sample chunks the chunk holding the swing
+    // outgrows its cap (twice the chunk size) on the worker and is streamed by the calling
+    // thread instead; the samples are still the single walk's.
+    let yaml = format!(
+        "units: {{length: mm, angle: deg}}
+robot: {}
+tool: {{xyz: [0, 0, 120], rpy: [0, 0, 0]}}
+work_frame: {{xyz: [1050, 0, 940], rpy: [0, 0, 0]}}
+speed: 100
+waypoints:
+  - {{name: a, xyz: [0, -60, 0], rpy: [0, 90, 0]}}
+  - {{name: b, xyz: [0, -10, 0], rpy: [0, 90, 0]}}
+  - {{name: c, xyz: [0, 10, 0], rpy: [0, 90, 0], motion: joint}}
+  - {{name: d, xyz: [0, 60, 0], rpy: [0, 90, 0]}}
+",
+        arm6()
+    );
+    let (_dir, file) = path_file(&yaml);
+    let job = armpath::job::load(&file, &Default::default()).unwrap();
+    assert!(compare("joint move across the wrist line", &job, 8) > 0);
+}
+
+#[test]
+fn boundaries_inside_a_joint_move_to_an_unreachable_end_are_passed_alike() {
+    // source: common practice. A joint move to a waypoint 3 m away: the plan counts
+    // thousands of samples for it and puts chunk boundaries inside, but the walk gives the
+    // move one sample (its end is out of reach) and passes those boundaries there; on any
+    // number of threads the samples are the single walk's.
     let yaml = format!(
         "units: {{length: mm, angle: deg}}
 robot: {}
@@ -160,14 +186,23 @@ speed: 50
 waypoints:
   - {{name: a, xyz: [0, 0, 0], rpy: [180, 45, 0]}}
   - {{name: b, xyz: [0, 60, 0], rpy: [180, 45, 0]}}
-  - {{name: c, xyz: [-500, 500, 0], rpy: [180, 45, 90], motion: joint}}
-  - {{name: d, xyz: [-500, 560, 0], rpy: [180, 45, 90]}}
+  - {{name: far, xyz: [3000, 60, 0], rpy: [180, 45, 0], motion: joint}}
+  - {{name: c, xyz: [0, 120, 0], rpy: [180, 45, 0], motion: joint}}
+  - {{name: d, xyz: [0, 180, 0], rpy: [180, 45, 0]}}
 ",
         arm6()
     );
     let (_dir, file) = path_file(&yaml);
     let job = armpath::job::load(&file, &Default::default()).unwrap();
-    assert!(compare("joint move between seams", &job, 8) > 0);
+    let plan = armpath::plan::plan(&job, u64::MAX).unwrap();
+    let grid = armpath::solve::chunk_grid(&plan, 8);
+    assert!(
+        grid.iter().filter(|b| b.pos.seg == 1).count() > 10,
+        "boundaries in the move"
+    );
+    for chunk in [8, 64] {
+        compare("unreachable joint move end", &job, chunk);
+    }
 }
 
 proptest::proptest! {

@@ -4,6 +4,7 @@
 
 mod chunks;
 mod grid;
+mod joint;
 mod lanes;
 mod state;
 pub use chunks::walk_in_chunks;
@@ -18,7 +19,6 @@ use super::{WalkTotals, RECOVER_EVERY};
 use crate::ik::analytic::{Config, OrthoParallel};
 use crate::ik::IkOptions;
 use crate::job::{Job, Motion};
-use crate::motion::SyncedMove;
 use crate::plan::{Plan, Segment};
 use crate::robot::{Jacobian, Joints, Robot, SingularityModel};
 use crate::rotation;
@@ -154,8 +154,8 @@ impl<'a> Walker<'a> {
     }
 
     /// Walk on from sample `from` (`s0`: the path distance at the start of its segment; a
-    /// sample inside a segment only on a straight-line one) up to, not including, sample
-    /// `until`, or to the end of the path. True when it stopped at `until`.
+    /// sample inside a joint move only once the move is begun, `state.joint`) up to, not
+    /// including, sample `until`, or to the end of the path. True when it stopped at `until`.
     fn walk_between(
         &mut self,
         state: &mut State,
@@ -182,7 +182,11 @@ impl<'a> Walker<'a> {
                         return true;
                     }
                 }
-                Motion::Joint => self.walk_joint(&seg, s0, state, sink),
+                Motion::Joint => {
+                    if self.walk_joint(&seg, s0, first, until, state, sink) {
+                        return true;
+                    }
+                }
             }
             s0 += seg.length;
         }
@@ -224,11 +228,7 @@ impl<'a> Walker<'a> {
             if until == Some(here) {
                 return true;
             }
-            if self.grid.get(state.grid_next).map(|b| b.pos) == Some(here) {
-                // Boundary b begins chunk b + 1.
-                state.enter_chunk(state.grid_next + 1);
-                state.grid_next += 1;
-            }
+            self.boundary_at(here, state);
             let u = i as f64 / steps as f64;
             let t_now = timing.time_at(u);
             let target = seg.run_pose_at(u);
@@ -288,121 +288,12 @@ impl<'a> Walker<'a> {
         solved
     }
 
-    /// Samples and profile of a joint move from `q0` to `q1`: no joint moves more than one
-    /// angle step (or length step for a prismatic joint) between samples; all joints follow
-    /// one acceleration-limited profile at the programmed share of their allowed speed
-    /// ([`SyncedMove`]). Without a programmed share the move runs at the joints' full allowed
-    /// speed and lasts at least the segment's straight-line length at the TCP speed.
-    fn joint_move_timing(&self, seg: &Segment, q0: &Joints, q1: &Joints) -> JointMoveTiming {
-        let limits = &self.job.limits;
-        let steps = self.joint_move_steps(seg, q0, q1);
-        let n = self.robot.dof();
-        let mut delta = Joints::zeros(n);
-        let mut speed = Joints::zeros(n);
-        let mut accel = Joints::zeros(n);
-        for (i, j) in self.robot.joints().iter().enumerate() {
-            delta[i] = q1[i] - q0[i];
-            speed[i] = j.velocity * limits.joint_speed_scale;
-            accel[i] = j.acceleration_limit(limits.joint_acceleration_scale);
-        }
-        let (fraction, min_duration) = match self.plan.joint_speed_fraction(seg.index + 1) {
-            Some(f) => (f, 0.0),
-            None => (1.0, seg.duration),
-        };
-        let synced = SyncedMove::new(&delta, &speed, &accel, fraction, min_duration);
-        JointMoveTiming { steps, synced }
-    }
-
-    /// Samples of a joint move from `q0` to `q1`: the segment's own count, raised so that no
-    /// joint moves more than one angle step (or length step, prismatic) between samples.
-    fn joint_move_steps(&self, seg: &Segment, q0: &Joints, q1: &Joints) -> usize {
-        let mut steps = seg.steps.max(1);
-        for (i, j) in self.robot.joints().iter().enumerate() {
-            let step = if j.kind.is_prismatic() {
-                self.job.sampling.step
-            } else {
-                self.job.sampling.angle_step
-            };
-            steps = steps.max(((q1[i] - q0[i]).abs() / step).ceil() as usize);
-        }
-        steps
-    }
-
-    /// A joint move starting at path distance `s0`. It counts as its straight-line length,
-    /// spread evenly over its joint-space steps: the TCP's route depends on the configuration
-    /// and is not the programmed path.
-    fn walk_joint(&mut self, seg: &Segment, s0: f64, state: &mut State, sink: &mut dyn SampleSink) {
-        let q0 = state.last_good;
-        let end = match self.beyond_reach(&seg.end) {
-            Some(excess) => {
-                state.work.beyond_reach += 1;
-                Solved::unreachable(q0, excess, 0.0)
-            }
-            None => {
-                let end = self.follower.move_end(&seg.end, &q0);
-                state.count(&end);
-                end
-            }
-        };
-        if end.reach == Reach::Unreachable {
-            self.emit(
-                state,
-                sink,
-                EmitArgs {
-                    segment: seg.index,
-                    waypoint: Some(seg.index + 1),
-                    motion: Motion::Joint,
-                    target: seg.end,
-                    target_from_joints: false,
-                    solved: end,
-                    dt: seg.duration,
-                    s: s0 + seg.length,
-                    check_jump: false,
-                    tcp_speed: 0.0,
-                    from_rest: true,
-                },
-            );
-            return;
-        }
-        let q1 = end.q;
-        let JointMoveTiming { steps, synced } = self.joint_move_timing(seg, &q0, &q1);
-        let mut t_prev = 0.0;
-        for i in 1..=steps {
-            if sink.done() {
-                return;
-            }
-            let u = i as f64 / steps as f64;
-            let t_now = synced.ramp.t_at(u);
-            let dt = t_now - t_prev;
-            t_prev = t_now;
-            let q = q0.map(|k, v| v + (q1[k] - v) * u);
-            let last = i == steps;
-            let (pe, oe) = if last {
-                (end.position_error, end.orientation_error)
-            } else {
-                (0.0, 0.0)
-            };
-            self.emit(
-                state,
-                sink,
-                EmitArgs {
-                    segment: seg.index,
-                    waypoint: last.then_some(seg.index + 1),
-                    motion: Motion::Joint,
-                    // Between the ends the target is where the joints put the TCP: the
-                    // emitter's forward kinematics.
-                    target: seg.end,
-                    target_from_joints: !last,
-                    solved: Solved::reached(q, pe, oe),
-                    dt,
-                    s: s0 + seg.length * u,
-                    check_jump: false,
-                    // The TCP's route in a joint move is not the programmed path: its
-                    // speed is not the programmed speed's business.
-                    tcp_speed: 0.0,
-                    from_rest: i == 1,
-                },
-            );
+    /// At sample `here`: enter the chunk that begins there, if one does.
+    fn boundary_at(&self, here: Pos, state: &mut State) {
+        if self.grid.get(state.grid_next).map(|b| b.pos) == Some(here) {
+            // Boundary b begins chunk b + 1.
+            state.enter_chunk(state.grid_next + 1);
+            state.grid_next += 1;
         }
     }
 
@@ -564,12 +455,6 @@ fn acceleration_between(
         }
     }
     acc
-}
-
-/// Samples and shared profile of a joint move (see [`Walker::joint_move_timing`]).
-struct JointMoveTiming {
-    steps: usize,
-    synced: SyncedMove,
 }
 
 /// One sample to emit: where it is on the path and what was solved there.

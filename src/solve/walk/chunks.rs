@@ -1,32 +1,36 @@
 //! The main walk in chunks on several threads, with the results of one thread.
 //!
 //! The path is cut at fixed samples ([`chunk_grid`]: about every [`CHUNK_SAMPLES`] samples,
-//! inside straight-line segments; a function of the plan alone). Chunk 0 is walked from the
-//! start; every other chunk, on a rayon worker, from a guess of the walk's state where it
-//! begins: the joints one sample before [`PRIME`] priming samples, solved in a quick pass
-//! from boundary to boundary along the path ([`guesses`]), on the configuration that pass
-//! follows there. The priming samples are walked but not kept. What a walk carries into the
+//! in straight lines and joint moves alike; a function of the plan alone). Chunk 0 is walked
+//! from the start; every other chunk, on a rayon worker, from a guess of the walk's state
+//! where it begins: the joints one sample before [`PRIME`] priming samples, solved in a
+//! quick pass from boundary to boundary along the path ([`guesses`]), on the configuration
+//! that pass follows there. The priming samples are walked but not kept. What a walk carries into the
 //! chunk's first sample (the previous sample, the last reached joints, the configuration
 //! followed, the unreachable run and its measured distance) is then compared, bit for bit,
 //! with the state the previous chunk really ended in. Equal, the chunk's samples are the
 //! single walk's: the walker is a function of that state and the path from there on, because
 //! the singularity screen restarts at every boundary in every walk
 //! ([`super::Walker::with_grid`]) with a floor known before the chunk is walked
-//! ([`State::floor`], handed to the chunk's walker). Different (a winding or configuration the guess got wrong,
-//! an unreachable stretch across the boundary), the chunk is walked again on the calling
-//! thread from the real state. The calling thread hands the samples to the sinks in path
-//! order, numbered and timed as the single walk does; the sinks stay on that thread.
+//! ([`State::floor`], handed to the chunk's walker). A chunk starting inside a joint move
+//! begins the move from the joints guessed before it, and the move (its ends and samples) is
+//! compared too. Different (a winding or configuration the guess got wrong, an unreachable
+//! stretch across the boundary), the chunk is walked again on the calling thread from the
+//! real state. The calling thread hands the samples to the sinks in path order, numbered and
+//! timed as the single walk does; the sinks stay on that thread.
 //!
 //! The numerical follower is not chunked: its warm start carries more than this state.
 //! Memory: at most two chunks per thread are held, each of at most twice the chunk size; a
-//! longer one (joint moves, or straight lines too short to hold a boundary, between two
-//! boundaries) is abandoned by its worker and streamed by the calling thread instead.
+//! longer one (segments too short to hold a boundary, or a joint move with many more samples
+//! than the plan counted, between two boundaries) is abandoned by its worker and streamed by
+//! the calling thread instead.
 
 use super::super::{SampleRecord, SampleSink, StartChoice, WalkTotals};
 use super::grid::{guesses, Boundary, Guess, Pos, PRIME};
 use super::state::FLOOR_LAG;
 use super::{State, Walker};
 use crate::ik::analytic::{Config, OrthoParallel};
+use crate::job::Motion;
 use crate::plan::Plan;
 use crate::robot::{Joints, Robot};
 use nalgebra::Isometry3;
@@ -155,7 +159,20 @@ impl Carried {
             (Some(x), Some(y)) => same_record(x, y),
             _ => false,
         };
+        let same_move = match (&a.joint, &b.joint) {
+            (None, None) => true,
+            (Some(x), Some(y)) => {
+                x.seg == y.seg
+                    && x.steps == y.steps
+                    && same_joints(&x.q0, &y.q0)
+                    && same_joints(&x.q1, &y.q1)
+                    && same(x.end_errors.0, y.end_errors.0)
+                    && same(x.end_errors.1, y.end_errors.1)
+            }
+            _ => false,
+        };
         self.branch == other.branch
+            && same_move
             && a.grid_next == b.grid_next
             && a.unreachable_run == b.unreachable_run
             && a.prev_speed_valid == b.prev_speed_valid
@@ -277,14 +294,24 @@ impl Walker<'_> {
                 let mut state = State::resumed(g.q);
                 state.grid_next = c - 1;
                 self.follower.set_branch(g.config);
-                let prime_from = Pos {
-                    seg: b.pos.seg,
-                    step: b.pos.step - PRIME,
-                };
                 let mut discard = Keep {
                     records: None,
                     stop,
                     cap: 0,
+                };
+                let in_move = self
+                    .plan
+                    .segment(b.pos.seg)
+                    .filter(|s| s.motion == Motion::Joint);
+                if let Some(seg) = in_move {
+                    // Begin the move from the joints guessed before it; an end out of reach
+                    // (one sample for the move) leaves nothing to prime, and the chunk is
+                    // walked where the previous one ends.
+                    self.begin_joint_move(&seg, b.s0, &mut state, &mut discard);
+                }
+                let prime_from = Pos {
+                    seg: b.pos.seg,
+                    step: b.pos.step - PRIME,
                 };
                 self.walk_between(&mut state, prime_from, b.s0, Some(b.pos), &mut discard);
                 let entered = Carried {
@@ -361,8 +388,9 @@ pub fn walk_in_chunks(
     chunk: usize,
 ) -> WalkTotals {
     let grid = home.grid;
-    // A chunk holding more samples than this (joint moves, or straight lines too short for a
-    // boundary, between two boundaries) is walked on the calling thread instead.
+    // A chunk holding more samples than this (segments too short for a boundary, or a joint
+    // move longer than the plan counted, between two boundaries) is walked on the calling
+    // thread instead.
     let cap = 2 * chunk.max(1) + PRIME;
     if threads < 2 || grid.is_empty() || rayon::current_thread_index().is_some() {
         return home.walk(start, sink);

@@ -38,17 +38,16 @@ impl Pos {
 /// Where a chunk of the main walk begins.
 #[derive(Debug, Clone, Copy)]
 pub struct Boundary {
-    /// The chunk's first sample, on a straight-line segment, at least three samples
-    /// into it.
+    /// The chunk's first sample, at least three samples into its segment (four in a joint
+    /// move).
     pub pos: Pos,
     /// Path distance at the start of the sample's segment (m), summed as the walk sums it.
     pub s0: f64,
 }
 
-/// The chunk boundaries of `plan`: inside straight-line segments, the first where the samples
-/// since the last boundary (joint moves counted by the plan's estimate) reach `chunk`, then
-/// every `chunk` samples. A straight-line segment too short to hold the priming samples holds
-/// no boundary; so does a joint move.
+/// The chunk boundaries of `plan`: the first sample where the samples since the last boundary
+/// (joint moves counted by the plan's estimate) reach `chunk`, then every `chunk` samples. A
+/// segment too short to hold the priming samples holds no boundary.
 pub fn chunk_grid(plan: &Plan, chunk: usize) -> Vec<Boundary> {
     let chunk = chunk.max(1);
     let mut grid = Vec::new();
@@ -59,31 +58,35 @@ pub fn chunk_grid(plan: &Plan, chunk: usize) -> Vec<Boundary> {
         let Some(seg) = plan.segment(k) else {
             continue;
         };
-        if seg.motion == Motion::Linear {
-            let mut next = (chunk + 1).saturating_sub(since).max(PRIME + 1);
-            let mut last = None;
-            while next <= seg.steps {
-                grid.push(Boundary {
-                    pos: Pos { seg: k, step: next },
-                    s0,
-                });
-                last = Some(next);
-                next = next.saturating_add(chunk);
-            }
-            since = match last {
-                Some(b) => seg.steps - b + 1,
-                None => since.saturating_add(seg.steps),
-            };
-        } else {
-            since = since.saturating_add(seg.steps);
+        // A joint move's first priming sample must come after its first (which fixes the
+        // move): one sample later than on a straight line. Its plan steps are a lower bound
+        // of the samples the walk gives it, so every boundary is reached (unless its end is
+        // out of reach: then the walk passes the boundaries after its one sample).
+        let earliest = match seg.motion {
+            Motion::Linear => PRIME + 1,
+            Motion::Joint => PRIME + 2,
+        };
+        let mut next = (chunk + 1).saturating_sub(since).max(earliest);
+        let mut last = None;
+        while next <= seg.steps {
+            grid.push(Boundary {
+                pos: Pos { seg: k, step: next },
+                s0,
+            });
+            last = Some(next);
+            next = next.saturating_add(chunk);
         }
+        since = match last {
+            Some(b) => seg.steps - b + 1,
+            None => since.saturating_add(seg.steps),
+        };
         s0 += seg.length;
     }
     grid
 }
 
-/// A guessed state at a chunk's start: joints one sample before its priming samples, and
-/// the configuration followed there.
+/// A guessed state at a chunk's start: joints one sample before its priming samples (before
+/// the move, for a chunk starting inside a joint move), and the configuration followed there.
 #[derive(Debug, Clone, Copy)]
 pub(super) struct Guess {
     pub(super) q: Joints,
@@ -138,6 +141,14 @@ pub(super) fn guesses(
             }
             Motion::Linear => {}
             Motion::Joint => {
+                // A boundary inside a joint move starts from the joints before it: the chunk
+                // begins the move itself.
+                while w.grid.get(out.len()).is_some_and(|b| b.pos.seg == k) {
+                    out.push(Some(Guess {
+                        q,
+                        config: f.branch().unwrap_or(config),
+                    }));
+                }
                 let end = f.move_end(&seg.end, &q);
                 if end.reach == Reach::Reached {
                     q = end.q;
@@ -154,7 +165,7 @@ mod tests {
     use super::*;
 
     #[test]
-    fn boundaries_lie_inside_straight_lines_a_chunk_apart() {
+    fn boundaries_lie_a_chunk_apart_with_room_to_prime() {
         // source: common practice (the grid's own definition, counted sample by sample).
         let dir = std::path::Path::new(env!("CARGO_MANIFEST_DIR"));
         let job = crate::job::load(
@@ -167,14 +178,19 @@ mod tests {
             let grid = chunk_grid(&plan, chunk);
             assert!(!grid.is_empty(), "chunk {chunk}");
             // Walk every sample position in order, counting samples since the last boundary.
-            let (mut since, mut s0, mut b) = (1usize, 0.0f64, 0);
+            let (mut since, mut s0, mut b, mut in_moves) = (1usize, 0.0f64, 0, 0);
             for k in 0..plan.segment_count() {
                 let seg = plan.segment(k).unwrap();
                 for i in 1..=seg.steps {
                     let here = Pos { seg: k, step: i };
                     if grid.get(b).map(|g| g.pos) == Some(here) {
-                        assert_eq!(seg.motion, Motion::Linear, "chunk {chunk}");
-                        assert!(i > PRIME, "room for the priming samples");
+                        // Room for the priming samples (after a joint move's first sample).
+                        let room = match seg.motion {
+                            Motion::Linear => PRIME,
+                            Motion::Joint => PRIME + 1,
+                        };
+                        assert!(i > room, "chunk {chunk}: step {i}");
+                        in_moves += usize::from(seg.motion == Motion::Joint);
                         assert!(since >= chunk, "chunk {chunk}: {since} samples");
                         assert_eq!(grid[b].s0.to_bits(), s0.to_bits());
                         since = 0;
@@ -185,6 +201,13 @@ mod tests {
                 s0 += seg.length;
             }
             assert_eq!(b, grid.len(), "chunk {chunk}: every boundary met in order");
+            // The demo's approach is a joint move long enough to hold boundaries.
+            if chunk <= 5 {
+                assert!(
+                    in_moves > 0,
+                    "chunk {chunk}: boundaries inside the joint move"
+                );
+            }
         }
     }
 }

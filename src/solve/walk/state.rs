@@ -10,6 +10,21 @@ use crate::solve::SampleRecord;
 /// keeps at most this many chunks in flight.
 pub(super) const FLOOR_LAG: usize = 8;
 
+/// A joint move under way: what its samples are interpolated from, fixed at its start.
+#[derive(Debug, Clone, Copy)]
+pub(super) struct JointMove {
+    /// Segment index of the move.
+    pub(super) seg: usize,
+    /// Joints at the start and the end.
+    pub(super) q0: Joints,
+    pub(super) q1: Joints,
+    /// Residuals of the end's solve (position m, orientation rad).
+    pub(super) end_errors: (f64, f64),
+    /// Samples of the move and its shared profile.
+    pub(super) steps: usize,
+    pub(super) synced: crate::motion::SyncedMove,
+}
+
 /// What the walk keeps between samples.
 #[derive(Clone)]
 pub(super) struct State {
@@ -27,6 +42,8 @@ pub(super) struct State {
     pub(super) recent: [f64; FLOOR_LAG],
     /// `floor` was set for this chunk by the walk in chunks and is not folded at its start.
     pub(super) floor_given: bool,
+    /// The joint move under way, between its first and last samples.
+    pub(super) joint: Option<JointMove>,
     pub(super) index: usize,
     pub(super) s: f64,
     pub(super) t: f64,
@@ -65,6 +82,7 @@ impl State {
             floor: f64::INFINITY,
             recent: [f64::INFINITY; FLOOR_LAG],
             floor_given: false,
+            joint: None,
         }
     }
 
