@@ -218,17 +218,9 @@ impl<'a> Walker<'a> {
             0.0
         };
         for i in first..=steps {
-            if sink.done() {
-                return false;
+            if let Some(stopped) = self.before_sample(seg.index, i, until, state, sink) {
+                return stopped;
             }
-            let here = Pos {
-                seg: seg.index,
-                step: i,
-            };
-            if until == Some(here) {
-                return true;
-            }
-            self.boundary_at(here, state);
             let u = i as f64 / steps as f64;
             let t_now = timing.time_at(u);
             let target = seg.run_pose_at(u);
@@ -288,13 +280,30 @@ impl<'a> Walker<'a> {
         solved
     }
 
-    /// At sample `here`: enter the chunk that begins there, if one does.
-    fn boundary_at(&self, here: Pos, state: &mut State) {
+    /// Before sample `step` of segment `seg`: `Some(false)` when the sink wants no more,
+    /// `Some(true)` when the sample is `until` (the walk stops before it); otherwise enter
+    /// the chunk that begins there, if one does, and go on (`None`).
+    fn before_sample(
+        &self,
+        seg: usize,
+        step: usize,
+        until: Option<Pos>,
+        state: &mut State,
+        sink: &dyn SampleSink,
+    ) -> Option<bool> {
+        if sink.done() {
+            return Some(false);
+        }
+        let here = Pos { seg, step };
+        if until == Some(here) {
+            return Some(true);
+        }
         if self.grid.get(state.grid_next).map(|b| b.pos) == Some(here) {
             // Boundary b begins chunk b + 1.
             state.enter_chunk(state.grid_next + 1);
             state.grid_next += 1;
         }
+        None
     }
 
     fn emit(&mut self, state: &mut State, sink: &mut dyn SampleSink, a: EmitArgs) {

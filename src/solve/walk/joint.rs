@@ -156,17 +156,9 @@ impl Walker<'_> {
             0.0
         };
         for i in first..=steps {
-            if sink.done() {
-                return false;
+            if let Some(stopped) = self.before_sample(seg.index, i, until, state, sink) {
+                return stopped;
             }
-            let here = Pos {
-                seg: seg.index,
-                step: i,
-            };
-            if until == Some(here) {
-                return true;
-            }
-            self.boundary_at(here, state);
             let u = i as f64 / steps as f64;
             let t_now = m.synced.ramp.t_at(u);
             let dt = t_now - t_prev;
