@@ -63,8 +63,10 @@ pub struct SampleRecord {
     /// Tool angular speed since the previous sample (rad/s).
     pub tool_angular_speed: f64,
     /// Singularity measure (see [`crate::robot::SingularityModel::measure`]), exact wherever
-    /// it matters: below the warning threshold and at every new smallest value of the walk.
-    /// Elsewhere it may be a proven lower bound of the measure that is above both
+    /// it matters: below the warning threshold and wherever it could be the path's smallest
+    /// (at or below a measure another sample of the path has: the smallest so far in the
+    /// chunk, or the walk's lagging floor). Elsewhere it may be a proven lower bound of the
+    /// measure that is above both
     /// ([`crate::robot::SingularityScreen`]), so a plot of it is exact where it is low and
     /// never above the truth. 1 in the light walks of the configuration table.
     pub singularity: f64,

@@ -38,15 +38,10 @@ use std::panic::{catch_unwind, AssertUnwindSafe};
 use std::sync::atomic::{AtomicBool, Ordering};
 use std::sync::mpsc;
 
-/// What each chunk's walker is made of: the main walker's settings on the closed form.
+/// What each chunk's walker is made of: the main walker's settings (a [`Walker`] without its
+/// follower and jump test, which each walker makes for itself) and the closed form it
+/// follows.
 struct Parts<'a> {
-    walker: WalkerParts<'a>,
-    solver: &'a OrthoParallel,
-}
-
-/// A [`Walker`] without its follower and jump test (which each walker makes for itself).
-#[derive(Clone)]
-struct WalkerParts<'a> {
     robot: &'a Robot,
     job: &'a crate::job::Job,
     plan: &'a Plan,
@@ -56,6 +51,7 @@ struct WalkerParts<'a> {
     reach_centre: nalgebra::Vector3<f64>,
     reach_radius: f64,
     grid: &'a [Boundary],
+    solver: &'a OrthoParallel,
 }
 
 impl<'a> Walker<'a> {
@@ -63,17 +59,15 @@ impl<'a> Walker<'a> {
     /// `solver` ([`walk_in_chunks`]).
     fn parts(&self, solver: &'a OrthoParallel) -> Parts<'a> {
         Parts {
-            walker: WalkerParts {
-                robot: self.robot,
-                job: self.job,
-                plan: self.plan,
-                model: self.model.clone(),
-                options: self.options,
-                class_below: self.class_below,
-                reach_centre: self.reach_centre,
-                reach_radius: self.reach_radius,
-                grid: self.grid,
-            },
+            robot: self.robot,
+            job: self.job,
+            plan: self.plan,
+            model: self.model.clone(),
+            options: self.options,
+            class_below: self.class_below,
+            reach_centre: self.reach_centre,
+            reach_radius: self.reach_radius,
+            grid: self.grid,
             solver,
         }
     }
@@ -82,20 +76,19 @@ impl<'a> Walker<'a> {
 impl<'a> Parts<'a> {
     /// A walker like the main one, following configuration `config`.
     fn walker(&self, config: Config) -> Walker<'a> {
-        let w = self.walker.clone();
         Walker {
-            robot: w.robot,
-            job: w.job,
-            plan: w.plan,
-            model: w.model,
-            options: w.options,
-            jump: super::JumpTest::new(w.robot, w.options),
-            follower: Box::new(super::NumericContinuity::new(w.robot, w.options)),
+            robot: self.robot,
+            job: self.job,
+            plan: self.plan,
+            model: self.model.clone(),
+            options: self.options,
+            jump: super::JumpTest::new(self.robot, self.options),
+            follower: Box::new(super::NumericContinuity::new(self.robot, self.options)),
             light: false,
-            class_below: w.class_below,
-            reach_centre: w.reach_centre,
-            reach_radius: w.reach_radius,
-            grid: w.grid,
+            class_below: self.class_below,
+            reach_centre: self.reach_centre,
+            reach_radius: self.reach_radius,
+            grid: self.grid,
             closed: None,
         }
         .with_closed_form(self.solver, config)
@@ -398,7 +391,7 @@ pub fn walk_in_chunks(
     let parts = &home.parts(solver);
     let n = grid.len() + 1;
     let guessed = guesses(&home, solver, start, config);
-    sink.begin(parts.walker.robot, parts.walker.plan.estimated_samples);
+    sink.begin(parts.robot, parts.plan.estimated_samples);
     let mut out = Renumber {
         sink,
         index: 0,
@@ -420,7 +413,7 @@ pub fn walk_in_chunks(
     let mut arrived: Vec<Option<Done>> = (0..window).map(|_| None).collect();
     let mut launched = vec![false; window];
     let mut spare: Vec<Vec<SampleRecord>> = Vec::new();
-    let robot = parts.walker.robot;
+    let robot = parts.robot;
     rayon::in_place_scope(|scope| {
         let spawn = |c: usize, mut records: Vec<SampleRecord>, floors: &[f64]| -> bool {
             let from = match c {
@@ -554,28 +547,8 @@ mod tests {
             stop: &stop,
             cap: 3,
         };
-        let q = Joints::zeros(6);
-        let rec = SampleRecord {
-            index: 0,
-            segment: 0,
-            waypoint: None,
-            motion: crate::job::Motion::Joint,
-            s: 0.0,
-            t: 0.0,
-            dt: 0.0,
-            target: Isometry3::identity(),
-            reach: crate::solve::Reach::Reached,
-            position_error: 0.0,
-            orientation_error: 0.0,
-            joints: q,
-            joint_speed: q,
-            joint_acceleration: q,
-            tcp_speed: 0.0,
-            tool_angular_speed: 0.0,
-            singularity: 1.0,
-            singularity_class: None,
-            jump: None,
-        };
+        let rec =
+            super::super::lanes::light_record(Joints::zeros(6), Isometry3::identity(), 0.0, 0.0);
         for k in 0..10 {
             assert_eq!(keep.done(), k > 3, "after {k} samples");
             keep.sample(&robot, &rec);

@@ -205,7 +205,7 @@ impl Walker<'_> {
 }
 
 /// A sample as the jump test reads it: joints, target and residuals; the rest is unused.
-fn light_record(
+pub(super) fn light_record(
     joints: Joints,
     target: Isometry3<f64>,
     position_error: f64,
